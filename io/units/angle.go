@@ -126,28 +126,24 @@ func ParseAngle(quantity, s string, u AngleUnit) (s1.Angle, error) {
 // face-right reading (over 180°) must be reduced to face left first; it is
 // refused here rather than silently folded.
 func ParseZenithAngle(s string, u AngleUnit) (s1.Angle, error) {
-	const quantity = "zenith angle"
-	v, err := unitValue(quantity, s, u)
-	if err != nil {
-		return 0, err
-	}
-	if v < 0 || v > u.halfTurn() {
-		return 0, &RangeError{Quantity: quantity, Value: strings.TrimSpace(s), Unit: u.rangeUnit(), Min: 0, Max: u.halfTurn()}
-	}
-	per, _ := u.perUnit()
-	return s1.Angle(v) * per, nil
+	return parseInRange("zenith angle", s, u, u.halfTurn(), false)
 }
 
 // ParseDirection reads a horizontal direction or azimuth written in unit u
 // and checks that it lies in [0, full turn).
 func ParseDirection(s string, u AngleUnit) (s1.Angle, error) {
-	const quantity = "direction"
+	return parseInRange("direction", s, u, 2*u.halfTurn(), true)
+}
+
+// parseInRange reads an angle in unit u and checks it against [0, max] (or
+// [0, max) when maxOpen) in the unit's own numbers.
+func parseInRange(quantity, s string, u AngleUnit, max float64, maxOpen bool) (s1.Angle, error) {
 	v, err := unitValue(quantity, s, u)
 	if err != nil {
 		return 0, err
 	}
-	if v < 0 || v >= 2*u.halfTurn() {
-		return 0, &RangeError{Quantity: quantity, Value: strings.TrimSpace(s), Unit: u.rangeUnit(), Min: 0, Max: 2 * u.halfTurn(), MaxOpen: true}
+	if v < 0 || v > max || (maxOpen && v == max) {
+		return 0, &RangeError{Quantity: quantity, Value: strings.TrimSpace(s), Unit: u.rangeUnit(), Min: 0, Max: max, MaxOpen: maxOpen}
 	}
 	per, _ := u.perUnit()
 	return s1.Angle(v) * per, nil
