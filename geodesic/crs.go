@@ -37,7 +37,7 @@ func OpenCRS(definition string) (*CRS, error) {
 	}
 	info, err := inspectCRS(def)
 	if err != nil {
-		return nil, fmt.Errorf("CRS %q: %v (want EPSG:nnnn known to proj.db, or a valid PROJ string or WKT)", definition, err)
+		return nil, fmt.Errorf("CRS %q: %v (want EPSG:nnnn of a projected CRS known to proj.db, or a PROJ string or WKT of one)", definition, err)
 	}
 	switch info.horizontalKind {
 	case kindProjected:

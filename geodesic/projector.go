@@ -178,6 +178,10 @@ type Factors struct {
 	// arc-to-chord correction). East of the central meridian of a northern
 	// Transverse Mercator zone γ is positive, about Δλ sin φ.
 	Convergence s1.Angle
+	// Conformal is the CRS's Conformal: the projection method is conformal,
+	// so h = k and θ′ = π/2 up to PROJ's numerical differentiation (about
+	// 1e-8 in θ′).
+	Conformal bool
 }
 
 // ScaleInAzimuth is the scale factor of an infinitesimal line in geodetic
@@ -187,9 +191,13 @@ type Factors struct {
 //
 // (Snyder 1987, ch. 4; the map images of a unit north step, length h, and
 // a unit east step, length k, meet at θ′). On a conformal projection it is
-// the point scale factor whatever az.
+// the point scale factor k whatever az; there the formula would only add
+// the noise of PROJ's numerical θ′ (1e-8), so k is returned as it is.
 func (f Factors) ScaleInAzimuth(az s1.Angle) float64 {
 	h, k := f.MeridianScale, f.ParallelScale
+	if f.Conformal {
+		return k
+	}
 	c, s := math.Cos(float64(az)), math.Sin(float64(az))
 	return math.Sqrt(h*h*c*c + 2*h*k*math.Cos(float64(f.MeridianParallelAngle))*s*c + k*k*s*s)
 }
@@ -214,6 +222,7 @@ func (p *Projector) Factors(ll s2.LatLng) (Factors, error) {
 		AngularDistortion:     s1.Angle(f.angularDistortion),
 		MeridianParallelAngle: s1.Angle(f.meridianParallelAngle),
 		Convergence:           s1.Angle(f.meridianConvergence),
+		Conformal:             p.crs.conformal,
 	}, nil
 }
 
