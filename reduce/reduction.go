@@ -1,0 +1,88 @@
+package reduce
+
+import "github.com/golang/geo/s1"
+
+// Observation is one observed slope distance, as read from a file and
+// converted to metres and radians.
+type Observation struct {
+	SlopeDistance    float64     // raw slope distance as stored, metres
+	Zenith           s1.Angle    // observed zenith angle (needed on the zenith route)
+	InstrumentHeight float64     // HI, metres
+	TargetHeight     float64     // HT, metres
+	PrismConstant    float64     // of the target used, metres
+	Meteorology      Meteorology // what the row recorded of the air
+}
+
+// Job is the per-job configuration of the chain.
+type Job struct {
+	Instrument        Instrument
+	Field             FieldSettings // what the field instrument already applied
+	Carrier           Carrier
+	DefaultAtmosphere Atmosphere // used where a row recorded none
+	K                 float64    // coefficient of refraction, e.g. 0.13
+	Budget            Budget
+	Test              Test
+}
+
+// Reduction keeps every stage of the reduction of one observation.
+type Reduction struct {
+	Instrument        InstrumentResult
+	FirstVelocity     FirstVelocityResult
+	SecondVelocity    SecondVelocityResult
+	Heights           LineHeights
+	Geometry          GeometryResult
+	Grid              GridResult
+	Uncertainty       UncertaintyResult
+	EllipsoidResidual ResidualResult // Geometry.Arc against Line.Inverse.Distance
+	GridResidual      ResidualResult // Grid.GridDistance against Line.GridDistance
+}
+
+// Reduce runs the whole chain for one observation on a prepared line, with
+// the marks' heights at its ends. If mark B's height is unknown (the zero
+// MarkHeight) the zenith route is taken and the target mark's height is
+// derived from the zenith angle; the mean mark height for the elevation
+// factor then uses that derived height.
+//
+// The residuals compare with the control on the ellipsoid; on
+// DatumSeaLevel they show the legacy reduction's departure from it.
+func Reduce(obs Observation, job Job, line Line, markA, markB MarkHeight) (Reduction, error) {
+	var r Reduction
+	var err error
+	if r.Instrument, err = InstrumentCorrection(obs.SlopeDistance, job.Instrument, obs.PrismConstant, job.Field); err != nil {
+		return Reduction{}, err
+	}
+	atm, src := ChooseAtmosphere(obs.Meteorology, job.DefaultAtmosphere)
+	if r.FirstVelocity, err = FirstVelocityCorrection(r.Instrument.Distance, job.Carrier, atm, src); err != nil {
+		return Reduction{}, err
+	}
+	if r.SecondVelocity, err = SecondVelocityCorrection(r.FirstVelocity.Distance, job.K, line.Radius); err != nil {
+		return Reduction{}, err
+	}
+	if r.Heights, err = NewLineHeights(markA, markB, obs.InstrumentHeight, obs.TargetHeight); err != nil {
+		return Reduction{}, err
+	}
+	s3 := r.SecondVelocity.Distance
+	if markB.Known() {
+		r.Geometry, err = EllipsoidDistance(s3, r.Heights.HeightA, r.Heights.HeightB, line.Radius)
+	} else {
+		r.Geometry, err = EllipsoidDistanceFromZenith(s3, obs.Zenith, r.Heights.HeightA, job.K, line.Radius)
+		r.Heights.HeightB = r.Geometry.HeightB
+		r.Heights.MeanMarkHeight = (markA.Height + r.Geometry.HeightB - obs.TargetHeight) / 2
+	}
+	if err != nil {
+		return Reduction{}, err
+	}
+	if r.Grid, err = GridDistance(r.Geometry.Arc, line.Scale, r.Heights.MeanMarkHeight, line.Radius); err != nil {
+		return Reduction{}, err
+	}
+	if r.Uncertainty, err = DistanceUncertainty(job.Budget, r.Geometry); err != nil {
+		return Reduction{}, err
+	}
+	if r.EllipsoidResidual, err = CompareDistance(r.Geometry.Arc, line.Inverse.Distance, r.Uncertainty.Total, job.Test); err != nil {
+		return Reduction{}, err
+	}
+	if r.GridResidual, err = CompareDistance(r.Grid.GridDistance, line.GridDistance, r.Uncertainty.Total*r.Grid.LineScale, job.Test); err != nil {
+		return Reduction{}, err
+	}
+	return r, nil
+}
