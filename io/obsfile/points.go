@@ -1,0 +1,208 @@
+package obsfile
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"math"
+
+	"github.com/golang/geo/s1"
+	"github.com/golang/geo/s2"
+
+	"github.com/geored/geored/io/units"
+)
+
+// A Point is one control point of the points file. Lengths are metres.
+type Point struct {
+	ID   string
+	Line int // line in the points file
+
+	// LatLng is the geodetic position on the job CRS's datum, when the
+	// file gives lat and lon.
+	LatLng    s2.LatLng
+	HasLatLng bool
+	// Easting and Northing are the grid position in metres, when the file
+	// gives easting and northing (in the CRS's unit, converted here).
+	Easting, Northing float64
+	HasGrid           bool
+
+	// EllipsoidHeight h, Elevation H (orthometric) and GeoidSeparation N,
+	// each where the file gives it.
+	EllipsoidHeight    float64
+	HasEllipsoidHeight bool
+	Elevation          float64
+	HasElevation       bool
+	GeoidSeparation    float64
+	HasGeoidSeparation bool
+}
+
+// PointOptions say the units of the points file.
+type PointOptions struct {
+	// GridUnit is the unit of easting and northing: the CRS's own unit.
+	GridUnit units.LengthUnit
+	// HeightUnit is the unit of ellipsoid_height, elevation and
+	// geoid_separation: the job's length unit.
+	HeightUnit units.LengthUnit
+	// LatLonUnit is the angle unit of lat and lon (units.Degrees if zero).
+	LatLonUnit units.AngleUnit
+}
+
+// Point file columns.
+var pointColumns = []string{"id", "lat", "lon", "ellipsoid_height", "easting", "northing", "elevation", "geoid_separation"}
+
+// maxErrors bounds how many bad rows ReadPoints reports before it stops.
+const maxErrors = 50
+
+// ReadPoints reads a points file: a column id and, per row, either lat and
+// lon (with ellipsoid_height) or easting and northing (with elevation);
+// geoid_separation is optional. Heights may be left blank where unknown. It
+// reports every bad row (up to 50) in one joined error, and refuses
+// repeated ids.
+func ReadPoints(r io.Reader, file string, opt PointOptions) ([]Point, []Warning, error) {
+	if opt.LatLonUnit == 0 {
+		opt.LatLonUnit = units.Degrees
+	}
+	t, warnings, err := openTable(r, file, pointColumns)
+	if err != nil {
+		return nil, nil, err
+	}
+	if err := t.require("id"); err != nil {
+		return nil, warnings, err
+	}
+	geo, grid := t.has("lat") && t.has("lon"), t.has("easting") && t.has("northing")
+	if !geo && !grid {
+		return nil, warnings, &HeaderError{File: file, Line: t.line, Reason: "want columns lat and lon, or easting and northing"}
+	}
+	var (
+		pts  []Point
+		errs []error
+		seen = map[string]int{}
+	)
+	for {
+		err := t.next()
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		if err == nil {
+			var p Point
+			p, err = t.point(opt, geo, grid)
+			if err == nil {
+				if first, dup := seen[p.ID]; dup {
+					err = t.fieldError("id", fmt.Sprintf("a unique id; %q is already on line %d", p.ID, first), nil)
+				} else {
+					seen[p.ID] = p.Line
+					pts = append(pts, p)
+				}
+			}
+		}
+		if err != nil {
+			var fe *FieldError
+			if !errors.As(err, &fe) { // not a row error: the file cannot be read on
+				return nil, warnings, err
+			}
+			if errs = append(errs, err); len(errs) == maxErrors {
+				errs = append(errs, fmt.Errorf("%s: stopped after %d errors", file, maxErrors))
+				break
+			}
+		}
+	}
+	if len(errs) > 0 {
+		return nil, warnings, errors.Join(errs...)
+	}
+	if len(pts) == 0 {
+		return nil, warnings, &HeaderError{File: file, Line: t.line, Reason: "no points after the header"}
+	}
+	return pts, warnings, nil
+}
+
+func (t *table) point(opt PointOptions, geo, grid bool) (Point, error) {
+	p := Point{ID: t.get("id"), Line: t.line}
+	if p.ID == "" {
+		return p, t.fieldError("id", "a point id", nil)
+	}
+	var err error
+	if geo && (t.get("lat") != "" || t.get("lon") != "") {
+		var lat, lon s1.Angle
+		if lat, err = t.angle("lat", opt.LatLonUnit, -90, 90); err != nil {
+			return p, err
+		}
+		if lon, err = t.angle("lon", opt.LatLonUnit, -180, 360); err != nil {
+			return p, err
+		}
+		p.LatLng, p.HasLatLng = s2.LatLng{Lat: lat, Lng: lon}.Normalized(), true
+	}
+	if grid && (t.get("easting") != "" || t.get("northing") != "") {
+		if p.Easting, err = t.length("easting", opt.GridUnit, false); err != nil {
+			return p, err
+		}
+		if p.Northing, err = t.length("northing", opt.GridUnit, false); err != nil {
+			return p, err
+		}
+		p.HasGrid = true
+	}
+	if !p.HasLatLng && !p.HasGrid {
+		return p, &FieldError{File: t.file, Line: t.line, Want: fmt.Sprintf("point %q: lat and lon, or easting and northing", p.ID)}
+	}
+	if p.EllipsoidHeight, p.HasEllipsoidHeight, err = t.optionalLength("ellipsoid_height", opt.HeightUnit); err != nil {
+		return p, err
+	}
+	if p.Elevation, p.HasElevation, err = t.optionalLength("elevation", opt.HeightUnit); err != nil {
+		return p, err
+	}
+	if p.GeoidSeparation, p.HasGeoidSeparation, err = t.optionalLength("geoid_separation", opt.HeightUnit); err != nil {
+		return p, err
+	}
+	return p, nil
+}
+
+// angle parses a required angle column and checks it lies in [lo, hi]
+// degrees.
+func (t *table) angle(name string, u units.AngleUnit, lo, hi float64) (s1.Angle, error) {
+	v := t.get(name)
+	if v == "" {
+		return 0, t.fieldError(name, fmt.Sprintf("an angle in %s", u), nil)
+	}
+	a, err := units.ParseAngle(name, v, u)
+	if err != nil {
+		return 0, t.fieldError(name, fmt.Sprintf("an angle in %s", u), err)
+	}
+	if d := a.Degrees(); d < lo || d > hi {
+		return 0, t.fieldError(name, fmt.Sprintf("a value in %g..%g degrees", lo, hi), nil)
+	}
+	return a, nil
+}
+
+// length parses a required length column to metres.
+func (t *table) length(name string, u units.LengthUnit, positive bool) (float64, error) {
+	v := t.get(name)
+	want := fmt.Sprintf("a length in %s", u)
+	if positive {
+		want = fmt.Sprintf("a positive length in %s", u)
+	}
+	if v == "" {
+		return 0, t.fieldError(name, want, nil)
+	}
+	m, err := units.ParseLength(name, v, u)
+	if err != nil {
+		return 0, t.fieldError(name, want, err)
+	}
+	if positive && !(m > 0) {
+		return 0, t.fieldError(name, want, nil)
+	}
+	return m, nil
+}
+
+// optionalLength parses a length column that may be absent or blank.
+func (t *table) optionalLength(name string, u units.LengthUnit) (float64, bool, error) {
+	if t.get(name) == "" {
+		return 0, false, nil
+	}
+	m, err := t.length(name, u, false)
+	if err != nil {
+		return 0, false, err
+	}
+	if math.Abs(m) > 1e5 {
+		return 0, false, t.fieldError(name, "a height within ±100 km", nil)
+	}
+	return m, true, nil
+}
