@@ -37,9 +37,8 @@ type Meteorology struct {
 // ChooseAtmosphere returns the atmosphere to use for one observation: the
 // mean of both ends' temperature, pressure and humidity where both were
 // recorded, the one end where one was, else the job default; and says which.
-// Averaging the inputs rather than the two refractivities differs by under
-// 0.001 ppm for end differences of 10 K and 50 hPa, as N_L is nearly linear
-// in them.
+// Where both ends are known, FirstVelocityCorrection also uses the ends
+// themselves (Simpson's rule along the line).
 func ChooseAtmosphere(m Meteorology, jobDefault Atmosphere) (Atmosphere, AtmosphereSource) {
 	switch {
 	case m.HaveInstrument && m.HaveTarget:
@@ -61,7 +60,8 @@ type FirstVelocityResult struct {
 	Input        float64          // S1, metres
 	Atmosphere   Atmosphere       // the atmosphere used
 	Source       AtmosphereSource // where it came from
-	Refractivity Refractivity     // Ng, e and N_L
+	Refractivity Refractivity     // Ng, e and N_L of Atmosphere
+	Line         float64          // N_L used: mean along the line (Simpson) or Refractivity.Ambient
 	Reference    float64          // N_ref of the instrument
 	PPM          float64          // N_ref − N_L, the correction in ppm as reported
 	Correction   float64          // Distance − Input, metres
@@ -74,29 +74,51 @@ type FirstVelocityResult struct {
 //
 //	S2 = S1 · n_ref / n_L,  n = 1 + N·1e-6
 //
-// with N_L by AmbientGroupRefractivity. The common linear form
-// S1 (1 + (N_ref − N_L)·1e-6) differs from it by about
-// S1 (N_ref − N_L) N_L 1e-12: 0.1 mm on 9 km at 40 ppm. PPM reports
-// N_ref − N_L, the number surveyors compare with an instrument's setting.
-func FirstVelocityCorrection(s1 float64, c Carrier, a Atmosphere, source AtmosphereSource) (FirstVelocityResult, error) {
+// with N_L by AmbientGroupRefractivity for the atmosphere ChooseAtmosphere
+// picks from the row and the job default. Where both ends were recorded,
+// N_L is the mean along the line by Simpson's rule,
+// (N_A + 4 N_mid + N_B)/6 with N_mid of the mean atmosphere, exact for
+// temperature, pressure and humidity varying linearly along the line; the
+// mean of the two end values alone is off by 0.1 ppm for ends 10 K and
+// 20 hPa apart, N at the mean atmosphere alone by half that.
+//
+// The common linear form S1 (1 + (N_ref − N_L)·1e-6) differs from the exact
+// one by about S1 (N_ref − N_L) N_L 1e-12: 0.1 mm on 9 km at 40 ppm. PPM
+// reports N_ref − N_L, the number surveyors compare with an instrument's
+// setting.
+func FirstVelocityCorrection(s1 float64, c Carrier, m Meteorology, jobDefault Atmosphere) (FirstVelocityResult, error) {
 	if err := needPositive("atmosphere", "slope distance", s1, "m"); err != nil {
 		return FirstVelocityResult{}, err
 	}
 	if err := needRange("atmosphere", "reference refractivity", c.ReferenceRefractivity, "ppm", 0, 1000); err != nil {
 		return FirstVelocityResult{}, err
 	}
+	a, source := ChooseAtmosphere(m, jobDefault)
 	r, err := AmbientGroupRefractivity(c.WavelengthUM, a)
 	if err != nil {
 		return FirstVelocityResult{}, err
 	}
-	d := s1 * (1 + c.ReferenceRefractivity*1e-6) / (1 + r.Ambient*1e-6)
+	line := r.Ambient
+	if source == AtmosphereBothEnds {
+		ra, err := AmbientGroupRefractivity(c.WavelengthUM, m.Instrument)
+		if err != nil {
+			return FirstVelocityResult{}, err
+		}
+		rb, err := AmbientGroupRefractivity(c.WavelengthUM, m.Target)
+		if err != nil {
+			return FirstVelocityResult{}, err
+		}
+		line = (ra.Ambient + 4*r.Ambient + rb.Ambient) / 6
+	}
+	d := s1 * (1 + c.ReferenceRefractivity*1e-6) / (1 + line*1e-6)
 	return FirstVelocityResult{
 		Input:        s1,
 		Atmosphere:   a,
 		Source:       source,
 		Refractivity: r,
+		Line:         line,
 		Reference:    c.ReferenceRefractivity,
-		PPM:          c.ReferenceRefractivity - r.Ambient,
+		PPM:          c.ReferenceRefractivity - line,
 		Correction:   d - s1,
 		Distance:     d,
 	}, nil

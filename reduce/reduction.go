@@ -51,8 +51,7 @@ func Reduce(obs Observation, job Job, line Line, markA, markB MarkHeight) (Reduc
 	if r.Instrument, err = InstrumentCorrection(obs.SlopeDistance, job.Instrument, obs.PrismConstant, job.Field); err != nil {
 		return Reduction{}, err
 	}
-	atm, src := ChooseAtmosphere(obs.Meteorology, job.DefaultAtmosphere)
-	if r.FirstVelocity, err = FirstVelocityCorrection(r.Instrument.Distance, job.Carrier, atm, src); err != nil {
+	if r.FirstVelocity, err = FirstVelocityCorrection(r.Instrument.Distance, job.Carrier, obs.Meteorology, job.DefaultAtmosphere); err != nil {
 		return Reduction{}, err
 	}
 	if r.SecondVelocity, err = SecondVelocityCorrection(r.FirstVelocity.Distance, job.K, line.Radius); err != nil {

@@ -1,0 +1,141 @@
+package job
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/golang/geo/s2"
+
+	"github.com/geored/geored/geodesic"
+	"github.com/geored/geored/io/obsfile"
+)
+
+// HeightSource says how a control point's ellipsoidal height was found.
+type HeightSource int
+
+// Height sources. The zero value is a point without a height.
+const (
+	HeightUnknown       HeightSource = iota
+	HeightGiven                      // ellipsoid_height in the points file
+	HeightFromPointN                 // elevation + geoid_separation of the points file
+	HeightFromGeoidGrid              // elevation + N from the geoid grid
+	HeightFromConstantN              // elevation + the job's constant N
+)
+
+func (s HeightSource) String() string {
+	switch s {
+	case HeightGiven:
+		return "ellipsoidal height given"
+	case HeightFromPointN:
+		return "H + N (N given for the point)"
+	case HeightFromGeoidGrid:
+		return "H + N (N from the geoid grid)"
+	case HeightFromConstantN:
+		return "H + N (N a job constant)"
+	}
+	return "unknown"
+}
+
+// A Control is a control point with both its positions and its heights,
+// in metres.
+type Control struct {
+	ID     string
+	Line   int // line in the points file
+	LatLng s2.LatLng
+	Grid   geodesic.GridPoint
+
+	// Ellipsoidal height h, orthometric height H and geoid separation N;
+	// HasOrthometric and HasSeparation say whether H and N are known.
+	Ellipsoidal    float64
+	HeightSource   HeightSource
+	Orthometric    float64
+	HasOrthometric bool
+	Separation     float64
+	HasSeparation  bool
+}
+
+// HasHeight reports whether the ellipsoidal height is known.
+func (c Control) HasHeight() bool { return c.HeightSource != HeightUnknown }
+
+// Separations says where the geoid separation N comes from when a point
+// gives its elevation H without N: a geoid grid, or else one constant.
+type Separations struct {
+	Grid        *geodesic.Geoid // may be nil
+	Constant    float64
+	HasConstant bool
+}
+
+// ResolveControl completes each point: the geodetic position from the grid
+// one or the other way round, and h = H + N. A point that gives both
+// positions must agree with itself to 1 mm on the grid; the error says by
+// how much it does not.
+func ResolveControl(points []obsfile.Point, file string, p *geodesic.Projector, seps Separations) (map[string]Control, error) {
+	out := make(map[string]Control, len(points))
+	for _, pt := range points {
+		c, err := resolve(pt, p, seps)
+		if err != nil {
+			return nil, fmt.Errorf("%s:%d: point %q: %w", file, pt.Line, pt.ID, err)
+		}
+		out[pt.ID] = c
+	}
+	return out, nil
+}
+
+// gridAgreement is how far a point's given grid coordinates may lie from
+// the projection of its given geodetic position, in metres.
+const gridAgreement = 1e-3
+
+func resolve(pt obsfile.Point, p *geodesic.Projector, seps Separations) (Control, error) {
+	c := Control{ID: pt.ID, Line: pt.Line}
+	var err error
+	switch {
+	case pt.HasLatLng:
+		c.LatLng = pt.LatLng
+		if c.Grid, err = p.Forward(pt.LatLng); err != nil {
+			return c, err
+		}
+		if pt.HasGrid {
+			d := math.Hypot(c.Grid.Easting-pt.Easting, c.Grid.Northing-pt.Northing)
+			if d > gridAgreement {
+				return c, fmt.Errorf("lat/lon and easting/northing disagree by %.4f m on the grid (want at most %.3f m)", d, gridAgreement)
+			}
+		}
+	default:
+		c.Grid = geodesic.GridPoint{Easting: pt.Easting, Northing: pt.Northing}
+		if c.LatLng, err = p.Inverse(c.Grid); err != nil {
+			return c, err
+		}
+	}
+	if pt.HasElevation {
+		c.Orthometric, c.HasOrthometric = pt.Elevation, true
+	}
+	switch {
+	case pt.HasGeoidSeparation:
+		c.Separation, c.HasSeparation = pt.GeoidSeparation, true
+	case seps.Grid != nil && (pt.HasElevation || pt.HasEllipsoidHeight):
+		if c.Separation, err = seps.Grid.Separation(c.LatLng); err != nil {
+			return c, err
+		}
+		c.HasSeparation = true
+	case seps.HasConstant:
+		c.Separation, c.HasSeparation = seps.Constant, true
+	}
+	switch {
+	case pt.HasEllipsoidHeight:
+		c.Ellipsoidal, c.HeightSource = pt.EllipsoidHeight, HeightGiven
+		if !c.HasOrthometric && c.HasSeparation {
+			c.Orthometric, c.HasOrthometric = c.Ellipsoidal-c.Separation, true
+		}
+	case pt.HasElevation && c.HasSeparation:
+		c.Ellipsoidal = pt.Elevation + c.Separation
+		switch {
+		case pt.HasGeoidSeparation:
+			c.HeightSource = HeightFromPointN
+		case seps.Grid != nil:
+			c.HeightSource = HeightFromGeoidGrid
+		default:
+			c.HeightSource = HeightFromConstantN
+		}
+	}
+	return c, nil
+}
