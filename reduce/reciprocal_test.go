@@ -20,8 +20,10 @@ func TestReciprocalRecoversExactSphereLines(t *testing.T) {
 		r, err := Reciprocal(l.slope(), z12, z21, l.hA, l.R)
 		require.NoErrorf(t, err, "line %+v", l)
 		assert.InDeltaf(t, l.hB-l.hA, r.HeightDifference, 0.01*mm, "Δh of %+v (m)", l)
-		// k is known to the angle's digits: 1e-16 rad over δ ≈ kS/2R
-		assert.InDeltaf(t, l.k, r.K, 1e-15*2*l.R/l.slope()*10, "k of %+v", l)
+		// k is known to the angles' digits: k = 2R sin δ/(S sin ζ), and
+		// S sin ζ is about the horizontal distance s, so an error of a few
+		// 1e-16 rad in δ is 2R/s times that in k.
+		assert.InDeltaf(t, l.k, r.K, 4e-15*2*l.R/l.s, "k of %+v", l)
 		if t.Failed() {
 			return
 		}
