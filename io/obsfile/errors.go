@@ -37,7 +37,9 @@ type HeaderError struct {
 	Reason string
 }
 
-func (e *HeaderError) Error() string { return fmt.Sprintf("%s:%d: header: %s", e.File, e.Line, e.Reason) }
+func (e *HeaderError) Error() string {
+	return fmt.Sprintf("%s:%d: header: %s", e.File, e.Line, e.Reason)
+}
 
 // A Warning is something the reader noticed and went on from, such as a
 // column it does not know.

@@ -1,0 +1,90 @@
+// Command geored reduces observed distances to the ellipsoid and the map
+// grid, and compares them with the inverse between control coordinates.
+//
+// Exit status: 0 success, 1 results flagged, 2 could not run (bad
+// invocation, bad settings, unreadable input).
+package main
+
+import (
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+)
+
+// Exit codes.
+const (
+	exitOK      = 0
+	exitFlagged = 1
+	exitFailed  = 2
+)
+
+type command struct {
+	name, summary string
+	run           func(args []string, stdout, stderr io.Writer) int
+}
+
+func commands() []command {
+	return []command{
+		{"inverse", "geodesic and grid inverse between control points", runInverse},
+		{"demo", "run geored on the embedded demo job", runDemo},
+		{"version", "print geored's and PROJ's versions", runVersion},
+	}
+}
+
+func main() {
+	os.Exit(run(os.Args[1:], os.Stdout, os.Stderr))
+}
+
+func run(args []string, stdout, stderr io.Writer) int {
+	if len(args) == 0 || args[0] == "-h" || args[0] == "--help" || args[0] == "help" {
+		usage(stderr)
+		if len(args) == 0 {
+			return exitFailed
+		}
+		return exitOK
+	}
+	for _, c := range commands() {
+		if c.name == args[0] {
+			return c.run(args[1:], stdout, stderr)
+		}
+	}
+	fmt.Fprintf(stderr, "geored: unknown command %q\n\n", args[0])
+	usage(stderr)
+	return exitFailed
+}
+
+func usage(w io.Writer) {
+	fmt.Fprintln(w, "geored reduces observed distances to the ellipsoid and the map grid.")
+	fmt.Fprintln(w, "\nUsage: geored <command> [flags]\n\nCommands:")
+	for _, c := range commands() {
+		fmt.Fprintf(w, "  %-9s %s\n", c.name, c.summary)
+	}
+	fmt.Fprintln(w, "\nRun 'geored <command> --help' for the command's flags.")
+	fmt.Fprintln(w, "\nResults support, and do not replace, the judgement of a licensed surveyor;")
+	fmt.Fprintln(w, "local regulations and standards govern.")
+}
+
+// parseFlags parses a subcommand's flags; it reports whether to go on and,
+// if not, the exit code.
+func parseFlags(fs *flag.FlagSet, args []string, stderr io.Writer) (bool, int) {
+	fs.SetOutput(stderr)
+	if err := fs.Parse(args); err != nil {
+		if errors.Is(err, flag.ErrHelp) {
+			return false, exitOK
+		}
+		return false, exitFailed
+	}
+	if fs.NArg() > 0 {
+		fmt.Fprintf(stderr, "geored %s: unexpected argument %q\n", fs.Name(), fs.Arg(0))
+		return false, exitFailed
+	}
+	return true, exitOK
+}
+
+// fail prints an error for a run that could not be done.
+func fail(stderr io.Writer, cmd string, err error) int {
+	fmt.Fprintf(stderr, "geored %s: %v\n", cmd, err)
+	return exitFailed
+}
