@@ -11,14 +11,14 @@
 //	SecondVelocityCorrection   S2 → S3    second velocity and ray arc-to-chord
 //	EllipsoidDistance          S3 → s     chord and arc on the Euler radius (both heights known)
 //	EllipsoidDistanceFromZenith S3, z → s, hB  when the target's height is unknown
-//	GridDistance               s → d      Simpson line scale factor, elevation and combined factors
+//	GridDistance               s → d      Simpson line scale factor, grid arc-to-chord, elevation and combined factors
 //	DistanceUncertainty        σ of the reduced distance
 //	CompareDistance            residual against the inverse from control, w-test, tolerance
 //
 // Reduce runs the whole chain for one observation of one line. Work that
 // depends only on the line (midpoint, radius, scale factors, inverse) is
 // gathered once per line by NewLine, through the small interfaces Radii,
-// Midpointer and ScaleFactorer that the geodesic package satisfies; reduce
+// Geodesics and ScaleFactorer that the geodesic package satisfies; reduce
 // itself does no I/O and holds no PROJ handle.
 //
 // Units: lengths are float64 metres, angles s1.Angle (radians); the few

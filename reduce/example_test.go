@@ -24,7 +24,7 @@ func ExampleEllipsoidDistanceFromZenith() {
 // A slope distance shorter than the height difference cannot be reduced;
 // the error names the stage and the reason.
 func ExampleEllipsoidDistance_badGeometry() {
-	_, err := reduce.EllipsoidDistance(10, 100, 112.5, 6371008.8)
+	_, err := reduce.EllipsoidDistance(10, 100, 112.5, reduce.Section{Radius: 6371008.8})
 	fmt.Println(err)
 	// Output: geometry: slope distance 10 m, want at least the height difference 12.5000 m
 }

@@ -52,7 +52,7 @@ func TestGeometryRecoversExactSphereLines(t *testing.T) {
 	for i := 0; i < 20000; i++ {
 		l := randomLine(rng, 1, 30000)
 		S := l.slope()
-		g, err := EllipsoidDistance(S, l.hA, l.hB, l.R)
+		g, err := EllipsoidDistance(S, l.hA, l.hB, Section{Radius: l.R})
 		require.NoErrorf(t, err, "line %+v", l)
 		assert.InDeltaf(t, l.s, g.Arc, 0.01*mm, "heights route arc of %+v (m)", l)
 
@@ -113,13 +113,13 @@ func TestGeometryRejectsBadInput(t *testing.T) {
 		{"chord longer than the diameter", 3 * meanRadius, 0, 0, meanRadius},
 	}
 	for _, c := range heights {
-		g, err := EllipsoidDistance(c.slope, c.hA, c.hB, c.radius)
+		g, err := EllipsoidDistance(c.slope, c.hA, c.hB, Section{Radius: c.radius})
 		var ie *InputError
 		require.Truef(t, errors.As(err, &ie), "%s: want *InputError, got %v (%+v)", c.name, err, g)
 		assert.Equalf(t, "geometry", ie.Stage, "%s", c.name)
 		assert.Equalf(t, GeometryResult{}, g, "%s: no partial result", c.name)
 	}
-	_, err := EllipsoidDistance(10, 100, 112.5, meanRadius)
+	_, err := EllipsoidDistance(10, 100, 112.5, Section{Radius: meanRadius})
 	assert.EqualError(t, err, "geometry: slope distance 10 m, want at least the height difference 12.5000 m")
 
 	zeniths := []struct {

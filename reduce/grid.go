@@ -1,28 +1,52 @@
 package reduce
 
+import "math"
+
 // ScaleFactors are a projection's point scale factors at the two ends of a
 // line and at its geodesic midpoint.
 type ScaleFactors struct {
 	A, Mid, B float64
 }
 
+// GridLine is what a map projection does to one line: its point scale
+// factors and the curvature of the geodesic's image on the grid.
+type GridLine struct {
+	Scale ScaleFactors
+	// Curvature of the geodesic's image on the grid at the midpoint, 1/m of
+	// grid: on a conformal map (1/k) ∂ln k/∂n across the line. Zero on the
+	// central meridian of a transverse Mercator or along a line of
+	// constant k.
+	Curvature float64
+}
+
 // GridResult keeps the grid stage's values.
 type GridResult struct {
-	Scale           ScaleFactors
+	Grid            GridLine
 	LineScale       float64 // (kA + 4 k_mid + kB)/6, Simpson's rule
 	Arc             float64 // distance on the reference surface, metres
-	GridDistance    float64 // Arc · LineScale, metres
+	GridArc         float64 // length of the geodesic's image on the grid, Arc · LineScale, metres
+	ArcToChord      float64 // GridDistance − GridArc, metres
+	GridDistance    float64 // straight distance between the grid coordinates, metres
 	MeanHeight      float64 // mean height of the two marks on the datum, metres
 	Radius          float64 // R_α, metres
 	ElevationFactor float64 // R/(R + MeanHeight)
 	GroundDistance  float64 // horizontal distance at MeanHeight: Arc (R + MeanHeight)/R, metres
-	CombinedFactor  float64 // GridDistance / GroundDistance = LineScale · ElevationFactor
+	CombinedFactor  float64 // GridDistance / GroundDistance = LineScale · ElevationFactor (less the arc-to-chord)
 }
 
 // GridDistance scales the distance on the reference surface, arc (metres),
 // to the map grid with the line scale factor by Simpson's rule,
 //
 //	k_line = (kA + 4 k_mid + kB) / 6
+//
+// which gives the length of the geodesic's curved image on the grid, and
+// then takes the straight distance between the grid coordinates from it,
+// with the image taken as a circle of the given curvature κ:
+//
+//	d = (2/κ) sin(κ L / 2) ≈ L − κ² L³ / 24,  L = arc · k_line
+//
+// (0.1 mm on a 30 km line 390 km from a Lambert conic's central parallel;
+// nil on a TM's central meridian).
 //
 // recommended by Stem, State Plane Coordinate System of 1983, NOAA Manual
 // NOS NGS 5 (1989): within 0.3 mm of the integrated scale at 100 km, where
@@ -31,8 +55,9 @@ type GridResult struct {
 // height h_mean (metres) and the combined factor, grid distance over the
 // horizontal ground distance at h_mean, for work in ground units. One metre
 // of height error moves the elevation factor by 0.157 ppm.
-func GridDistance(arc float64, k ScaleFactors, meanMarkHeight, radius float64) (GridResult, error) {
+func GridDistance(arc float64, g GridLine, meanMarkHeight, radius float64) (GridResult, error) {
 	const stage = "grid"
+	k := g.Scale
 	if err := needRange(stage, "ellipsoid distance", arc, "m", 0, 1e7); err != nil {
 		return GridResult{}, err
 	}
@@ -44,6 +69,9 @@ func GridDistance(arc float64, k ScaleFactors, meanMarkHeight, radius float64) (
 			return GridResult{}, err
 		}
 	}
+	if err := needRange(stage, "curvature of the line on the grid", g.Curvature, "1/m", -1e-5, 1e-5); err != nil {
+		return GridResult{}, err
+	}
 	if err := needPositive(stage, "radius", radius, "m"); err != nil {
 		return GridResult{}, err
 	}
@@ -52,15 +80,22 @@ func GridDistance(arc float64, k ScaleFactors, meanMarkHeight, radius float64) (
 	}
 	line := (k.A + 4*k.Mid + k.B) / 6
 	elev := radius / (radius + meanMarkHeight)
+	gridArc := arc * line
+	d := gridArc
+	if x := g.Curvature * gridArc / 2; x != 0 {
+		d = gridArc * math.Sin(x) / x
+	}
 	return GridResult{
-		Scale:           k,
+		Grid:            g,
 		LineScale:       line,
 		Arc:             arc,
-		GridDistance:    arc * line,
+		GridArc:         gridArc,
+		ArcToChord:      d - gridArc,
+		GridDistance:    d,
 		MeanHeight:      meanMarkHeight,
 		Radius:          radius,
 		ElevationFactor: elev,
 		GroundDistance:  arc / elev,
-		CombinedFactor:  line * elev,
+		CombinedFactor:  d / (arc / elev),
 	}, nil
 }

@@ -62,9 +62,9 @@ func TestSeaLevelVersusEllipsoid(t *testing.T) {
 	bS, _ := HeightFromOrthometric(DatumSeaLevel, 260, sep)
 	l := sphereLine{R: meanRadius, s: 8000, hA: aE.Height, hB: bE.Height}
 	S := l.slope()
-	ge, err := EllipsoidDistance(S, aE.Height, bE.Height, meanRadius)
+	ge, err := EllipsoidDistance(S, aE.Height, bE.Height, Section{Radius: meanRadius})
 	require.NoError(t, err)
-	gs, err := EllipsoidDistance(S, aS.Height, bS.Height, meanRadius)
+	gs, err := EllipsoidDistance(S, aS.Height, bS.Height, Section{Radius: meanRadius})
 	require.NoError(t, err)
 	// with N < 0 the marks stand 30 m higher above the geoid than above the
 	// ellipsoid, so the sea-level distance is the shorter

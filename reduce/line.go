@@ -13,10 +13,12 @@ type Radii interface {
 	RadiusInAzimuth(lat, azimuth s1.Angle) float64
 }
 
-// Midpointer gives the midpoint of the geodesic between two points. The
-// geodesic package's *Geodesic satisfies it.
-type Midpointer interface {
+// Geodesics gives the midpoint of the geodesic between two points and
+// solves the direct problem (distance in metres). The geodesic package's
+// *Geodesic satisfies it.
+type Geodesics interface {
 	Midpoint(a, b s2.LatLng) (s2.LatLng, error)
+	Direct(a s2.LatLng, azimuth s1.Angle, distance float64) (s2.LatLng, s1.Angle, error)
 }
 
 // ScaleFactorer gives a map projection's point scale factor. The geodesic
@@ -65,14 +67,20 @@ func GridDistanceBetween(a, b GridPoint) float64 {
 // Line gathers what depends only on a line between two control points, so
 // that a job computes it once per line and not per observation.
 type Line struct {
-	A, B         s2.LatLng
-	Midpoint     s2.LatLng    // geodesic midpoint
-	Inverse      Inverse      // geodesic from control
-	GridDistance float64      // plane distance between the projected control points, metres
-	Azimuth      s1.Angle     // mean azimuth of the line, in [0, π) (the radius does not depend on the sense)
-	Radius       float64      // Euler radius in Azimuth at the midpoint's latitude, metres
-	Scale        ScaleFactors // point scale factors at A, the midpoint and B
+	A, B          s2.LatLng
+	Midpoint      s2.LatLng // geodesic midpoint
+	Inverse       Inverse   // geodesic from control
+	GridDistance  float64   // plane distance between the projected control points, metres
+	Azimuth       s1.Angle  // mean azimuth of the line, in [0, π) (the radius does not depend on the sense)
+	Radius        float64   // Euler radius in Azimuth at the midpoint's latitude, metres
+	CurvatureRate float64   // d(1/R_α)/ds along the line from A to B, 1/m²
+	Grid          GridLine  // point scale factors at A, the midpoint and B; curvature on the grid
 }
+
+// gridCurvatureStep is the offset across the line, metres, at which NewLine
+// samples the scale factor for the curvature of the line on the grid; ln k
+// is smooth on that scale, so the central difference is good to 1e-6 of κ.
+const gridCurvatureStep = 1000
 
 // NewLine prepares a line from its control points, the caller's inverse
 // and projected coordinates, and the ellipsoid, geodesic and projection.
@@ -82,8 +90,11 @@ type Line struct {
 // a back azimuth at B gives the same line direction. On a 30 km line the
 // azimuth differs from the one at the midpoint by well under 0.01°, which
 // moves R_α by under 2e-6 of itself and the reduced distance by under a
-// micrometre.
-func NewLine(a, b s2.LatLng, inv Inverse, gridA, gridB GridPoint, e Radii, g Midpointer, p ScaleFactorer) (Line, error) {
+// micrometre. The curvature rate is the difference of 1/R_α at B (in
+// Azimuth2) and at A (in Azimuth1) over the distance. The curvature of the
+// line on the grid is (1/k) ∂ln k/∂n by a central difference of the point
+// scale factor 1 km either side of the midpoint, across the line.
+func NewLine(a, b s2.LatLng, inv Inverse, gridA, gridB GridPoint, e Radii, g Geodesics, p ScaleFactorer) (Line, error) {
 	const stage = "line"
 	if err := needPositive(stage, "control distance", inv.Distance, "m"); err != nil {
 		return Line{}, err
@@ -103,13 +114,43 @@ func NewLine(a, b s2.LatLng, inv Inverse, gridA, gridB GridPoint, e Radii, g Mid
 	if err := needPositive(stage, "radius", l.Radius, "m"); err != nil {
 		return Line{}, err
 	}
+	ra := e.RadiusInAzimuth(a.Lat, inv.Azimuth1)
+	rb := e.RadiusInAzimuth(b.Lat, inv.Azimuth2)
+	if err := needPositive(stage, "radius at A", ra, "m"); err != nil {
+		return Line{}, err
+	}
+	if err := needPositive(stage, "radius at B", rb, "m"); err != nil {
+		return Line{}, err
+	}
+	l.CurvatureRate = (1/rb - 1/ra) / inv.Distance
 	for _, q := range [...]struct {
 		p s2.LatLng
 		k *float64
-	}{{a, &l.Scale.A}, {mid, &l.Scale.Mid}, {b, &l.Scale.B}} {
+	}{{a, &l.Grid.Scale.A}, {mid, &l.Grid.Scale.Mid}, {b, &l.Grid.Scale.B}} {
 		if *q.k, err = p.PointScaleFactor(q.p); err != nil {
 			return Line{}, err
 		}
 	}
+	across := l.Azimuth + math.Pi/2
+	left, _, err := g.Direct(mid, across, gridCurvatureStep)
+	if err != nil {
+		return Line{}, err
+	}
+	right, _, err := g.Direct(mid, across+math.Pi, gridCurvatureStep)
+	if err != nil {
+		return Line{}, err
+	}
+	kl, err := p.PointScaleFactor(left)
+	if err != nil {
+		return Line{}, err
+	}
+	kr, err := p.PointScaleFactor(right)
+	if err != nil {
+		return Line{}, err
+	}
+	if err := needRange(stage, "scale factor beside the midpoint", kl*kr, "", 0.25, 4); err != nil {
+		return Line{}, err
+	}
+	l.Grid.Curvature = math.Log(kl/kr) / (2 * gridCurvatureStep) / l.Grid.Scale.Mid
 	return l, nil
 }

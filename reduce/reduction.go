@@ -62,7 +62,7 @@ func Reduce(obs Observation, job Job, line Line, markA, markB MarkHeight) (Reduc
 	}
 	s3 := r.SecondVelocity.Distance
 	if markB.Known() {
-		r.Geometry, err = EllipsoidDistance(s3, r.Heights.HeightA, r.Heights.HeightB, line.Radius)
+		r.Geometry, err = EllipsoidDistance(s3, r.Heights.HeightA, r.Heights.HeightB, Section{Radius: line.Radius, CurvatureRate: line.CurvatureRate})
 	} else {
 		r.Geometry, err = EllipsoidDistanceFromZenith(s3, obs.Zenith, r.Heights.HeightA, job.K, line.Radius)
 		r.Heights.HeightB = r.Geometry.HeightB
@@ -71,7 +71,7 @@ func Reduce(obs Observation, job Job, line Line, markA, markB MarkHeight) (Reduc
 	if err != nil {
 		return Reduction{}, err
 	}
-	if r.Grid, err = GridDistance(r.Geometry.Arc, line.Scale, r.Heights.MeanMarkHeight, line.Radius); err != nil {
+	if r.Grid, err = GridDistance(r.Geometry.Arc, line.Grid, r.Heights.MeanMarkHeight, line.Radius); err != nil {
 		return Reduction{}, err
 	}
 	if r.Uncertainty, err = DistanceUncertainty(job.Budget, r.Geometry); err != nil {

@@ -43,7 +43,7 @@ func TestDistanceUncertainty(t *testing.T) {
 	spec := DistanceSpec{Constant: 1 * mm, PPM: 1.5, Rule: RSS, Level: OneSigma}
 	b := Budget{Instrument: spec, CentringInstrument: 0.6 * mm, CentringTarget: 0.8 * mm, HeightA: 5 * mm, HeightB: 5 * mm}
 	l := sphereLine{R: meanRadius, s: 2000, hA: 100, hB: 300}
-	g, err := EllipsoidDistance(l.slope(), l.hA, l.hB, l.R)
+	g, err := EllipsoidDistance(l.slope(), l.hA, l.hB, Section{Radius: l.R})
 	require.NoError(t, err)
 	u, err := DistanceUncertainty(b, g)
 	require.NoError(t, err)
@@ -54,7 +54,7 @@ func TestDistanceUncertainty(t *testing.T) {
 	// difference, gives 0.707 mm.
 	assert.InDeltaf(t, 200/g.Chord*math.Hypot(5*mm, 5*mm), u.HeightDifference, 1e-9, "height-difference term (m)")
 	// numerical check of the derivative through EllipsoidDistance
-	g2, err := EllipsoidDistance(l.slope(), l.hA, l.hB+1*mm, l.R)
+	g2, err := EllipsoidDistance(l.slope(), l.hA, l.hB+1*mm, Section{Radius: l.R})
 	require.NoError(t, err)
 	assert.InDeltaf(t, math.Abs(g2.Arc-g.Arc)/(1*mm), u.HeightDifference/math.Hypot(5*mm, 5*mm), 1e-3, "∂s/∂hB against the chain")
 	want := math.Sqrt(u.Instrument*u.Instrument + u.Centring*u.Centring + u.HeightDifference*u.HeightDifference + u.MeanHeight*u.MeanHeight)

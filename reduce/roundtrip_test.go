@@ -1,0 +1,150 @@
+package reduce_test
+
+import (
+	"math"
+	"testing"
+
+	"github.com/geored/geored/geodesic"
+	"github.com/geored/geored/reduce"
+	"github.com/golang/geo/r3"
+	"github.com/golang/geo/s1"
+	"github.com/golang/geo/s2"
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+)
+
+const mm = 1e-3
+
+// roundTripCRS is a CRS and the area its random lines are drawn in.
+type roundTripCRS struct {
+	name           string
+	definition     string
+	latMin, latMax float64 // degrees
+	lngMin, lngMax float64 // degrees
+}
+
+var roundTripCRSs = []roundTripCRS{
+	// a UTM zone on WGS 84
+	{"UTM zone 33N (WGS 84)", "EPSG:32633", 40, 62, 12, 18},
+	// a Lambert conformal conic (two standard parallels) on GRS 80
+	{"Lambert-93 (RGF93, GRS 80)", "EPSG:2154", 43, 50.5, -4, 7.5},
+	// a national transverse Mercator on another ellipsoid
+	{"British National Grid (OSGB 1936, Airy 1830)", "EPSG:27700", 50, 58.5, -5.5, 1.5},
+}
+
+// geoLine is one simulated line: control points, heights of instrument
+// axis and reflector above the ellipsoid, and the truth from geodesic.
+type geoLine struct {
+	a, b    s2.LatLng
+	hA, hB  float64 // instrument axis and reflector, m
+	inverse geodesic.Line
+	gridA   geodesic.GridPoint
+	gridB   geodesic.GridPoint
+	chord   float64  // 3-D chord between the two points, m
+	zenith  s1.Angle // geometric zenith angle at A, from A's ellipsoid normal
+}
+
+func simulate(t *testing.T, g *geodesic.Geodesic, p *geodesic.Projector, a s2.LatLng, az s1.Angle, dist, hA, hB float64) geoLine {
+	b, _, err := g.Direct(a, az, dist)
+	require.NoError(t, err)
+	inv, err := g.Inverse(a, b)
+	require.NoError(t, err)
+	ga, err := p.Forward(a)
+	require.NoError(t, err)
+	gb, err := p.Forward(b)
+	require.NoError(t, err)
+	xa, err := p.ToGeocentric(a, hA)
+	require.NoError(t, err)
+	xb, err := p.ToGeocentric(b, hB)
+	require.NoError(t, err)
+	d := xb.Sub(xa)
+	up := r3.Vector{
+		X: math.Cos(float64(a.Lat)) * math.Cos(float64(a.Lng)),
+		Y: math.Cos(float64(a.Lat)) * math.Sin(float64(a.Lng)),
+		Z: math.Sin(float64(a.Lat)),
+	}
+	return geoLine{
+		a: a, b: b, hA: hA, hB: hB, inverse: inv, gridA: ga, gridB: gb,
+		chord:  d.Norm(),
+		zenith: s1.Angle(math.Atan2(d.Cross(up).Norm(), d.Dot(up))),
+	}
+}
+
+// Round trip through real CRSs (issue 3): random lines of 1 m to 30 km with
+// the instrument axis and reflector from −100 m to 4000 m above the
+// ellipsoid; their true 3-D chord (geodetic → geocentric in PROJ) and
+// zenith angle are run backwards through the chain with a known atmosphere
+// and k to raw distances, then reduced again and compared with the geodesic
+// (PROJ's Karney inverse) and with the distance between the projected
+// control points.
+func TestRoundTripThroughCRSs(t *testing.T) {
+	rng := reduce.NewRand(t)
+	job := reduce.DemoJob(t)
+	for _, c := range roundTripCRSs {
+		crs, err := geodesic.OpenCRS(c.definition)
+		require.NoErrorf(t, err, "%s", c.name)
+		proj, err := crs.NewProjector()
+		require.NoErrorf(t, err, "%s", c.name)
+		defer proj.Close()
+		ell := crs.Ellipsoid()
+		geod, err := geodesic.NewGeodesic(ell)
+		require.NoErrorf(t, err, "%s", c.name)
+
+		var worstHeights, worstZenith, worstGrid, worstTarget float64
+		for i := 0; i < 1000; i++ {
+			a := s2.LatLngFromDegrees(c.latMin+rng.Float64()*(c.latMax-c.latMin), c.lngMin+rng.Float64()*(c.lngMax-c.lngMin))
+			dist := math.Pow(30000, rng.Float64()) // 1 m to 30 km, log-uniform
+			hA := -100 + rng.Float64()*4100
+			hB := -100 + rng.Float64()*4100
+			if math.Abs(hB-hA) > 0.9*dist+1e-3 { // keep the sight physically possible for a level
+				hB = hA + (hB-hA)*0.9*dist/math.Abs(hB-hA)
+			}
+			l := simulate(t, geod, proj, a, s1.Angle(rng.Float64()*2*math.Pi), dist, hA, hB)
+
+			line, err := reduce.NewLine(l.a, l.b,
+				reduce.Inverse{Distance: l.inverse.Distance, Azimuth1: l.inverse.Azimuth1, Azimuth2: l.inverse.Azimuth2},
+				reduce.GridPoint(l.gridA), reduce.GridPoint(l.gridB), ell, geod, proj)
+			require.NoErrorf(t, err, "%s line %d", c.name, i)
+
+			const hi, ht = 1.55, 1.80
+			markA, err := reduce.HeightFromEllipsoidal(reduce.DatumEllipsoid, hA-hi, reduce.Separation{})
+			require.NoError(t, err)
+			markB, err := reduce.HeightFromEllipsoidal(reduce.DatumEllipsoid, hB-ht, reduce.Separation{})
+			require.NoError(t, err)
+			obs := reduce.Observation{
+				InstrumentHeight: hi, TargetHeight: ht, PrismConstant: -30 * mm,
+				Meteorology: reduce.Meteorology{
+					Instrument:     reduce.Atmosphere{TemperatureC: 18, PressureHPa: 1013.25 - hA/8.5, HumidityPct: 55},
+					Target:         reduce.Atmosphere{TemperatureC: 17.5, PressureHPa: 1013.25 - hB/8.5, HumidityPct: 60},
+					HaveInstrument: true, HaveTarget: true,
+				},
+			}
+			// the observed zenith angle: geometric less the refraction angle
+			// of the ray model reduce uses (RefractionAngle), ζ at the chord's
+			// midpoint
+			psi := l.inverse.Distance / line.Radius
+			delta, err := reduce.RefractionAngle(l.chord, l.zenith-s1.Angle(psi/2), job.K, line.Radius)
+			require.NoError(t, err)
+			obs.Zenith = l.zenith - delta
+			obs.SlopeDistance = reduce.Unreduce(t, l.chord, obs, job, line.Radius)
+
+			r, err := reduce.Reduce(obs, job, line, markA, markB)
+			require.NoErrorf(t, err, "%s line %d", c.name, i)
+			rz, err := reduce.Reduce(obs, job, line, markA, reduce.MarkHeight{})
+			require.NoErrorf(t, err, "%s line %d", c.name, i)
+
+			worstHeights = math.Max(worstHeights, math.Abs(r.EllipsoidResidual.Residual))
+			worstGrid = math.Max(worstGrid, math.Abs(r.GridResidual.Residual))
+			worstZenith = math.Max(worstZenith, math.Abs(rz.EllipsoidResidual.Residual))
+			worstTarget = math.Max(worstTarget, math.Abs(rz.Heights.HeightB-hB))
+		}
+		t.Logf("%s: worst |residual| heights route %.4f mm, grid %.4f mm, zenith route %.4f mm, target height %.4f mm",
+			c.name, worstHeights/mm, worstGrid/mm, worstZenith/mm, worstTarget/mm)
+		assert.Lessf(t, worstHeights, 0.01*mm, "%s: heights route against the geodesic (m)", c.name)
+		assert.Lessf(t, worstGrid, 0.01*mm, "%s: grid distance against the projected control (m)", c.name)
+		assert.Lessf(t, worstZenith, 0.01*mm, "%s: zenith route against the geodesic (m)", c.name)
+		// the zenith route's target height is its height above the sphere
+		// of R_α, not the ellipsoid: about 0.5 mm apart at 30 km
+		assert.Lessf(t, worstTarget, 1*mm, "%s: zenith route target height against the ellipsoidal height (m)", c.name)
+	}
+}
