@@ -23,7 +23,7 @@ func benchSetup(b *testing.B) (Observation, Job, Line, MarkHeight, MarkHeight) {
 	obs.SlopeDistance = unreduce(b, l.slope(), obs, job, l.R)
 	a, _ := HeightFromEllipsoidal(DatumEllipsoid, 150, Separation{})
 	m, _ := HeightFromEllipsoidal(DatumEllipsoid, 210, Separation{})
-	line := Line{Radius: l.R, Inverse: Inverse{Distance: l.s}, GridDistance: l.s * 0.99965, Grid: GridLine{Scale: ScaleFactors{0.99962, 0.99965, 0.99968}}}
+	line := Line{Radius: l.R, Inverse: Inverse{Distance: l.s}, GridDistance: l.s * 0.99965, Scale: ScaleFactors{A: 0.99962, Mid: 0.99965, B: 0.99968}}
 	return obs, job, line, a, m
 }
 
@@ -147,7 +147,7 @@ func BenchmarkGridDistance(b *testing.B) {
 	arc := line.Inverse.Distance
 	b.ReportAllocs()
 	for b.Loop() {
-		g, err := GridDistance(arc, line.Grid, 180, line.Radius)
+		g, err := GridDistance(arc, line.Scale, 180, line.Radius)
 		if err != nil {
 			b.Fatal(err)
 		}

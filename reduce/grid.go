@@ -2,26 +2,21 @@ package reduce
 
 import "math"
 
-// ScaleFactors are a projection's point scale factors at the two ends of a
-// line and at its geodesic midpoint.
+// ScaleFactors is what a map projection does to one line: its point scale
+// factors at the two ends and at the geodesic midpoint, and the curvature
+// of the geodesic's image on the grid.
 type ScaleFactors struct {
 	A, Mid, B float64
-}
-
-// GridLine is what a map projection does to one line: its point scale
-// factors and the curvature of the geodesic's image on the grid.
-type GridLine struct {
-	Scale ScaleFactors
 	// Curvature of the geodesic's image on the grid at the midpoint, 1/m of
 	// grid: on a conformal map (1/k) ∂ln k/∂n across the line. Zero on the
 	// central meridian of a transverse Mercator or along a line of
-	// constant k.
+	// constant k; with zero the grid distance is the length of the image.
 	Curvature float64
 }
 
 // GridResult keeps the grid stage's values.
 type GridResult struct {
-	Grid            GridLine
+	Scale           ScaleFactors
 	LineScale       float64 // (kA + 4 k_mid + kB)/6, Simpson's rule
 	Arc             float64 // distance on the reference surface, metres
 	GridArc         float64 // length of the geodesic's image on the grid, Arc · LineScale, metres
@@ -55,9 +50,8 @@ type GridResult struct {
 // height h_mean (metres) and the combined factor, grid distance over the
 // horizontal ground distance at h_mean, for work in ground units. One metre
 // of height error moves the elevation factor by 0.157 ppm.
-func GridDistance(arc float64, g GridLine, meanMarkHeight, radius float64) (GridResult, error) {
+func GridDistance(arc float64, k ScaleFactors, meanMarkHeight, radius float64) (GridResult, error) {
 	const stage = "grid"
-	k := g.Scale
 	if err := needRange(stage, "ellipsoid distance", arc, "m", 0, 1e7); err != nil {
 		return GridResult{}, err
 	}
@@ -69,7 +63,7 @@ func GridDistance(arc float64, g GridLine, meanMarkHeight, radius float64) (Grid
 			return GridResult{}, err
 		}
 	}
-	if err := needRange(stage, "curvature of the line on the grid", g.Curvature, "1/m", -1e-5, 1e-5); err != nil {
+	if err := needRange(stage, "curvature of the line on the grid", k.Curvature, "1/m", -1e-5, 1e-5); err != nil {
 		return GridResult{}, err
 	}
 	if err := needPositive(stage, "radius", radius, "m"); err != nil {
@@ -82,11 +76,11 @@ func GridDistance(arc float64, g GridLine, meanMarkHeight, radius float64) (Grid
 	elev := radius / (radius + meanMarkHeight)
 	gridArc := arc * line
 	d := gridArc
-	if x := g.Curvature * gridArc / 2; x != 0 {
+	if x := k.Curvature * gridArc / 2; x != 0 {
 		d = gridArc * math.Sin(x) / x
 	}
 	return GridResult{
-		Grid:            g,
+		Scale:           k,
 		LineScale:       line,
 		Arc:             arc,
 		GridArc:         gridArc,

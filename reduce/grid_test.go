@@ -20,7 +20,7 @@ func TestSimpsonLineScaleFactor(t *testing.T) {
 	// a 40 km east-west line from 200 km to 240 km east of the central meridian
 	x1, x2 := 200e3, 240e3
 	exact := k0 * (1 + (x2*x2*x2-x1*x1*x1)/(3*(x2-x1))/(2*k0*k0*r*r)) // mean of k over [x1, x2]
-	g, err := GridDistance(40000, GridLine{Scale: ScaleFactors{A: k(x1), Mid: k((x1 + x2) / 2), B: k(x2)}}, 0, r)
+	g, err := GridDistance(40000, ScaleFactors{A: k(x1), Mid: k((x1 + x2) / 2), B: k(x2)}, 0, r)
 	require.NoError(t, err)
 	assert.InDeltaf(t, exact, g.LineScale, 1e-15, "Simpson line scale factor")
 	assert.InDeltaf(t, 40000*exact, g.GridDistance, 1e-6*mm, "grid distance (m)")
@@ -31,13 +31,13 @@ func TestSimpsonLineScaleFactor(t *testing.T) {
 // Elevation factor R/(R + h): 1 m of height is 0.157 ppm (REFERENCES.md §3);
 // combined factor = grid distance / horizontal ground distance = k_line × elevation factor.
 func TestElevationAndCombinedFactor(t *testing.T) {
-	g0, err := GridDistance(5000, GridLine{Scale: ScaleFactors{1, 1, 1}}, 0, meanRadius)
+	g0, err := GridDistance(5000, ScaleFactors{A: 1, Mid: 1, B: 1}, 0, meanRadius)
 	require.NoError(t, err)
-	g1, err := GridDistance(5000, GridLine{Scale: ScaleFactors{1, 1, 1}}, 1, meanRadius)
+	g1, err := GridDistance(5000, ScaleFactors{A: 1, Mid: 1, B: 1}, 1, meanRadius)
 	require.NoError(t, err)
 	assert.InDeltaf(t, -0.157, (g1.ElevationFactor-g0.ElevationFactor)/ppm, 0.001, "elevation factor per metre (ppm)")
 
-	g, err := GridDistance(5000, GridLine{Scale: ScaleFactors{A: 0.99962, Mid: 0.99965, B: 0.99970}}, 1200, meanRadius)
+	g, err := GridDistance(5000, ScaleFactors{A: 0.99962, Mid: 0.99965, B: 0.99970}, 1200, meanRadius)
 	require.NoError(t, err)
 	assert.InDeltaf(t, g.GridDistance/g.GroundDistance, g.CombinedFactor, 1e-15, "combined factor is grid/ground")
 	assert.InDeltaf(t, g.LineScale*g.ElevationFactor, g.CombinedFactor, 1e-15, "combined factor is line × elevation")
@@ -52,12 +52,12 @@ func TestGridRejects(t *testing.T) {
 		h, r float64
 	}{
 		{"zero scale factors", 100, ScaleFactors{}, 0, meanRadius},
-		{"NaN arc", math.NaN(), ScaleFactors{1, 1, 1}, 0, meanRadius},
-		{"negative arc", -1, ScaleFactors{1, 1, 1}, 0, meanRadius},
-		{"NaN height", 100, ScaleFactors{1, 1, 1}, math.NaN(), meanRadius},
-		{"zero radius", 100, ScaleFactors{1, 1, 1}, 0, 0},
+		{"NaN arc", math.NaN(), ScaleFactors{A: 1, Mid: 1, B: 1}, 0, meanRadius},
+		{"negative arc", -1, ScaleFactors{A: 1, Mid: 1, B: 1}, 0, meanRadius},
+		{"NaN height", 100, ScaleFactors{A: 1, Mid: 1, B: 1}, math.NaN(), meanRadius},
+		{"zero radius", 100, ScaleFactors{A: 1, Mid: 1, B: 1}, 0, 0},
 	} {
-		_, err := GridDistance(c.arc, GridLine{Scale: c.k}, c.h, c.r)
+		_, err := GridDistance(c.arc, c.k, c.h, c.r)
 		var ie *InputError
 		assert.Truef(t, errors.As(err, &ie), "%s: want *InputError, got %v", c.name, err)
 	}

@@ -68,13 +68,13 @@ func GridDistanceBetween(a, b GridPoint) float64 {
 // that a job computes it once per line and not per observation.
 type Line struct {
 	A, B          s2.LatLng
-	Midpoint      s2.LatLng // geodesic midpoint
-	Inverse       Inverse   // geodesic from control
-	GridDistance  float64   // plane distance between the projected control points, metres
-	Azimuth       s1.Angle  // mean azimuth of the line, in [0, π) (the radius does not depend on the sense)
-	Radius        float64   // Euler radius in Azimuth at the midpoint's latitude, metres
-	CurvatureRate float64   // d(1/R_α)/ds along the line from A to B, 1/m²
-	Grid          GridLine  // point scale factors at A, the midpoint and B; curvature on the grid
+	Midpoint      s2.LatLng    // geodesic midpoint
+	Inverse       Inverse      // geodesic from control
+	GridDistance  float64      // plane distance between the projected control points, metres
+	Azimuth       s1.Angle     // mean azimuth of the line, in [0, π) (the radius does not depend on the sense)
+	Radius        float64      // Euler radius in Azimuth at the midpoint's latitude, metres
+	CurvatureRate float64      // d(1/R_α)/ds along the line from A to B, 1/m²
+	Scale         ScaleFactors // point scale factors at A, the midpoint and B; curvature on the grid
 }
 
 // gridCurvatureStep is the offset across the line, metres, at which NewLine
@@ -126,7 +126,7 @@ func NewLine(a, b s2.LatLng, inv Inverse, gridA, gridB GridPoint, e Radii, g Geo
 	for _, q := range [...]struct {
 		p s2.LatLng
 		k *float64
-	}{{a, &l.Grid.Scale.A}, {mid, &l.Grid.Scale.Mid}, {b, &l.Grid.Scale.B}} {
+	}{{a, &l.Scale.A}, {mid, &l.Scale.Mid}, {b, &l.Scale.B}} {
 		if *q.k, err = p.PointScaleFactor(q.p); err != nil {
 			return Line{}, err
 		}
@@ -151,6 +151,6 @@ func NewLine(a, b s2.LatLng, inv Inverse, gridA, gridB GridPoint, e Radii, g Geo
 	if err := needRange(stage, "scale factor beside the midpoint", kl*kr, "", 0.25, 4); err != nil {
 		return Line{}, err
 	}
-	l.Grid.Curvature = math.Log(kl/kr) / (2 * gridCurvatureStep) / l.Grid.Scale.Mid
+	l.Scale.Curvature = math.Log(kl/kr) / (2 * gridCurvatureStep) / l.Scale.Mid
 	return l, nil
 }

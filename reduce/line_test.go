@@ -59,13 +59,13 @@ func TestNewLine(t *testing.T) {
 	assert.InDeltaf(t, 30.1, l.Azimuth.Degrees(), 1e-12, "mean azimuth (deg)")
 	assert.InDeltaf(t, EulerRadius(grs80At45.m, grs80At45.n, 30.1*s1.Degree), l.Radius, 1e-6, "radius (m)")
 	assert.InDeltaf(t, 5000, l.GridDistance, 1e-9, "grid distance 3-4-5 (m)")
-	assert.InDeltaf(t, 0.9996*(1+1.1*1.1*1e-4), l.Grid.Scale.Mid, 1e-15, "scale at the midpoint")
+	assert.InDeltaf(t, 0.9996*(1+1.1*1.1*1e-4), l.Scale.Mid, 1e-15, "scale at the midpoint")
 	// curvature on the grid: (1/k) ∂ln k/∂n across the line (azimuth
 	// 120.1°), with ln k = ln 0.9996 + ln(1 + x²·1e-4), x the longitude in
 	// degrees, ∂x/∂n = sin 120.1° / 111 km
 	x := 1.1
-	want := 2 * x * 1e-4 / (1 + x*x*1e-4) * math.Sin(120.1*math.Pi/180) / metresPerDegree / l.Grid.Scale.Mid
-	assert.InDeltaf(t, want, l.Grid.Curvature, 1e-6*want, "curvature on the grid (1/m)")
+	want := 2 * x * 1e-4 / (1 + x*x*1e-4) * math.Sin(120.1*math.Pi/180) / metresPerDegree / l.Scale.Mid
+	assert.InDeltaf(t, want, l.Scale.Curvature, 1e-6*want, "curvature on the grid (1/m)")
 
 	// Azimuth2 given as a back azimuth gives the same line direction.
 	back := inv

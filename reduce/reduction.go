@@ -71,7 +71,7 @@ func Reduce(obs Observation, job Job, line Line, markA, markB MarkHeight) (Reduc
 	if err != nil {
 		return Reduction{}, err
 	}
-	if r.Grid, err = GridDistance(r.Geometry.Arc, line.Grid, r.Heights.MeanMarkHeight, line.Radius); err != nil {
+	if r.Grid, err = GridDistance(r.Geometry.Arc, line.Scale, r.Heights.MeanMarkHeight, line.Radius); err != nil {
 		return Reduction{}, err
 	}
 	if r.Uncertainty, err = DistanceUncertainty(job.Budget, r.Geometry); err != nil {

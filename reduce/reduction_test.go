@@ -103,7 +103,7 @@ func TestReduceRecoversExactSphereLines(t *testing.T) {
 		l := randomLine(rng, 1, 30000)
 		l.k = job.K
 		obs, a, b := randomObservation(t, rng, l, job)
-		line := Line{Radius: l.R, Inverse: Inverse{Distance: l.s}, GridDistance: l.s * 0.9996, Grid: GridLine{Scale: ScaleFactors{0.9996, 0.9996, 0.9996}}}
+		line := Line{Radius: l.R, Inverse: Inverse{Distance: l.s}, GridDistance: l.s * 0.9996, Scale: ScaleFactors{A: 0.9996, Mid: 0.9996, B: 0.9996}}
 		r, err := Reduce(obs, job, line, a, b)
 		require.NoErrorf(t, err, "line %+v", l)
 		assert.InDeltaf(t, 0, r.EllipsoidResidual.Residual, 0.01*mm, "heights route residual of %+v (m)", l)
@@ -127,7 +127,7 @@ func TestReduceRejects(t *testing.T) {
 	job := demoJob(t)
 	a, _ := HeightFromEllipsoidal(DatumEllipsoid, 100, Separation{})
 	b, _ := HeightFromEllipsoidal(DatumEllipsoid, 200, Separation{})
-	line := Line{Radius: meanRadius, Inverse: Inverse{Distance: 50}, GridDistance: 50, Grid: GridLine{Scale: ScaleFactors{1, 1, 1}}}
+	line := Line{Radius: meanRadius, Inverse: Inverse{Distance: 50}, GridDistance: 50, Scale: ScaleFactors{A: 1, Mid: 1, B: 1}}
 	obs := Observation{SlopeDistance: 50, Zenith: 90 * s1.Degree, InstrumentHeight: 1.5, TargetHeight: 1.5}
 	_, err := Reduce(obs, job, line, a, b)
 	var ie *InputError
@@ -147,6 +147,6 @@ func TestReduceRejects(t *testing.T) {
 	bad := job
 	bad.Test = Test{}
 	obs.Zenith = 90 * s1.Degree
-	_, err = Reduce(obs, bad, Line{Radius: meanRadius, Inverse: Inverse{Distance: 500}, GridDistance: 500, Grid: GridLine{Scale: ScaleFactors{1, 1, 1}}}, a, b)
+	_, err = Reduce(obs, bad, Line{Radius: meanRadius, Inverse: Inverse{Distance: 500}, GridDistance: 500, Scale: ScaleFactors{A: 1, Mid: 1, B: 1}}, a, b)
 	require.Truef(t, errors.As(err, &ie), "zero Test: want *InputError, got %v", err)
 }
