@@ -67,7 +67,7 @@ func Inverse(a, b Control, g *geodesic.Geodesic, p *geodesic.Projector) (Inverse
 		Geodesic:       geo,
 		Line:           line,
 		LineScale:      grid.LineScale,
-		ScaledDistance: grid.GridDistance,
+		ScaledDistance: grid.GridArc,
 		GridDistance:   math.Hypot(dE, dN),
 		GridBearing:    geodesic.NormalizeAzimuth(s1.Angle(math.Atan2(dE, dN))),
 		ConvergenceA:   fa.Convergence,

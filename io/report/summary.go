@@ -1,0 +1,160 @@
+package report
+
+// Summary is the machine-readable account of one reduce run, written as
+// summary.json and rendered in report.html. It holds no clock time and
+// nothing that depends on the number of workers, so the same inputs give a
+// byte-identical summary. Lengths are metres unless a field name says mm
+// or ppm.
+type Summary struct {
+	Tool        string `json:"tool"`         // "geored"
+	Version     string `json:"version"`      // geored's version
+	ProjVersion string `json:"proj_version"` // PROJ's version, e.g. "9.1.1"
+
+	Settings Settings    `json:"settings"` // the exact settings used
+	Inputs   []InputFile `json:"inputs"`
+	// InputHash is the SHA-256 of the inputs' hashes and the settings, in
+	// order: the identity of the job.
+	InputHash string `json:"input_hash"`
+
+	Counts    Counts        `json:"counts"`
+	Residuals ResidualStats `json:"residuals"`
+	// Fit of the ellipsoid residuals against distance: residual =
+	// constant + scale · distance. A constant far from zero points at a
+	// wrong prism or additive constant, a scale at a wrong ppm setting.
+	Fit *Fit `json:"fit,omitempty"`
+
+	// Lines holds every line (flagged ones first), each once whichever
+	// direction it was observed in.
+	Lines []Line `json:"lines"`
+
+	// Warnings are notes on the inputs that did not stop the run.
+	Warnings []string `json:"warnings,omitempty"`
+
+	ExitStatus int    `json:"exit_status"` // 0 clean, 1 results flagged, 2 could not run
+	Caution    string `json:"caution"`
+}
+
+// Caution is printed in every report.
+const Caution = "These results support, and do not replace, the judgement of a licensed surveyor. Local regulations and standards govern."
+
+// Settings are the job's settings as used, after config file and flags.
+type Settings struct {
+	CRS            string               `json:"crs"`
+	CRSName        string               `json:"crs_name"`
+	Datum          string               `json:"datum"`     // geodetic datum of the CRS
+	Ellipsoid      string               `json:"ellipsoid"` // name, a and 1/f
+	ReductionDatum string               `json:"reduction_datum"`
+	LengthUnit     string               `json:"length_unit"`
+	AngleUnit      string               `json:"angle_unit"`
+	Geoid          string               `json:"geoid"` // grid name, "constant N = …", or "none"
+	RefractionK    float64              `json:"refraction_k"`
+	CriticalValue  float64              `json:"critical_value"`
+	Tolerance      string               `json:"tolerance"` // e.g. "5 mm + 5 ppm linear, 95 %" or a class name
+	DefaultAtmos   string               `json:"default_atmosphere"`
+	Instruments    []InstrumentSettings `json:"instruments"`
+	Strict         bool                 `json:"strict"`
+}
+
+// InstrumentSettings is one instrument profile as used.
+type InstrumentSettings struct {
+	Name                  string  `json:"name"`
+	WavelengthUM          float64 `json:"wavelength_um"`
+	ReferenceRefractivity float64 `json:"reference_refractivity"`
+	AdditiveConstantMM    float64 `json:"additive_constant_mm"`
+	ScalePPM              float64 `json:"scale_ppm"`
+	PrismConstantMM       float64 `json:"prism_constant_mm"`
+	AppliedPPM            float64 `json:"field_applied_ppm"`
+	AppliedPrismMM        float64 `json:"field_applied_prism_constant_mm"`
+	Spec                  string  `json:"spec"` // e.g. "1 mm + 1.5 ppm, RSS, 1σ"
+}
+
+// InputFile is one input as read.
+type InputFile struct {
+	Role   string `json:"role"` // "points" or "observations"
+	Path   string `json:"path"`
+	SHA256 string `json:"sha256"`
+	Rows   int    `json:"rows"`
+}
+
+// Counts add up: Read = Reduced + Rejected.
+type Counts struct {
+	Read     int `json:"read"`
+	Reduced  int `json:"reduced"`
+	Rejected int `json:"rejected"`
+	// Flagged counts reduced observations whose standardized residual is
+	// over the critical value or whose residual is over the tolerance.
+	Flagged      int `json:"flagged"`
+	Lines        int `json:"lines"`
+	FlaggedLines int `json:"flagged_lines"`
+}
+
+// ResidualStats describe the residuals of the reduced observations.
+type ResidualStats struct {
+	Ellipsoid Stats `json:"ellipsoid"` // reduced arc − geodesic from control
+	Grid      Stats `json:"grid"`      // reduced grid distance − grid distance from control
+}
+
+// Stats of a set of residuals, in millimetres and ppm.
+type Stats struct {
+	N        int     `json:"n"`
+	MeanMM   float64 `json:"mean_mm"`
+	RMSMM    float64 `json:"rms_mm"`
+	StdDevMM float64 `json:"std_dev_mm"`
+	MedianMM float64 `json:"median_mm"`
+	MinMM    float64 `json:"min_mm"`
+	MaxMM    float64 `json:"max_mm"`
+	MeanPPM  float64 `json:"mean_ppm"`
+	// MaxAbsW is the largest standardized residual |w|.
+	MaxAbsW float64 `json:"max_abs_w"`
+}
+
+// Fit is a weighted least-squares line through the residuals: residual =
+// ConstantMM + ScalePPM · distance, with σ from the fit's a posteriori
+// variance factor.
+type Fit struct {
+	N             int     `json:"n"`
+	ConstantMM    float64 `json:"constant_mm"`
+	ConstantSigma float64 `json:"constant_sigma_mm"`
+	ScalePPM      float64 `json:"scale_ppm"`
+	ScaleSigma    float64 `json:"scale_sigma_ppm"`
+	// VarianceFactor is the a posteriori variance factor s0² of the fit.
+	VarianceFactor float64 `json:"variance_factor"`
+	// Significant says which of the two terms differ from zero at the
+	// job's critical value.
+	ConstantSignificant bool `json:"constant_significant"`
+	ScaleSignificant    bool `json:"scale_significant"`
+}
+
+// Line summarises the observations of one line, either direction.
+type Line struct {
+	// From and To are the two point ids in the direction first observed.
+	From  string `json:"from"`
+	To    string `json:"to"`
+	Count int    `json:"count"`
+	// Reciprocal says both directions were observed.
+	Reciprocal bool `json:"reciprocal"`
+	// Geodesic and Grid are the distances from control.
+	Geodesic float64 `json:"geodesic_m"`
+	Grid     float64 `json:"grid_m"`
+	// MeanArc is the mean reduced ellipsoid distance; SpreadMM the
+	// largest minus the smallest reduced arc; StdDevMM their standard
+	// deviation (0 for one observation).
+	MeanArc  float64 `json:"mean_arc_m"`
+	SpreadMM float64 `json:"spread_mm"`
+	StdDevMM float64 `json:"std_dev_mm"`
+	// ResidualMM, ResidualPPM and SigmaMM are of the mean: mean reduced
+	// arc − geodesic; MaxAbsW is the largest |w| of its observations.
+	ResidualMM  float64 `json:"residual_mm"`
+	ResidualPPM float64 `json:"residual_ppm"`
+	SigmaMM     float64 `json:"sigma_mm"`
+	MaxAbsW     float64 `json:"max_abs_w"`
+	// K is the coefficient of refraction from reciprocal zenith angles,
+	// where both directions were observed with zenith angles.
+	K *float64 `json:"k,omitempty"`
+	// Flags: "outlier" (|w| over the critical value), "tolerance" (over
+	// the job's tolerance), "spread" (observations disagree).
+	Flags []string `json:"flags,omitempty"`
+}
+
+// Flagged reports whether the line carries any flag.
+func (l Line) Flagged() bool { return len(l.Flags) > 0 }
