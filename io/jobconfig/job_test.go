@@ -1,0 +1,149 @@
+package jobconfig
+
+import (
+	"testing"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+
+	"github.com/geored/geored/io/units"
+	"github.com/geored/geored/reduce"
+)
+
+const full = `
+crs = "EPSG:25832"
+points = "points.csv"
+observations = ["day1.csv", "day2.csv"]
+out = "out"
+length_unit = "m"
+angle_unit = "gon"
+geoid = "egm96_15.gtx"
+refraction_k = 0.14
+critical_value = 3.0
+default_instrument = "ts1"
+
+[tolerance]
+constant_mm = 5
+ppm = 5
+
+[default_atmosphere]
+temperature_c = 15
+pressure_hpa = 1000
+humidity_pct = 50
+
+[centring]
+instrument_mm = 0.5
+target_mm = 1.0
+height_mm = 2
+
+[instrument.ts1]
+wavelength_um = 0.658
+reference_atmosphere = { temperature_c = 12, pressure_hpa = 1013.25, humidity_pct = 60 }
+additive_constant_mm = 0.4
+scale_ppm = -1.5
+prism_constant_mm = -30
+field_ppm = 0
+field_prism_constant_mm = -30
+spec_mm = 1
+spec_ppm = 1.5
+
+[instrument.old]
+wavelength_um = 0.910
+modulation_hz = 14985520
+unit_length_m = 10
+spec_mm = 3
+spec_ppm = 3
+spec_rule = "linear"
+spec_level = "95"
+`
+
+func TestResolveFullJob(t *testing.T) {
+	f, err := Parse([]byte(full), "job.toml")
+	require.NoError(t, err)
+	j, err := Resolve(f, "job.toml")
+	require.NoError(t, err)
+	assert.Equal(t, "EPSG:25832", j.CRS)
+	assert.Equal(t, units.Gons, j.AngleUnit)
+	assert.Equal(t, reduce.DatumEllipsoid, j.Datum)
+	assert.Equal(t, 0.14, j.K)
+	assert.True(t, j.HasTolerance)
+	assert.Equal(t, "5 mm + 5 ppm, linear, 95 %", j.ToleranceText)
+	assert.Equal(t, []string{"old", "ts1"}, j.ProfileNames())
+	ts1 := j.Profiles["ts1"]
+	assert.InDelta(t, 0.0004, ts1.Chain.Instrument.AdditiveConstant, 1e-15)
+	assert.InDelta(t, -0.030, ts1.PrismConstant, 1e-15)
+	assert.InDelta(t, -0.030, ts1.Chain.Field.PrismConstant, 1e-15)
+	assert.Equal(t, 0.14, ts1.Chain.K)
+	assert.InDelta(t, 0.0005, ts1.Chain.Budget.CentringInstrument, 1e-15)
+	assert.InDelta(t, 0.002, ts1.Chain.Budget.HeightB, 1e-15)
+	assert.InDelta(t, 0.001, ts1.Chain.Budget.Instrument.Constant, 1e-15)
+	assert.Equal(t, reduce.RSS, ts1.Chain.Budget.Instrument.Rule, "an EDM spec is RSS at 1σ unless the job says otherwise")
+	assert.Equal(t, 1000.0, ts1.Chain.DefaultAtmosphere.PressureHPa)
+	// n_ref = c / (2 f U) (REFERENCES.md §1; IAG 1999 resolution):
+	// c = 299 792 458 m/s, f = 14 985 520 Hz, U = 10 m → n = 1.000 287 06…
+	old := j.Profiles["old"]
+	assert.InDelta(t, (299792458/(2*14985520*10.0)-1)*1e6, old.Chain.Carrier.ReferenceRefractivity, 1e-6, "N_ref, ppm")
+	assert.Equal(t, reduce.Percent95, old.Chain.Budget.Instrument.Level)
+}
+
+func TestParseErrors(t *testing.T) {
+	_, err := Parse([]byte("crs = \"EPSG:25832\"\nrefraction_k = = 3\n"), "job.toml")
+	assert.ErrorContains(t, err, "job.toml:2:")
+	_, err = Parse([]byte("crs = \"EPSG:25832\"\nrefraction = 0.13\n[instrument.a]\nwavelenght_um = 0.658\n"), "job.toml")
+	assert.ErrorContains(t, err, "unknown setting(s) instrument.a.wavelenght_um, refraction")
+}
+
+func TestResolveErrorsNameTheirKeys(t *testing.T) {
+	in := `
+length_unit = "ft"
+angle_unit = "grads?"
+reduction_datum = "moon"
+refraction_k = 7
+geoid_separation_m = 500
+[tolerance]
+class = "no such class"
+[default_atmosphere]
+temperature_c = 90
+pressure_hpa = 1000
+humidity_pct = 50
+[instrument.a]
+spec_mm = 1
+[instrument.b]
+wavelength_um = 0.658
+reference_refractivity = 280
+unit_length_m = 10
+spec_mm = 0
+`
+	f, err := Parse([]byte(in), "job.toml")
+	require.NoError(t, err)
+	_, err = Resolve(f, "job.toml")
+	require.Error(t, err)
+	for _, want := range []string{
+		"job.toml: crs: missing",
+		"job.toml: length_unit:",
+		"job.toml: angle_unit:",
+		"job.toml: reduction_datum: \"moon\"",
+		"job.toml: refraction_k: 7",
+		"job.toml: geoid_separation_m: 500",
+		"job.toml: tolerance.class:",
+		"job.toml: default_atmosphere: temperature_c 90",
+		"job.toml: instrument.a.wavelength_um: missing",
+		"job.toml: instrument.b: give exactly one of",
+		"job.toml: instrument.b.spec_mm",
+	} {
+		assert.ErrorContains(t, err, want)
+	}
+}
+
+func TestToleranceClass(t *testing.T) {
+	f, err := Parse([]byte("crs = \"EPSG:25832\"\n[tolerance]\nclass = \""+reduce.AccuracyClasses()[0]+"\"\n"), "job.toml")
+	require.NoError(t, err)
+	j, err := Resolve(f, "job.toml")
+	require.NoError(t, err)
+	assert.True(t, j.HasTolerance)
+	assert.Contains(t, j.ToleranceText, reduce.AccuracyClasses()[0])
+
+	f.Tolerance.PPM = new(float64)
+	_, err = Resolve(f, "job.toml")
+	assert.ErrorContains(t, err, "not both")
+}
