@@ -1,0 +1,293 @@
+package obsfile
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+
+	"github.com/golang/geo/s1"
+
+	"github.com/geored/geored/io/units"
+)
+
+// An Observation is one row of an observation file, in metres and
+// radians. Optional values carry a Has flag.
+type Observation struct {
+	File string
+	Line int
+
+	ObsID, From, To, Instrument string
+
+	SlopeDistance float64  // as the instrument stored it
+	Zenith        s1.Angle // face left, 0..π
+
+	InstrumentHeight, TargetHeight float64 // 0 where the file has no column or a blank
+
+	PrismConstant    float64 // metres (the file gives mm)
+	HasPrismConstant bool
+
+	// Meteorology at the instrument and, where recorded, at the target.
+	AtInstrument, AtTarget Weather
+}
+
+// Weather is one end's meteorology.
+type Weather struct {
+	TemperatureC, PressureHPa, HumidityPct float64
+	Has                                    bool
+}
+
+// ObsOptions say the units of an observation file.
+type ObsOptions struct {
+	LengthUnit units.LengthUnit // slope distance and heights
+	AngleUnit  units.AngleUnit  // zenith angle
+}
+
+// Observation file columns.
+const (
+	colFrom      = "from"
+	colTo        = "to"
+	colSlope     = "slope_distance"
+	colZenith    = "zenith_angle"
+	colHI        = "instrument_height"
+	colHT        = "target_height"
+	colTemp      = "temperature_c"
+	colPressure  = "pressure_hpa"
+	colHumidity  = "humidity_pct"
+	colTempTo    = "temperature_c_to"
+	colPresTo    = "pressure_hpa_to"
+	colHumTo     = "humidity_pct_to"
+	colPrism     = "prism_constant_mm"
+	colInstr     = "instrument"
+	colObsID     = "obs_id"
+	maxHeightAbs = 1000.0 // metres: an instrument or target height beyond this is a blunder
+)
+
+var obsColumns = []string{colFrom, colTo, colSlope, colZenith, colHI, colHT, colTemp, colPressure, colHumidity,
+	colTempTo, colPresTo, colHumTo, colPrism, colInstr, colObsID}
+
+// An ObsReader streams an observation file row by row; it holds one row
+// at a time.
+type ObsReader struct {
+	t   *table
+	opt ObsOptions
+	// column indexes, −1 where absent
+	from, to, slope, zenith, hi, ht, temp, pres, hum, tempTo, presTo, humTo, prism, instr, obsID int
+}
+
+// A RowError is a row that cannot be used; the reader goes on after it.
+// Raw is the row as written.
+type RowError struct {
+	Raw string
+	Err *FieldError
+}
+
+func (e *RowError) Error() string { return e.Err.Error() }
+func (e *RowError) Unwrap() error { return e.Err }
+
+// NewObsReader reads the header of an observation file. A missing required
+// column (from, to, slope_distance, zenith_angle) stops here, before any
+// work; each unknown column is one warning.
+func NewObsReader(r io.Reader, file string, opt ObsOptions) (*ObsReader, []Warning, error) {
+	if opt.LengthUnit == 0 || opt.AngleUnit == 0 {
+		return nil, nil, fmt.Errorf("%s: observation units not set", file)
+	}
+	t, warnings, err := openTable(r, file, obsColumns)
+	if err != nil {
+		return nil, nil, err
+	}
+	if err := t.require(colFrom, colTo, colSlope, colZenith); err != nil {
+		return nil, warnings, err
+	}
+	idx := func(name string) int {
+		if i, ok := t.col[name]; ok {
+			return i
+		}
+		return -1
+	}
+	o := &ObsReader{t: t, opt: opt,
+		from: idx(colFrom), to: idx(colTo), slope: idx(colSlope), zenith: idx(colZenith),
+		hi: idx(colHI), ht: idx(colHT), temp: idx(colTemp), pres: idx(colPressure), hum: idx(colHumidity),
+		tempTo: idx(colTempTo), presTo: idx(colPresTo), humTo: idx(colHumTo),
+		prism: idx(colPrism), instr: idx(colInstr), obsID: idx(colObsID)}
+	if (o.temp >= 0) != (o.pres >= 0) || (o.temp >= 0) != (o.hum >= 0) {
+		return nil, warnings, &HeaderError{File: file, Line: t.line, Reason: "temperature_c, pressure_hpa and humidity_pct go together"}
+	}
+	if (o.tempTo >= 0) != (o.presTo >= 0) || (o.tempTo >= 0) != (o.humTo >= 0) {
+		return nil, warnings, &HeaderError{File: file, Line: t.line, Reason: "temperature_c_to, pressure_hpa_to and humidity_pct_to go together"}
+	}
+	return o, warnings, nil
+}
+
+// Next returns the next observation. At the end it returns io.EOF. A bad
+// row gives a *RowError and the reader can go on; any other error (an
+// unreadable file, broken CSV quoting) ends the file.
+func (o *ObsReader) Next() (Observation, error) {
+	if err := o.t.next(); err != nil {
+		var fe *FieldError
+		if errors.As(err, &fe) && fe.Field == "" && o.t.row != nil && fe.Err == nil {
+			return Observation{}, &RowError{Raw: o.t.raw(), Err: fe}
+		}
+		return Observation{}, err
+	}
+	obs, fe := o.parse()
+	if fe != nil {
+		return Observation{}, &RowError{Raw: o.t.raw(), Err: fe}
+	}
+	return obs, nil
+}
+
+func (o *ObsReader) field(i int) string {
+	if i < 0 {
+		return ""
+	}
+	return trim(o.t.row[i])
+}
+
+// trim removes surrounding blanks without allocating.
+func trim(s string) string {
+	for len(s) > 0 && (s[0] == ' ' || s[0] == '\t') {
+		s = s[1:]
+	}
+	for len(s) > 0 && (s[len(s)-1] == ' ' || s[len(s)-1] == '\t' || s[len(s)-1] == '\r') {
+		s = s[:len(s)-1]
+	}
+	return s
+}
+
+func (o *ObsReader) bad(i int, want string) *FieldError {
+	line, _ := o.t.r.FieldPos(i)
+	return &FieldError{File: o.t.file, Line: line, Column: i + 1, Field: o.t.header[i], Value: o.t.row[i], Want: want}
+}
+
+// number parses a finite decimal number in column i.
+func (o *ObsReader) number(i int, want string) (float64, *FieldError) {
+	v, err := strconv.ParseFloat(o.field(i), 64)
+	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+		return 0, o.bad(i, want)
+	}
+	return v, nil
+}
+
+func (o *ObsReader) parse() (Observation, *FieldError) {
+	t := o.t
+	ob := Observation{File: t.file, Line: t.line,
+		From: o.field(o.from), To: o.field(o.to), Instrument: o.field(o.instr), ObsID: o.field(o.obsID)}
+	if ob.From == "" {
+		return ob, o.bad(o.from, "the id of the instrument station")
+	}
+	if ob.To == "" {
+		return ob, o.bad(o.to, "the id of the target point")
+	}
+	if ob.From == ob.To {
+		return ob, o.bad(o.to, fmt.Sprintf("a target other than the station %q", ob.From))
+	}
+	u := o.opt.LengthUnit
+	v, fe := o.number(o.slope, fmt.Sprintf("a slope distance in %s", u))
+	if fe != nil {
+		return ob, fe
+	}
+	if !(v > 0) || v*float64(u) > 1e5 {
+		return ob, o.bad(o.slope, fmt.Sprintf("a slope distance in %s, > 0 and at most 100 km", u))
+	}
+	ob.SlopeDistance = v * float64(u)
+	z, err := units.ParseZenithAngle(o.field(o.zenith), o.opt.AngleUnit)
+	if err != nil {
+		return ob, &FieldError{File: t.file, Line: ob.Line, Column: o.zenith + 1, Field: colZenith, Value: t.row[o.zenith], Want: zenithWant(err, o.opt.AngleUnit), Err: err}
+	}
+	ob.Zenith = z
+	for _, h := range []struct {
+		i   int
+		dst *float64
+	}{{o.hi, &ob.InstrumentHeight}, {o.ht, &ob.TargetHeight}} {
+		if h.i < 0 || o.field(h.i) == "" {
+			continue
+		}
+		v, fe := o.number(h.i, fmt.Sprintf("a height in %s", u))
+		if fe != nil {
+			return ob, fe
+		}
+		if math.Abs(v*float64(u)) > maxHeightAbs {
+			return ob, o.bad(h.i, fmt.Sprintf("a height within ±%g m", maxHeightAbs))
+		}
+		*h.dst = v * float64(u)
+	}
+	if o.prism >= 0 && o.field(o.prism) != "" {
+		v, fe := o.number(o.prism, "a prism constant in mm")
+		if fe != nil {
+			return ob, fe
+		}
+		if math.Abs(v) > 1000 {
+			return ob, o.bad(o.prism, "a prism constant within ±1000 mm")
+		}
+		ob.PrismConstant, ob.HasPrismConstant = v/1000, true
+	}
+	var err2 *FieldError
+	if ob.AtInstrument, err2 = o.weather(o.temp, o.pres, o.hum); err2 != nil {
+		return ob, err2
+	}
+	if ob.AtTarget, err2 = o.weather(o.tempTo, o.presTo, o.humTo); err2 != nil {
+		return ob, err2
+	}
+	return ob, nil
+}
+
+// weather reads one end's temperature, pressure and humidity: all three or
+// none.
+func (o *ObsReader) weather(ti, pi, hi int) (Weather, *FieldError) {
+	if ti < 0 {
+		return Weather{}, nil
+	}
+	blank := 0
+	for _, i := range []int{ti, pi, hi} {
+		if o.field(i) == "" {
+			blank++
+		}
+	}
+	switch blank {
+	case 3:
+		return Weather{}, nil
+	case 0:
+	default:
+		for _, i := range []int{ti, pi, hi} {
+			if o.field(i) == "" {
+				return Weather{}, o.bad(i, "a value: temperature, pressure and humidity are given together or not at all")
+			}
+		}
+	}
+	var w Weather
+	var fe *FieldError
+	if w.TemperatureC, fe = o.number(ti, "a temperature in °C"); fe != nil {
+		return w, fe
+	}
+	if w.TemperatureC < -60 || w.TemperatureC > 60 {
+		return w, o.bad(ti, "a temperature in -60..60 °C")
+	}
+	if w.PressureHPa, fe = o.number(pi, "a pressure in hPa"); fe != nil {
+		return w, fe
+	}
+	if w.PressureHPa < 500 || w.PressureHPa > 1100 {
+		return w, o.bad(pi, "a pressure in 500..1100 hPa")
+	}
+	if w.HumidityPct, fe = o.number(hi, "a relative humidity in %"); fe != nil {
+		return w, fe
+	}
+	if w.HumidityPct < 0 || w.HumidityPct > 100 {
+		return w, o.bad(hi, "a relative humidity in 0..100 %")
+	}
+	w.Has = true
+	return w, nil
+}
+
+func zenithWant(err error, u units.AngleUnit) string {
+	var re *units.RangeError
+	if errors.As(err, &re) {
+		return fmt.Sprintf("a zenith angle in %s within %s (face left)", u, rangeText(re))
+	}
+	return fmt.Sprintf("a zenith angle in %s", u)
+}
+
+func rangeText(re *units.RangeError) string {
+	return strconv.FormatFloat(re.Min, 'g', -1, 64) + ".." + strconv.FormatFloat(re.Max, 'g', -1, 64) + " " + re.Unit
+}

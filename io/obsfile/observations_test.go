@@ -1,0 +1,116 @@
+package obsfile
+
+import (
+	"errors"
+	"io"
+	"strings"
+	"testing"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+
+	"github.com/geored/geored/io/units"
+)
+
+func readAll(t *testing.T, in string, opt ObsOptions) ([]Observation, []*RowError, []Warning, error) {
+	t.Helper()
+	r, warns, err := NewObsReader(strings.NewReader(in), "obs.csv", opt)
+	if err != nil {
+		return nil, nil, warns, err
+	}
+	var obs []Observation
+	var rejects []*RowError
+	for {
+		o, err := r.Next()
+		if errors.Is(err, io.EOF) {
+			return obs, rejects, warns, nil
+		}
+		var re *RowError
+		if errors.As(err, &re) {
+			rejects = append(rejects, re)
+			continue
+		}
+		if err != nil {
+			return obs, rejects, warns, err
+		}
+		obs = append(obs, o)
+	}
+}
+
+var metresGon = ObsOptions{LengthUnit: units.Metre, AngleUnit: units.Gons}
+
+func TestObservationsRead(t *testing.T) {
+	in := "\uFEFFobs_id,from,to,slope_distance,zenith_angle,instrument_height,target_height,temperature_c,pressure_hpa,humidity_pct,prism_constant_mm,instrument,note\r\n" +
+		"# set 1\r\n" +
+		"1,Süd 1,\"N,2\",662.6712,99.5123,1.602,1.500,18.5,1004.2,65,-30,ts1,x\r\n" +
+		"\r\n" +
+		"2,A,B,100,100,,,,,,,,\r\n"
+	obs, rejects, warns, err := readAll(t, in, metresGon)
+	require.NoError(t, err)
+	assert.Empty(t, rejects)
+	require.Len(t, warns, 1)
+	assert.Contains(t, warns[0].Text, `unknown column "note"`)
+	require.Len(t, obs, 2)
+	o := obs[0]
+	assert.Equal(t, "Süd 1", o.From)
+	assert.Equal(t, "N,2", o.To)
+	assert.Equal(t, 3, o.Line)
+	assert.Equal(t, 662.6712, o.SlopeDistance)
+	assert.InDelta(t, 99.5123*0.9, o.Zenith.Degrees(), 1e-12)
+	assert.Equal(t, 1.602, o.InstrumentHeight)
+	assert.InDelta(t, -0.030, o.PrismConstant, 1e-15)
+	assert.True(t, o.AtInstrument.Has)
+	assert.False(t, o.AtTarget.Has)
+	assert.Equal(t, "ts1", o.Instrument)
+	assert.False(t, obs[1].HasPrismConstant)
+	assert.False(t, obs[1].AtInstrument.Has)
+}
+
+// US survey feet: 1200/3937 m (common practice; io/units).
+func TestObservationsInFeet(t *testing.T) {
+	obs, _, _, err := readAll(t, "from,to,slope_distance,zenith_angle,instrument_height\nA,B,1000,90.0000,5\n", ObsOptions{LengthUnit: units.USSurveyFoot, AngleUnit: units.PackedDMS})
+	require.NoError(t, err)
+	assert.InDelta(t, 1000*1200.0/3937, obs[0].SlopeDistance, 1e-9)
+	assert.InDelta(t, 5*1200.0/3937, obs[0].InstrumentHeight, 1e-12)
+}
+
+func TestObservationsRejectBadRows(t *testing.T) {
+	in := "from,to,slope_distance,zenith_angle,temperature_c,pressure_hpa,humidity_pct\n" +
+		"A,B,100,412.5,,,\n" + // line 2
+		"A,B,-3,100,,,\n" +
+		"A,A,100,100,,,\n" +
+		"A,B,100,100,20,,50\n" +
+		"A,B,100,100,20,1000\n" +
+		"A,B,abc,100,,,\n" +
+		"A,B,100,100,20,1300,50\n" +
+		"A,B,100.5,99.9,,,\n" // the one good row, line 9
+	obs, rejects, _, err := readAll(t, in, metresGon)
+	require.NoError(t, err)
+	require.Len(t, obs, 1)
+	assert.Equal(t, 9, obs[0].Line)
+	want := []string{
+		`obs.csv:2:4: zenith_angle "412.5": want a zenith angle in gon within 0..200 gon (face left)`,
+		`obs.csv:3:3: slope_distance "-3": want a slope distance in m, > 0 and at most 100 km`,
+		`obs.csv:4:2: to "A": want a target other than the station "A"`,
+		`obs.csv:5:6: pressure_hpa "": want a value: temperature, pressure and humidity are given together or not at all`,
+		`obs.csv:6: want 7 fields as in the header, got 6`,
+		`obs.csv:7:3: slope_distance "abc": want a slope distance in m`,
+		`obs.csv:8:6: pressure_hpa "1300": want a pressure in 500..1100 hPa`,
+	}
+	require.Len(t, rejects, len(want))
+	for i, w := range want {
+		assert.Equal(t, w, rejects[i].Error())
+	}
+	assert.Equal(t, "A,B,100,412.5,,,", rejects[0].Raw)
+}
+
+func TestObservationsHeaderErrors(t *testing.T) {
+	_, _, _, err := readAll(t, "from,to,slope_distance\nA,B,1\n", metresGon)
+	var he *HeaderError
+	require.True(t, errors.As(err, &he))
+	assert.ErrorContains(t, err, "missing required column(s) zenith_angle")
+	_, _, _, err = readAll(t, "from,to,slope_distance,zenith_angle,temperature_c\n", metresGon)
+	assert.ErrorContains(t, err, "go together")
+	_, _, _, err = readAll(t, "from,to,slope_distance,zenith_angle\n", ObsOptions{})
+	assert.ErrorContains(t, err, "units not set")
+}
