@@ -1,0 +1,295 @@
+package report
+
+import (
+	"bytes"
+	"flag"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+	"golang.org/x/net/html"
+	"golang.org/x/net/html/atom"
+)
+
+var update = flag.Bool("update", false, "rewrite the golden files in testdata from the current output")
+
+// hostileID is a point id that would run a script if the page did not
+// escape it.
+const hostileID = "<script>alert(1)</script>"
+
+// testSummary is an invented run, made to exercise the page: flagged and
+// clean lines, ids in several scripts and one hostile id, a line without
+// k, a fit with a significant constant, warnings that need escaping. The
+// numbers are not the result of any reduction.
+func testSummary() *Summary {
+	k := func(x float64) *float64 { return &x }
+	return &Summary{
+		Tool:        "geored",
+		Version:     "0.4.0-test",
+		ProjVersion: "9.1.1",
+		Settings: Settings{
+			CRS:            "EPSG:25832",
+			CRSName:        "ETRS89 / UTM zone 32N",
+			Datum:          "European Terrestrial Reference System 1989",
+			Ellipsoid:      "GRS 1980, a = 6378137 m, 1/f = 298.257222101",
+			ReductionDatum: "ellipsoid",
+			LengthUnit:     "m",
+			AngleUnit:      "gon",
+			Geoid:          "constant N = 47.300 m",
+			RefractionK:    0.13,
+			CriticalValue:  3.29,
+			Tolerance:      "5 mm + 5 ppm linear, 95 %",
+			DefaultAtmos:   "15 °C, 1013.25 hPa, 60 %",
+			Instruments: []InstrumentSettings{{
+				Name:                  "TS-A <north crew>",
+				WavelengthUM:          0.658,
+				ReferenceRefractivity: 286.34,
+				AdditiveConstantMM:    0.4,
+				ScalePPM:              1.2,
+				PrismConstantMM:       -30,
+				AppliedPPM:            0,
+				AppliedPrismMM:        -30,
+				Spec:                  "1 mm + 1.5 ppm, RSS, 1σ",
+			}},
+			Strict: false,
+		},
+		Inputs: []InputFile{
+			{Role: "points", Path: "control/Brücke & Ufer.csv", SHA256: strings.Repeat("3f", 32), Rows: 6},
+			{Role: "observations", Path: "day1/obs.csv", SHA256: strings.Repeat("a0", 32), Rows: 14},
+		},
+		InputHash: strings.Repeat("5c", 32),
+		Counts:    Counts{Read: 14, Reduced: 13, Rejected: 1, Flagged: 3, Lines: 5, FlaggedLines: 2},
+		Residuals: ResidualStats{
+			Ellipsoid: Stats{N: 13, MeanMM: 2.14, RMSMM: 4.87, StdDevMM: 4.55, MedianMM: 1.3, MinMM: -3.06, MaxMM: 14.95, MeanPPM: 2.481, MaxAbsW: 5.12},
+			Grid:      Stats{N: 13, MeanMM: 2.2, RMSMM: 4.9, StdDevMM: 4.6, MedianMM: 1.36, MinMM: -2.97, MaxMM: 15.02, MeanPPM: 2.517, MaxAbsW: 5.14},
+		},
+		Fit: &Fit{
+			N: 13, ConstantMM: 1.84, ConstantSigma: 0.52, ScalePPM: 0.71, ScaleSigma: 0.9,
+			VarianceFactor: 1.37, ConstantSignificant: true, ScaleSignificant: false,
+		},
+		Lines: []Line{
+			{From: "P3", To: hostileID, Count: 2, Reciprocal: false, Geodesic: 1208.43317, Grid: 1208.0452,
+				MeanArc: 1208.44812, SpreadMM: 0.6, StdDevMM: 0.42, ResidualMM: 14.95, ResidualPPM: 12.372,
+				SigmaMM: 2.92, MaxAbsW: 5.12, Flags: []string{"outlier", "tolerance"}},
+			{From: "Brücke-Nord", To: "東塔", Count: 4, Reciprocal: true, Geodesic: 642.10558, Grid: 641.89981,
+				MeanArc: 642.1087, SpreadMM: 9.84, StdDevMM: 4.31, ResidualMM: 3.12, ResidualPPM: 4.859,
+				SigmaMM: 1.6, MaxAbsW: 1.95, K: k(0.1318), Flags: []string{"spread"}},
+			{From: "P1", To: "P2", Count: 3, Reciprocal: true, Geodesic: 412.00041, Grid: 411.86843,
+				MeanArc: 412.00112, SpreadMM: 1.1, StdDevMM: 0.55, ResidualMM: 0.71, ResidualPPM: 1.723,
+				SigmaMM: 1.21, MaxAbsW: 0.6, K: k(0.1402)},
+			{From: "P2", To: "P3", Count: 2, Reciprocal: false, Geodesic: 955.2718, Grid: 954.96564,
+				MeanArc: 955.27027, SpreadMM: 0.4, StdDevMM: 0.28, ResidualMM: -1.53, ResidualPPM: -1.602,
+				SigmaMM: 1.44, MaxAbsW: 1.07},
+			{From: "Ω-7", To: "P1", Count: 2, Reciprocal: true, Geodesic: 88.5091, Grid: 88.48069,
+				MeanArc: 88.50906, SpreadMM: 0.2, StdDevMM: 0.14, ResidualMM: -0.04, ResidualPPM: -0.452,
+				SigmaMM: 1.01, MaxAbsW: 0.03, K: k(-0.4)},
+		},
+		Warnings:   []string{`obs.csv: unknown column "remark" & ignored`, "obs.csv:9: rejected, unknown point <Q9>"},
+		ExitStatus: 1,
+		Caution:    Caution,
+	}
+}
+
+// render writes s with WriteHTML and returns the page.
+func render(t *testing.T, s *Summary) string {
+	t.Helper()
+	var b bytes.Buffer
+	require.NoError(t, WriteHTML(&b, s))
+	return b.String()
+}
+
+func TestWriteHTMLGolden(t *testing.T) {
+	got := render(t, testSummary())
+	golden := filepath.Join("testdata", "report.golden.html")
+	if *update {
+		require.NoError(t, os.MkdirAll("testdata", 0o755))
+		require.NoError(t, os.WriteFile(golden, []byte(got), 0o644))
+	}
+	want, err := os.ReadFile(golden)
+	require.NoError(t, err, "run go test ./io/report -run TestWriteHTMLGolden -update to create it")
+	assert.Equal(t, string(want), got, "report.html differs from %s; review the change and refresh with -update", golden)
+}
+
+func TestWriteHTMLDeterministic(t *testing.T) {
+	first := render(t, testSummary())
+	for i := range 3 {
+		assert.Equal(t, first, render(t, testSummary()), "render %d of the same summary", i+2)
+	}
+}
+
+func TestWriteHTMLEscapesIDs(t *testing.T) {
+	page := render(t, testSummary())
+	assert.NotContains(t, page, "<script", "a point id became markup")
+	assert.NotContains(t, page, "<Q9>", "a warning became markup")
+	assert.NotContains(t, page, "<north crew>", "an instrument name became markup")
+	assert.Contains(t, page, "&lt;script&gt;alert(1)&lt;/script&gt;", "the id is shown, escaped")
+
+	// Parsed as a browser would, the cells hold the ids as written.
+	rows := tableRows(t, page, "flagged-lines")
+	require.Len(t, rows, 2, "one row per flagged line")
+	assert.Equal(t, []string{"P3", hostileID}, rows[0][:2])
+	assert.Equal(t, []string{"Brücke-Nord", "東塔"}, rows[1][:2])
+}
+
+func TestWriteHTMLNoNetworkReferences(t *testing.T) {
+	page := render(t, testSummary())
+	for _, ref := range []string{"http://", "https://", "//", "url(", "@import", "src=", "href=", "<script", "<link", "<iframe", "<object", "<img"} {
+		assert.NotContains(t, page, ref, "the page must load nothing: found %q", ref)
+	}
+}
+
+func TestWriteHTMLCaution(t *testing.T) {
+	s := testSummary()
+	page := render(t, s)
+	assert.Equal(t, 2, strings.Count(page, Caution), "caution at top and bottom")
+	first, last := strings.Index(page, Caution), strings.LastIndex(page, Caution)
+	assert.Less(t, first, strings.Index(page, `id="job"`), "caution before the job")
+	assert.Greater(t, last, strings.Index(page, `id="warnings"`), "caution after the warnings")
+
+	s.Caution = ""
+	assert.Equal(t, 2, strings.Count(render(t, s), Caution), "a summary without a caution still gets the package's")
+}
+
+func TestWriteHTMLSectionOrder(t *testing.T) {
+	page := render(t, testSummary())
+	marks := []string{
+		Caution, `id="job"`, "ETRS89 / UTM zone 32N", `id="instruments"`, `id="inputs"`,
+		`id="verdict"`, `id="flagged-lines"`, `<svg viewBox`, `id="statistics-table"`,
+		`id="fit-table"`, `id="all-lines"`, `id="warnings"`, "</footer>",
+	}
+	at := -1
+	for _, m := range marks {
+		i := strings.Index(page[at+1:], m)
+		require.GreaterOrEqual(t, i, 0, "%q missing after the previous mark", m)
+		at += 1 + i
+	}
+}
+
+func TestWriteHTMLContent(t *testing.T) {
+	s := testSummary()
+	page := render(t, s)
+	for _, want := range []string{
+		"14 observations read: 13 reduced, 1 rejected.",
+		"3 reduced observations flagged, on 2 of 5 lines.",
+		"Exit status 1: results flagged",
+		"Variance factor s₀² = 1.37 from 13 observations.",
+		"suggests a wrong prism constant",
+		"no sign of a wrong ppm or atmosphere setting",
+		"Brücke &amp; Ufer.csv",
+		strings.Repeat("3f", 32),
+		"0.4.0-test, PROJ 9.1.1",
+		"Error bars are ±2σ",
+		"<strong>spread</strong>: the observations of the line disagree",
+	} {
+		assert.Contains(t, page, want)
+	}
+	assert.NotContains(t, page, "counts do not add up")
+
+	all := tableRows(t, page, "all-lines")
+	require.Len(t, all, len(s.Lines))
+	// Columns: from, to, count, both ways, geodesic, grid, mean arc,
+	// residual, ppm, σ, max |w|, spread, std. dev., k, flags.
+	assert.Equal(t, []string{"Ω-7", "P1", "2", "yes", "88.5091", "88.4807", "88.5091", "0.0", "-0.45", "1.0", "0.03", "0.2", "0.1", "-0.400", ""}, all[4])
+	assert.Equal(t, "–", all[3][13], "no k without reciprocal zenith angles")
+	assert.Equal(t, "outlier, tolerance", all[0][14])
+
+	s.Counts.Read = 15
+	assert.Contains(t, render(t, s), "These counts do not add up")
+}
+
+func TestWriteHTMLNoFlaggedLines(t *testing.T) {
+	s := testSummary()
+	var clean []Line
+	for _, l := range s.Lines {
+		if !l.Flagged() {
+			clean = append(clean, l)
+		}
+	}
+	s.Lines, s.Counts.Flagged, s.Counts.FlaggedLines, s.ExitStatus = clean, 0, 0, 0
+	s.Fit = nil
+	page := render(t, s)
+	assert.NotContains(t, page, `id="flagged-lines"`)
+	assert.Contains(t, page, `<p id="no-flagged-lines">No flagged lines`)
+	assert.Contains(t, page, "Exit status 0: clean")
+	assert.Contains(t, page, "No fit in this run.")
+	assert.NotContains(t, page, "flagged line</text>", "no flagged entry in the plot's legend")
+}
+
+func TestWriteHTMLNoLines(t *testing.T) {
+	s := testSummary()
+	s.Lines, s.Fit, s.Warnings = nil, nil, nil
+	page := render(t, s)
+	assert.NotContains(t, page, "<svg")
+	assert.Contains(t, page, "No line has a residual to plot.")
+	assert.Contains(t, page, "No lines were reduced.")
+	assert.Contains(t, page, "No warnings.")
+}
+
+func TestWriteHTMLNil(t *testing.T) {
+	assert.Error(t, WriteHTML(&bytes.Buffer{}, nil))
+}
+
+// tableRows parses page as HTML and returns the text of each cell of each
+// row in the <tbody> of the table with the given id.
+func tableRows(t *testing.T, page, id string) [][]string {
+	t.Helper()
+	doc, err := html.Parse(strings.NewReader(page))
+	require.NoError(t, err)
+	table := find(doc, func(n *html.Node) bool {
+		if n.DataAtom != atom.Table {
+			return false
+		}
+		for _, a := range n.Attr {
+			if a.Key == "id" && a.Val == id {
+				return true
+			}
+		}
+		return false
+	})
+	require.NotNil(t, table, "no table with id %q", id)
+	tbody := find(table, func(n *html.Node) bool { return n.DataAtom == atom.Tbody })
+	require.NotNil(t, tbody, "table %q has no tbody", id)
+	var rows [][]string
+	for tr := tbody.FirstChild; tr != nil; tr = tr.NextSibling {
+		if tr.DataAtom != atom.Tr {
+			continue
+		}
+		var row []string
+		for td := tr.FirstChild; td != nil; td = td.NextSibling {
+			if td.DataAtom == atom.Td || td.DataAtom == atom.Th {
+				row = append(row, textOf(td))
+			}
+		}
+		rows = append(rows, row)
+	}
+	return rows
+}
+
+// find returns the first node under n, n included, in document order for
+// which match is true, or nil.
+func find(n *html.Node, match func(*html.Node) bool) *html.Node {
+	if match(n) {
+		return n
+	}
+	for c := n.FirstChild; c != nil; c = c.NextSibling {
+		if f := find(c, match); f != nil {
+			return f
+		}
+	}
+	return nil
+}
+
+// textOf joins the text under n.
+func textOf(n *html.Node) string {
+	if n.Type == html.TextNode {
+		return n.Data
+	}
+	var b strings.Builder
+	for c := n.FirstChild; c != nil; c = c.NextSibling {
+		b.WriteString(textOf(c))
+	}
+	return b.String()
+}

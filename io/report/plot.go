@@ -1,0 +1,345 @@
+package report
+
+import (
+	"bytes"
+	"fmt"
+	"image/color"
+	"math"
+	"regexp"
+	"strings"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/font"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgsvg"
+)
+
+// The residual plot's size in points (1/72 in). The page scales it to the
+// width of the text column; these set its aspect ratio and the size of its
+// text relative to the drawing.
+const (
+	plotWidth  = 640 * vg.Inch / 72
+	plotHeight = 340 * vg.Inch / 72
+)
+
+// plotBars is the half-length of the error bars drawn on each point, in
+// standard deviations of the line's mean residual (Line.SigmaMM). Two σ
+// cover about 95 % of a normal error.
+const plotBars = 2
+
+// plotLabelRunes is the longest point id the plot prints beside a flagged
+// line; longer ids are cut and end in "…". The tables give them in full.
+const plotLabelRunes = 16
+
+// Colours of the plot. Flagged lines also differ in shape, and the fitted
+// line in dash pattern, so that a grey-scale print still tells them apart.
+var (
+	plotInkColor     = color.RGBA{R: 0x1f, G: 0x4e, B: 0x79, A: 0xff} // lines within tolerance
+	plotFlagColor    = color.RGBA{R: 0xb0, G: 0x00, B: 0x20, A: 0xff} // flagged lines
+	plotBarColor     = color.RGBA{R: 0x70, G: 0x70, B: 0x70, A: 0xff} // error bars
+	plotFitColor     = color.RGBA{R: 0xc0, G: 0x5a, B: 0x00, A: 0xff} // fitted line
+	plotZeroColor    = color.Black
+	plotSansFont     = font.Font{Typeface: "Liberation", Variant: "Sans"}
+	plotFontFallback = "font-family:'Liberation Sans',Arial,Helvetica,sans-serif;"
+)
+
+// residualPoints are the lines of a plot: the residual of each line's mean
+// (mm) at its geodesic distance (m), with the half-length of its error bar
+// (mm).
+type residualPoints struct {
+	plotter.XYs
+	Bars []float64
+}
+
+// Len is the number of points, shared by the coordinates and the bars.
+func (r residualPoints) Len() int { return len(r.XYs) }
+
+// YError gives the lower and upper half-lengths of point i's bar, in mm.
+func (r residualPoints) YError(i int) (float64, float64) { return r.Bars[i], r.Bars[i] }
+
+// plotData splits the summary's lines into those within tolerance and the
+// flagged ones, keeping only lines whose distance, residual and σ are
+// finite; skipped counts the others, which the page mentions below the
+// plot.
+func plotData(s *Summary) (ok, flagged residualPoints, labels []string, skipped int) {
+	for _, l := range s.Lines {
+		if !finite(l.Geodesic) || !finite(l.ResidualMM) || !finite(l.SigmaMM) || l.SigmaMM < 0 {
+			skipped++
+			continue
+		}
+		pt := plotter.XY{X: l.Geodesic, Y: l.ResidualMM}
+		bar := plotBars * l.SigmaMM
+		if l.Flagged() {
+			flagged.XYs = append(flagged.XYs, pt)
+			flagged.Bars = append(flagged.Bars, bar)
+			labels = append(labels, shortID(l.From)+"–"+shortID(l.To))
+			continue
+		}
+		ok.XYs = append(ok.XYs, pt)
+		ok.Bars = append(ok.Bars, bar)
+	}
+	return ok, flagged, labels, skipped
+}
+
+// residualPlot draws the residual of each line's mean against its geodesic
+// distance, with ±plotBars·σ error bars, flagged lines as red triangles
+// labelled with their ids, the fitted line ConstantMM + ScalePPM·distance
+// when the summary has a fit, and a zero line. It returns an <svg> element
+// ready to be placed inline in an HTML page: no XML prolog, no namespace
+// URLs, and fonts named by family with generic fallbacks, so the page loads
+// nothing. The result is nil when no line has finite values to plot.
+//
+// Drawing is deterministic: the same summary gives the same bytes.
+func residualPlot(s *Summary) ([]byte, error) {
+	ok, flagged, labels, _ := plotData(s)
+	if ok.Len()+flagged.Len() == 0 {
+		return nil, nil
+	}
+
+	p := plot.New()
+	for _, ts := range []*text{
+		{&p.Title.TextStyle.Font, 12},
+		{&p.X.Label.TextStyle.Font, 11},
+		{&p.Y.Label.TextStyle.Font, 11},
+		{&p.X.Tick.Label.Font, 10},
+		{&p.Y.Tick.Label.Font, 10},
+		{&p.Legend.TextStyle.Font, 10},
+	} {
+		*ts.font = font.From(plotSansFont, ts.size)
+	}
+	p.X.Label.Text = "geodesic distance from control (m)"
+	p.Y.Label.Text = "residual of the mean, reduced − control (mm)"
+	p.X.Tick.Marker = plot.TickerFunc(fixedTicks)
+	p.Y.Tick.Marker = plot.TickerFunc(fixedTicks)
+	p.Add(plotter.NewGrid())
+
+	xMin, xMax, yMin, yMax := plotRanges(s, ok, flagged)
+	p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = xMin, xMax, yMin, yMax
+
+	zero := plotter.NewFunction(func(float64) float64 { return 0 })
+	zero.Samples = 2
+	zero.Color = plotZeroColor
+	zero.Width = vg.Points(0.8)
+	p.Add(zero)
+
+	if s.Fit != nil && finite(s.Fit.ConstantMM) && finite(s.Fit.ScalePPM) {
+		c, k := s.Fit.ConstantMM, s.Fit.ScalePPM
+		fit := plotter.NewFunction(func(d float64) float64 { return c + k*d/1000 })
+		fit.Samples = 2
+		fit.Color = plotFitColor
+		fit.Width = vg.Points(1.5)
+		fit.Dashes = []vg.Length{vg.Points(6), vg.Points(3)}
+		p.Add(fit)
+		p.Legend.Add(fmt.Sprintf("fit: %s mm %s %s ppm · distance",
+			fixed(c, 1), signWord(k), fixed(math.Abs(k), 2)), fit)
+	}
+
+	barStyle := draw.LineStyle{Color: plotBarColor, Width: vg.Points(0.8)}
+	const barCap = 5
+	for _, set := range []struct {
+		pts   residualPoints
+		name  string
+		shape draw.GlyphDrawer
+		ink   color.Color
+	}{
+		{ok, "line within tolerance", draw.CircleGlyph{}, plotInkColor},
+		{flagged, "flagged line", draw.PyramidGlyph{}, plotFlagColor},
+	} {
+		if set.pts.Len() == 0 {
+			continue
+		}
+		bars, err := plotter.NewYErrorBars(set.pts)
+		if err != nil {
+			return nil, fmt.Errorf("residual plot: %s error bars: %w", set.name, err)
+		}
+		bars.LineStyle = barStyle
+		bars.CapWidth = vg.Points(barCap)
+		sc, err := plotter.NewScatter(set.pts.XYs)
+		if err != nil {
+			return nil, fmt.Errorf("residual plot: %s points: %w", set.name, err)
+		}
+		sc.Shape = set.shape
+		sc.Color = set.ink
+		sc.Radius = vg.Points(3.5)
+		p.Add(bars, sc)
+		p.Legend.Add(set.name, sc)
+	}
+	p.Legend.Add(fmt.Sprintf("error bar: ±%dσ of the line's mean", plotBars),
+		barThumbnail{barStyle, vg.Points(barCap)})
+	p.Legend.Top = true
+	p.Legend.Left = true
+	p.Legend.XOffs = vg.Points(8)
+	p.Legend.YOffs = -vg.Points(4)
+	p.Legend.Padding = vg.Points(2)
+
+	// Flagged lines are labelled from–to: to the right of points in the
+	// left half of the plot, to the left of those in the right half, so
+	// that no label runs off the drawing.
+	var right, left plotter.XYLabels
+	for i, pt := range flagged.XYs {
+		side := &right
+		if pt.X > (xMin+xMax)/2 {
+			side = &left
+		}
+		side.XYs = append(side.XYs, pt)
+		side.Labels = append(side.Labels, labels[i])
+	}
+	for _, side := range []struct {
+		labels plotter.XYLabels
+		align  draw.XAlignment
+		dx     vg.Length
+	}{
+		{right, draw.XLeft, vg.Points(7)},
+		{left, draw.XRight, -vg.Points(7)},
+	} {
+		if len(side.labels.Labels) == 0 {
+			continue
+		}
+		lab, err := plotter.NewLabels(side.labels)
+		if err != nil {
+			return nil, fmt.Errorf("residual plot: labels: %w", err)
+		}
+		for i := range lab.TextStyle {
+			lab.TextStyle[i].Font = font.From(plotSansFont, 9)
+			lab.TextStyle[i].Color = plotFlagColor
+			lab.TextStyle[i].XAlign = side.align
+		}
+		lab.Offset = vg.Point{X: side.dx, Y: vg.Points(2)}
+		p.Add(lab)
+	}
+
+	c := vgsvg.New(plotWidth, plotHeight)
+	p.Draw(draw.New(c))
+	var buf bytes.Buffer
+	if _, err := c.WriteTo(&buf); err != nil {
+		return nil, fmt.Errorf("residual plot: %w", err)
+	}
+	return inlineSVG(buf.Bytes())
+}
+
+// text is a font of the plot to set and its size in points.
+type text struct {
+	font *font.Font
+	size vg.Length
+}
+
+// barThumbnail draws an error bar, a vertical stroke with a cap at each
+// end, as the legend's sample of the error bars.
+type barThumbnail struct {
+	draw.LineStyle
+	Cap vg.Length // width of each cap
+}
+
+// Thumbnail draws the bar across the height of c, centred.
+func (b barThumbnail) Thumbnail(c *draw.Canvas) {
+	x := (c.Min.X + c.Max.X) / 2
+	c.StrokeLine2(b.LineStyle, x, c.Min.Y, x, c.Max.Y)
+	for _, y := range []vg.Length{c.Min.Y, c.Max.Y} {
+		c.StrokeLine2(b.LineStyle, x-b.Cap/2, y, x+b.Cap/2, y)
+	}
+}
+
+// plotRanges gives the axes' ranges: distance from 0 to 5 % past the
+// longest line; residuals over every point with its error bar, zero, and
+// the fitted line at both ends of the distance axis, with room above for
+// the legend. A range that would be empty is widened to 1 mm.
+func plotRanges(s *Summary, sets ...residualPoints) (xMin, xMax, yMin, yMax float64) {
+	yMin, yMax = 0, 0
+	for _, set := range sets {
+		for i, pt := range set.XYs {
+			xMax = math.Max(xMax, pt.X)
+			yMin = math.Min(yMin, pt.Y-set.Bars[i])
+			yMax = math.Max(yMax, pt.Y+set.Bars[i])
+		}
+	}
+	if xMax <= 0 {
+		xMax = 1
+	}
+	xMax *= 1.05
+	if s.Fit != nil && finite(s.Fit.ConstantMM) && finite(s.Fit.ScalePPM) {
+		for _, d := range []float64{xMin, xMax} {
+			y := s.Fit.ConstantMM + s.Fit.ScalePPM*d/1000
+			yMin, yMax = math.Min(yMin, y), math.Max(yMax, y)
+		}
+	}
+	span := yMax - yMin
+	if span <= 0 {
+		span = 1
+	}
+	return xMin, xMax, yMin - 0.08*span, yMax + 0.45*span
+}
+
+// fixedTicks puts about six major ticks on round values (1, 2 or 5 times a
+// power of ten) with labels of as many decimals as the step needs, and four
+// minor ticks between majors.
+func fixedTicks(lo, hi float64) []plot.Tick {
+	if !(hi > lo) {
+		return nil
+	}
+	raw := (hi - lo) / 6
+	mag := math.Pow(10, math.Floor(math.Log10(raw)))
+	step := mag
+	for _, m := range []float64{2, 5, 10} {
+		if raw/mag > m*0.75 {
+			step = m * mag
+		}
+	}
+	decimals := max(0, -int(math.Floor(math.Log10(step))))
+	minor := step / 5
+	var ticks []plot.Tick
+	for i := math.Ceil(lo / minor); i*minor <= hi+minor*1e-9; i++ {
+		v := i * minor
+		t := plot.Tick{Value: v}
+		if m := math.Mod(math.Abs(i), 5); m == 0 {
+			t.Label = fixed(v, decimals)
+		}
+		ticks = append(ticks, t)
+	}
+	return ticks
+}
+
+// svgStart matches the XML prolog, the generator comment and the opening
+// <svg> tag that vgsvg writes, which names the SVG and XLink namespaces by
+// URL.
+var svgStart = regexp.MustCompile(`(?s)\A<\?xml[^>]*\?>\s*(<!--.*?-->\s*)?<svg\b[^>]*>`)
+
+// inlineSVG turns a standalone SVG document written by vgsvg into an
+// element for an HTML page: the prolog and generator comment go, the
+// opening tag keeps only the view box (an HTML parser puts <svg> in the SVG
+// namespace itself), and every font family gains generic fallbacks, since
+// the page embeds no font files.
+func inlineSVG(doc []byte) ([]byte, error) {
+	loc := svgStart.FindIndex(doc)
+	if loc == nil {
+		return nil, fmt.Errorf("residual plot: the SVG writer's output does not start with an XML prolog and <svg> tag")
+	}
+	w, h := plotWidth.Points(), plotHeight.Points()
+	var out bytes.Buffer
+	fmt.Fprintf(&out, `<svg viewBox="0 0 %s %s" role="img" aria-labelledby="plot-caption">`,
+		fixed(w, 0), fixed(h, 0))
+	body := strings.ReplaceAll(string(doc[loc[1]:]), "font-family:Liberation Sans;", plotFontFallback)
+	out.WriteString(body)
+	return out.Bytes(), nil
+}
+
+// shortID cuts a point id to plotLabelRunes runes for a plot label.
+func shortID(id string) string {
+	r := []rune(id)
+	if len(r) <= plotLabelRunes {
+		return id
+	}
+	return string(r[:plotLabelRunes-1]) + "…"
+}
+
+// signWord is "+" for a non-negative x and "−" (minus sign) otherwise.
+func signWord(x float64) string {
+	if x < 0 {
+		return "−"
+	}
+	return "+"
+}
+
+// finite reports whether x is neither NaN nor infinite.
+func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
