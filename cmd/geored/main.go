@@ -27,6 +27,7 @@ type command struct {
 
 func commands() []command {
 	return []command{
+		{"reduce", "reduce observation files and compare with control", runReduce},
 		{"inverse", "geodesic and grid inverse between control points", runInverse},
 		{"demo", "run geored on the embedded demo job", runDemo},
 		{"version", "print geored's and PROJ's versions", runVersion},

@@ -127,10 +127,13 @@ func (t *table) fieldError(name, want string, cause error) *FieldError {
 }
 
 // raw is the current row as written, re-joined with commas.
-func (t *table) raw() string {
+func (t *table) raw() string { return joinCSV(t.row) }
+
+// joinCSV writes fields as one CSV row without its line end.
+func joinCSV(fields []string) string {
 	var b strings.Builder
 	w := csv.NewWriter(&b)
-	w.Write(t.row)
+	w.Write(fields)
 	w.Flush()
 	return strings.TrimRight(b.String(), "\n")
 }

@@ -30,7 +30,14 @@ type Observation struct {
 
 	// Meteorology at the instrument and, where recorded, at the target.
 	AtInstrument, AtTarget Weather
+
+	// Fields is the row as read, for the rejects file if a later stage
+	// cannot reduce it.
+	Fields []string
 }
+
+// Raw is the row as written, re-joined as CSV.
+func (o *Observation) Raw() string { return joinCSV(o.Fields) }
 
 // Weather is one end's meteorology.
 type Weather struct {
@@ -173,7 +180,8 @@ func (o *ObsReader) number(i int, want string) (float64, *FieldError) {
 func (o *ObsReader) parse() (Observation, *FieldError) {
 	t := o.t
 	ob := Observation{File: t.file, Line: t.line,
-		From: o.field(o.from), To: o.field(o.to), Instrument: o.field(o.instr), ObsID: o.field(o.obsID)}
+		From: o.field(o.from), To: o.field(o.to), Instrument: o.field(o.instr), ObsID: o.field(o.obsID),
+		Fields: append([]string(nil), t.row...)}
 	if ob.From == "" {
 		return ob, o.bad(o.from, "the id of the instrument station")
 	}

@@ -100,6 +100,8 @@ type Stats struct {
 	MeanMM   float64 `json:"mean_mm"`
 	RMSMM    float64 `json:"rms_mm"`
 	StdDevMM float64 `json:"std_dev_mm"`
+	// MedianMM is the median of the lines' mean residuals: a median over
+	// every observation would need them all in memory.
 	MedianMM float64 `json:"median_mm"`
 	MinMM    float64 `json:"min_mm"`
 	MaxMM    float64 `json:"max_mm"`
@@ -154,6 +156,8 @@ type Line struct {
 	// Flags: "outlier" (|w| over the critical value), "tolerance" (over
 	// the job's tolerance), "spread" (observations disagree).
 	Flags []string `json:"flags,omitempty"`
+
+	gridResidualMM float64 // mean reduced grid distance − grid from control
 }
 
 // Flagged reports whether the line carries any flag.

@@ -38,14 +38,7 @@ func (l InverseLine) BackGridBearing() s1.Angle {
 
 // Inverse computes the inverse between two resolved control points.
 func Inverse(a, b Control, g *geodesic.Geodesic, p *geodesic.Projector) (InverseLine, error) {
-	geo, err := g.Inverse(a.LatLng, b.LatLng)
-	if err != nil {
-		return InverseLine{}, err
-	}
-	inv := reduce.Inverse{Distance: geo.Distance, Azimuth1: geo.Azimuth1, Azimuth2: geo.Azimuth2}
-	gridA := reduce.GridPoint{Easting: a.Grid.Easting, Northing: a.Grid.Northing}
-	gridB := reduce.GridPoint{Easting: b.Grid.Easting, Northing: b.Grid.Northing}
-	line, err := reduce.NewLine(a.LatLng, b.LatLng, inv, gridA, gridB, g.Ellipsoid(), g, p)
+	line, geo, err := NewReduceLine(a, b, g, p)
 	if err != nil {
 		return InverseLine{}, err
 	}

@@ -1,0 +1,196 @@
+package main
+
+import (
+	"flag"
+	"fmt"
+	"strconv"
+	"strings"
+
+	"github.com/geored/geored/io/jobconfig"
+)
+
+// jobFlags are the job settings that can be given as flags; a flag that is
+// set wins over the config file.
+type jobFlags struct {
+	config                                                 string
+	crs, points, out, lengthUnit, angleUnit, datum, geoid  string
+	geoidN, k, critical                                    float64
+	tolerance, atmosphere                                  string
+	workers                                                int
+	profile, wavelength, refAtmos, spec                    string
+	refN, addMM, scalePPM, prismMM, fieldPPM, fieldPrismMM float64
+	set                                                    map[string]bool
+}
+
+func (f *jobFlags) register(fs *flag.FlagSet) {
+	fs.StringVar(&f.config, "config", "", "job settings file (TOML); flags below win over it")
+	fs.StringVar(&f.crs, "crs", "", "projected CRS of the job: EPSG:nnnn or a PROJ string (config: crs)")
+	fs.StringVar(&f.points, "points", "", "points CSV: id and lat,lon[,ellipsoid_height] (degrees, length unit) or easting,northing[,elevation] (CRS unit, length unit), optional geoid_separation (config: points)")
+	fs.StringVar(&f.out, "out", "", "output folder (config: out; default geored-out)")
+	fs.StringVar(&f.lengthUnit, "length-unit", "", "unit of slope distances and heights in the files: m, us-ft (1200/3937 m) or intl-ft (0.3048 m) (config: length_unit; default m)")
+	fs.StringVar(&f.angleUnit, "angle-unit", "", "unit of zenith angles: deg, dms (packed DDD.MMSS), gon or rad (config: angle_unit; default deg)")
+	fs.StringVar(&f.datum, "reduction-datum", "", "ellipsoid (h = H + N) or sea-level (legacy: orthometric heights, the geoid) (config: reduction_datum; default ellipsoid)")
+	fs.StringVar(&f.geoid, "geoid", "", "geoid grid for N: a PROJ grid name or file, or 'none' (config: geoid; default egm96_15.gtx)")
+	fs.Float64Var(&f.geoidN, "geoid-separation-m", 0, "one geoid separation N for the whole job, metres (config: geoid_separation_m)")
+	fs.Float64Var(&f.k, "k", 0, "coefficient of refraction, dimensionless (config: refraction_k; default 0.13)")
+	fs.Float64Var(&f.critical, "critical", 0, "critical value for the standardized residual |w| (config: critical_value; default 3.29, α = 0.1 % two-sided)")
+	fs.StringVar(&f.tolerance, "tolerance", "", "tolerance of a residual: 'A mm + B ppm' (linear, 95 %) or an accuracy class name (config: [tolerance])")
+	fs.StringVar(&f.atmosphere, "default-atmosphere", "", "atmosphere for rows without one: 'T,P,RH' in °C, hPa, % (config: [default_atmosphere])")
+	fs.IntVar(&f.workers, "workers", 0, "worker goroutines; 0 uses every core (config: workers)")
+	fs.StringVar(&f.profile, "instrument", "", "instrument profile the flags below set (config: [instrument.NAME]; default: the job's default_instrument, else 'default')")
+	fs.StringVar(&f.wavelength, "wavelength-um", "", "carrier wavelength of the EDM, µm (config: wavelength_um)")
+	fs.StringVar(&f.refAtmos, "reference-atmosphere", "", "the EDM's reference atmosphere 'T,P,RH' in °C, hPa, % (config: reference_atmosphere)")
+	fs.Float64Var(&f.refN, "reference-refractivity", 0, "the EDM's reference group refractivity N_ref, ppm (config: reference_refractivity)")
+	fs.Float64Var(&f.addMM, "additive-constant-mm", 0, "additive constant from calibration, mm (config: additive_constant_mm)")
+	fs.Float64Var(&f.scalePPM, "scale-ppm", 0, "scale correction from calibration, ppm (config: scale_ppm)")
+	fs.Float64Var(&f.prismMM, "prism-constant-mm", 0, "prism constant of the targets where a row gives none, mm (config: prism_constant_mm)")
+	fs.Float64Var(&f.fieldPPM, "field-ppm", 0, "ppm the field instrument already applied, ppm (config: field_ppm)")
+	fs.Float64Var(&f.fieldPrismMM, "field-prism-constant-mm", 0, "prism constant the field instrument already applied, mm (config: field_prism_constant_mm)")
+	fs.StringVar(&f.spec, "spec", "", "EDM specification 'A mm + B ppm' (RSS, 1σ) (config: spec_mm, spec_ppm)")
+}
+
+// file loads the config file (if any) and lays the set flags over it.
+func (f *jobFlags) file(fs *flag.FlagSet) (jobconfig.File, string, error) {
+	f.set = map[string]bool{}
+	fs.Visit(func(fl *flag.Flag) { f.set[fl.Name] = true })
+	var jf jobconfig.File
+	name := "flags"
+	if f.config != "" {
+		var err error
+		if jf, err = jobconfig.ReadFile(f.config); err != nil {
+			return jf, "", err
+		}
+		name = f.config
+	}
+	str := func(flag string, dst *string, v string) {
+		if f.set[flag] {
+			*dst = v
+		}
+	}
+	num := func(flag string, dst **float64, v float64) {
+		if f.set[flag] {
+			x := v
+			*dst = &x
+		}
+	}
+	str("crs", &jf.CRS, f.crs)
+	str("points", &jf.Points, f.points)
+	str("out", &jf.Out, f.out)
+	str("length-unit", &jf.LengthUnit, f.lengthUnit)
+	str("angle-unit", &jf.AngleUnit, f.angleUnit)
+	str("reduction-datum", &jf.ReductionDatum, f.datum)
+	str("geoid", &jf.Geoid, f.geoid)
+	num("geoid-separation-m", &jf.GeoidSeparationM, f.geoidN)
+	num("k", &jf.RefractionK, f.k)
+	num("critical", &jf.CriticalValue, f.critical)
+	if f.set["workers"] {
+		jf.Workers = f.workers
+	}
+	if f.set["tolerance"] {
+		if a, b, ok := parseAPlusB(f.tolerance); ok {
+			jf.Tolerance = jobconfig.Tolerance{ConstantMM: &a, PPM: &b}
+		} else {
+			jf.Tolerance = jobconfig.Tolerance{Class: f.tolerance}
+		}
+	}
+	if f.set["default-atmosphere"] {
+		a, err := parseAtmosphere("-default-atmosphere", f.atmosphere)
+		if err != nil {
+			return jf, name, err
+		}
+		jf.Atmosphere = &a
+	}
+	if err := f.applyProfile(&jf); err != nil {
+		return jf, name, err
+	}
+	return jf, name, nil
+}
+
+func (f *jobFlags) applyProfile(jf *jobconfig.File) error {
+	any := false
+	for _, n := range []string{"wavelength-um", "reference-atmosphere", "reference-refractivity", "additive-constant-mm", "scale-ppm",
+		"prism-constant-mm", "field-ppm", "field-prism-constant-mm", "spec"} {
+		any = any || f.set[n]
+	}
+	if !any {
+		return nil
+	}
+	name := f.profile
+	if name == "" {
+		name = jf.DefaultInstrument
+	}
+	if name == "" {
+		name = "default"
+	}
+	if jf.Instrument == nil {
+		jf.Instrument = map[string]jobconfig.Instrument{}
+	}
+	in := jf.Instrument[name]
+	if f.set["wavelength-um"] {
+		v, err := strconv.ParseFloat(f.wavelength, 64)
+		if err != nil {
+			return fmt.Errorf("-wavelength-um %q: want a wavelength in µm", f.wavelength)
+		}
+		in.WavelengthUM = v
+	}
+	if f.set["reference-atmosphere"] {
+		a, err := parseAtmosphere("-reference-atmosphere", f.refAtmos)
+		if err != nil {
+			return err
+		}
+		in.ReferenceAtmosphere, in.ReferenceRefractivity, in.ModulationHz, in.UnitLengthM = &a, nil, nil, nil
+	}
+	if f.set["reference-refractivity"] {
+		v := f.refN
+		in.ReferenceRefractivity, in.ReferenceAtmosphere, in.ModulationHz, in.UnitLengthM = &v, nil, nil, nil
+	}
+	set := func(flag string, dst *float64, v float64) {
+		if f.set[flag] {
+			*dst = v
+		}
+	}
+	set("additive-constant-mm", &in.AdditiveConstantMM, f.addMM)
+	set("scale-ppm", &in.ScalePPM, f.scalePPM)
+	set("prism-constant-mm", &in.PrismConstantMM, f.prismMM)
+	set("field-ppm", &in.FieldPPM, f.fieldPPM)
+	set("field-prism-constant-mm", &in.FieldPrismConstantMM, f.fieldPrismMM)
+	if f.set["spec"] {
+		a, b, ok := parseAPlusB(f.spec)
+		if !ok {
+			return fmt.Errorf("-spec %q: want 'A mm + B ppm'", f.spec)
+		}
+		in.SpecMM, in.SpecPPM = a, b
+	}
+	jf.Instrument[name] = in
+	return nil
+}
+
+// parseAPlusB reads "5mm+5ppm", "5 mm + 5 ppm" or "5+5".
+func parseAPlusB(s string) (a, b float64, ok bool) {
+	t := strings.ReplaceAll(strings.ToLower(s), " ", "")
+	parts := strings.Split(t, "+")
+	if len(parts) != 2 {
+		return 0, 0, false
+	}
+	var err1, err2 error
+	a, err1 = strconv.ParseFloat(strings.TrimSuffix(parts[0], "mm"), 64)
+	b, err2 = strconv.ParseFloat(strings.TrimSuffix(parts[1], "ppm"), 64)
+	return a, b, err1 == nil && err2 == nil
+}
+
+// parseAtmosphere reads "T,P,RH".
+func parseAtmosphere(flagName, s string) (jobconfig.Atmosphere, error) {
+	parts := strings.Split(s, ",")
+	if len(parts) != 3 {
+		return jobconfig.Atmosphere{}, fmt.Errorf("%s %q: want 'T,P,RH' in °C, hPa, %%", flagName, s)
+	}
+	v := make([]float64, 3)
+	for i, p := range parts {
+		x, err := strconv.ParseFloat(strings.TrimSpace(p), 64)
+		if err != nil {
+			return jobconfig.Atmosphere{}, fmt.Errorf("%s %q: want 'T,P,RH' in °C, hPa, %%", flagName, s)
+		}
+		v[i] = x
+	}
+	return jobconfig.Atmosphere{TemperatureC: &v[0], PressureHPa: &v[1], HumidityPct: &v[2]}, nil
+}

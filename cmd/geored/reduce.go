@@ -1,0 +1,478 @@
+package main
+
+import (
+	"context"
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
+	"errors"
+	"flag"
+	"fmt"
+	"hash"
+	"io"
+	"os"
+	"path/filepath"
+	"strings"
+	"sync/atomic"
+	"time"
+
+	"github.com/geored/geored/geodesic"
+	"github.com/geored/geored/io/jobconfig"
+	"github.com/geored/geored/io/obsfile"
+	"github.com/geored/geored/io/report"
+	"github.com/geored/geored/io/units"
+	"github.com/geored/geored/reduce/job"
+)
+
+const defaultOut = "geored-out"
+
+// configHelp lists every setting of the job file with its unit.
+const configHelp = `
+Job file (TOML; -config). Paths are relative to the file. Every unit is in
+the key's name:
+  crs                  projected CRS, EPSG:nnnn or a PROJ string
+  points               points CSV
+  observations         list of observation CSVs
+  out                  output folder
+  length_unit          m | us-ft | intl-ft      (slope distances, heights)
+  angle_unit           deg | dms | gon | rad    (zenith angles)
+  reduction_datum      ellipsoid | sea-level
+  geoid                geoid grid name or file, or "none"
+  geoid_separation_m   one N for the job, metres
+  refraction_k         coefficient of refraction (default 0.13)
+  critical_value       critical |w| (default 3.29)
+  workers              0 = every core
+  default_instrument   profile for rows without an instrument column
+  [tolerance]          class = "<accuracy class>", or constant_mm, ppm,
+                       rule = linear|rss (linear), level = 95|1sigma (95)
+  [default_atmosphere] temperature_c (°C), pressure_hpa (hPa), humidity_pct (%)
+  [centring]           instrument_mm, target_mm, height_mm, control_mm (σ, mm),
+                       zenith_arcsec (σ, ″), refraction_k_sigma (σ of k)
+  [instrument.NAME]    wavelength_um (µm); one of reference_atmosphere =
+                       { temperature_c, pressure_hpa, humidity_pct },
+                       reference_refractivity (N_ref, ppm), or modulation_hz
+                       (Hz) with unit_length_m (m); additive_constant_mm,
+                       scale_ppm (calibration); prism_constant_mm (targets);
+                       field_ppm, field_prism_constant_mm (what the field
+                       instrument applied); spec_mm, spec_ppm, spec_rule =
+                       linear|rss (rss), spec_level = 1sigma|95 (1sigma)
+`
+
+func runReduce(args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("reduce", flag.ContinueOnError)
+	var jf jobFlags
+	jf.register(fs)
+	strict := fs.Bool("strict", false, "any rejected row makes the run fail (exit 2)")
+	quiet := fs.Bool("quiet", false, "print nothing but errors")
+	jsonOut := fs.Bool("json", false, "print a one-line machine summary (JSON) on stdout")
+	fs.Usage = func() {
+		fmt.Fprint(stderr, `Usage: geored reduce [flags] [observations.csv ...]
+
+Reduces observed slope distances to the ellipsoid and the map grid, compares
+each with the inverse between the control points, and writes to the output
+folder: reduced.csv (every stage of every observation), lines.csv (per line,
+either direction), rejects.csv (rows that could not be reduced, with the
+reason), summary.json and report.html.
+
+Observation CSV columns: from, to, slope_distance, zenith_angle (required);
+instrument_height, target_height, temperature_c, pressure_hpa, humidity_pct
+(instrument end), temperature_c_to, pressure_hpa_to, humidity_pct_to (target
+end), prism_constant_mm, instrument, obs_id (optional).
+
+Exit status: 0 all within tolerance, 1 results flagged, 2 could not run.
+
+Flags:
+`)
+		fs.PrintDefaults()
+		fmt.Fprint(stderr, configHelp)
+		fmt.Fprintln(stderr, "\nResults support, and do not replace, the judgement of a licensed surveyor;\nlocal regulations and standards govern.")
+	}
+	if err := fs.Parse(args); err != nil {
+		if errors.Is(err, flag.ErrHelp) {
+			return exitOK
+		}
+		return exitFailed
+	}
+	file, name, err := jf.file(fs)
+	if err != nil {
+		return fail(stderr, "reduce", err)
+	}
+	if jf.config != "" { // paths in the config file are relative to it
+		base := filepath.Dir(jf.config)
+		rel := func(p string) string {
+			if p == "" || filepath.IsAbs(p) {
+				return p
+			}
+			return filepath.Join(base, p)
+		}
+		if !jf.set["points"] {
+			file.Points = rel(file.Points)
+		}
+		if !jf.set["out"] {
+			file.Out = rel(file.Out)
+		}
+		for i, o := range file.Observations {
+			file.Observations[i] = rel(o)
+		}
+	}
+	file.Observations = append(file.Observations, fs.Args()...)
+	if file.Out == "" {
+		file.Out = defaultOut
+	}
+	j, err := jobconfig.Resolve(file, name)
+	if err != nil {
+		return fail(stderr, "reduce", err)
+	}
+	opts := reduceOptions{strict: *strict, progress: !*quiet && isTerminal(stderr)}
+	if !*quiet {
+		opts.warn = stderr
+	}
+	sum, err := reduceJob(j, opts)
+	if err != nil {
+		return fail(stderr, "reduce", err)
+	}
+	if *jsonOut {
+		b, _ := json.Marshal(machineSummary(sum, j.Out))
+		fmt.Fprintf(stdout, "%s\n", b)
+	} else if !*quiet {
+		printVerdict(stdout, sum, j.Out)
+	}
+	return sum.ExitStatus
+}
+
+type reduceOptions struct {
+	strict   bool
+	progress bool
+	warn     io.Writer // nil: silent
+	inputs   []job.Source
+	labels   []string // names of inputs given as readers (embedded demo)
+	points   io.Reader
+}
+
+// reduceJob runs a job into its output folder and returns the summary.
+func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
+	if !j.HasTolerance {
+		return nil, errors.New("the job has no tolerance: give [tolerance] class, or constant_mm and ppm (or -tolerance)")
+	}
+	if len(j.Profiles) == 0 {
+		return nil, errors.New("the job has no instrument profile: give [instrument.NAME] with wavelength_um, a reference, spec_mm and spec_ppm (or the instrument flags)")
+	}
+	if j.Points == "" && opt.points == nil {
+		return nil, errors.New("no points file: give points in the config or -points")
+	}
+	if len(j.Observations) == 0 && len(opt.inputs) == 0 {
+		return nil, errors.New("no observation files: name them after the flags or in the config's observations")
+	}
+	geoidGrid := j.Geoid
+	if geoidGrid == "" && j.HasConstantN {
+		geoidGrid = "none"
+	}
+	s, err := openSession(j.CRS, geoidGrid, j.LengthUnit)
+	if err != nil {
+		return nil, err
+	}
+	defer s.close()
+
+	sum := &report.Summary{Tool: "geored", Version: version(), ProjVersion: projVersion(), Caution: report.Caution}
+	warn := func(w obsfile.Warning) {
+		sum.Warnings = append(sum.Warnings, w.String())
+		if opt.warn != nil {
+			fmt.Fprintf(opt.warn, "warning: %s\n", w)
+		}
+	}
+
+	// Points: read whole (they are held), hashed.
+	pointsName, pointsData := j.Points, []byte(nil)
+	if opt.points != nil {
+		pointsName = "points.csv"
+		pointsData, err = io.ReadAll(opt.points)
+	} else {
+		pointsData, err = os.ReadFile(j.Points)
+	}
+	if err != nil {
+		return nil, err
+	}
+	pts, warnings, err := obsfile.ReadPoints(strings.NewReader(string(pointsData)), pointsName, obsfile.PointOptions{
+		GridUnit: units.LengthUnit(s.crs.MetresPerUnit()), HeightUnit: j.LengthUnit})
+	for _, w := range warnings {
+		warn(w)
+	}
+	if err != nil {
+		return nil, err
+	}
+	seps := job.Separations{Grid: s.geoid, Constant: j.ConstantN, HasConstant: j.HasConstantN}
+	control, err := job.ResolveControl(pts, pointsName, s.proj, seps)
+	if err != nil {
+		return nil, err
+	}
+	plan, err := job.NewPlan(j, s.crs, s.geod, control)
+	if err != nil {
+		return nil, err
+	}
+	ph := sha256.Sum256(pointsData)
+	sum.Inputs = append(sum.Inputs, report.InputFile{Role: "points", Path: pointsName, SHA256: hex.EncodeToString(ph[:]), Rows: len(pts)})
+
+	// Observation sources, hashed and counted as they stream.
+	var sources []job.Source
+	var hashes []hash.Hash
+	var total int64
+	var read atomic.Int64
+	for _, path := range j.Observations {
+		f, err := os.Open(path)
+		if err != nil {
+			return nil, err
+		}
+		defer f.Close()
+		if st, err := f.Stat(); err == nil {
+			total += st.Size()
+		}
+		h := sha256.New()
+		hashes = append(hashes, h)
+		sources = append(sources, job.Source{Name: path, Reader: io.TeeReader(&countingReader{r: f, n: &read}, h)})
+	}
+	for i, src := range opt.inputs {
+		h := sha256.New()
+		hashes = append(hashes, h)
+		sources = append(sources, job.Source{Name: opt.labels[i], Reader: io.TeeReader(src.Reader, h)})
+	}
+
+	if err := os.MkdirAll(j.Out, 0o755); err != nil {
+		return nil, err
+	}
+	out := newOutputs(j.Out)
+	defer out.abort()
+	reduced, err := out.create("reduced.csv")
+	if err != nil {
+		return nil, err
+	}
+	rejects, err := out.create("rejects.csv")
+	if err != nil {
+		return nil, err
+	}
+	u := report.Units{Length: j.LengthUnit, Angle: j.AngleUnit}
+	reduced.Write(report.AppendHeader(nil, report.ReducedHeader(u)))
+	rejects.Write(report.AppendHeader(nil, report.RejectsHeader))
+
+	agg := report.NewAggregator(j.Critical, j.Tolerance, j.HasTolerance)
+	rowsPerSource := make(map[string]int)
+	var buf []byte
+	var rows atomic.Int64
+	stop := startProgress(opt.progress, &read, &rows, total)
+	err = job.Run(context.Background(), plan, sources, warn, func(r *job.Result) error {
+		buf = buf[:0]
+		if r.Rejected {
+			buf = report.AppendRejectRow(buf, r)
+			_, err := rejects.Write(buf)
+			rowsPerSource[r.File]++
+			agg.Add(r)
+			rows.Add(1)
+			return err
+		}
+		buf = report.AppendReducedRow(buf, r, u)
+		_, err := reduced.Write(buf)
+		rowsPerSource[r.Obs.File]++
+		agg.Add(r)
+		rows.Add(1)
+		return err
+	})
+	stop()
+	if err != nil {
+		return nil, err
+	}
+	for i, src := range sources {
+		sum.Inputs = append(sum.Inputs, report.InputFile{Role: "observations", Path: src.Name, SHA256: hex.EncodeToString(hashes[i].Sum(nil)), Rows: rowsPerSource[src.Name]})
+	}
+	sum.Settings = settings(j, s.crs, geoidGrid, opt.strict)
+	sum.InputHash = inputHash(sum)
+	agg.Finish(sum)
+	switch {
+	case opt.strict && sum.Counts.Rejected > 0:
+		sum.ExitStatus = exitFailed
+	case sum.Counts.Flagged > 0 || sum.Counts.FlaggedLines > 0:
+		sum.ExitStatus = exitFlagged
+	}
+
+	lines, err := out.create("lines.csv")
+	if err != nil {
+		return nil, err
+	}
+	lines.Write(report.AppendHeader(nil, report.LinesHeader(u)))
+	for i := range sum.Lines {
+		lines.Write(report.AppendLineRow(buf[:0], &sum.Lines[i], u))
+	}
+	js, err := out.create("summary.json")
+	if err != nil {
+		return nil, err
+	}
+	if err := report.WriteJSON(js, sum); err != nil {
+		return nil, err
+	}
+	html, err := out.create("report.html")
+	if err != nil {
+		return nil, err
+	}
+	if err := report.WriteHTML(html, sum); err != nil {
+		return nil, err
+	}
+	if err := out.commit(); err != nil {
+		return nil, err
+	}
+	if opt.strict && sum.Counts.Rejected > 0 {
+		return sum, fmt.Errorf("%d row(s) rejected and -strict is set: see %s", sum.Counts.Rejected, filepath.Join(j.Out, "rejects.csv"))
+	}
+	return sum, nil
+}
+
+// settings records the job's settings as used.
+func settings(j *jobconfig.Job, crs *geodesic.CRS, geoidGrid string, strict bool) report.Settings {
+	geoid := geoidGrid
+	switch {
+	case geoidGrid == "none" && j.HasConstantN:
+		geoid = fmt.Sprintf("constant N = %g m", j.ConstantN)
+	case geoidGrid == "none":
+		geoid = "none"
+	case geoidGrid == "":
+		geoid = geodesic.DefaultGeoidGrid
+	}
+	atm := "none"
+	if j.HasDefaultAtmosphere {
+		a := j.DefaultAtmosphere
+		atm = fmt.Sprintf("%g °C, %g hPa, %g %%", a.TemperatureC, a.PressureHPa, a.HumidityPct)
+	}
+	st := report.Settings{CRS: j.CRS, CRSName: crs.Name(), Datum: crs.Datum(), Ellipsoid: crs.Ellipsoid().String(),
+		ReductionDatum: j.Datum.String(), LengthUnit: j.LengthUnit.String(), AngleUnit: j.AngleUnit.String(), Geoid: geoid,
+		RefractionK: j.K, CriticalValue: j.Critical, Tolerance: j.ToleranceText, DefaultAtmos: atm, Strict: strict}
+	for _, n := range j.ProfileNames() {
+		p := j.Profiles[n]
+		st.Instruments = append(st.Instruments, report.InstrumentSettings{
+			Name: n, WavelengthUM: p.Chain.Carrier.WavelengthUM, ReferenceRefractivity: p.Chain.Carrier.ReferenceRefractivity,
+			AdditiveConstantMM: p.Source.AdditiveConstantMM, ScalePPM: p.Source.ScalePPM, PrismConstantMM: p.Source.PrismConstantMM,
+			AppliedPPM: p.Source.FieldPPM, AppliedPrismMM: p.Source.FieldPrismConstantMM, Spec: jobconfig.SpecText(p.Chain.Budget.Instrument)})
+	}
+	return st
+}
+
+// inputHash is the SHA-256 over the inputs' hashes (not their paths) and
+// the settings: the identity of the job.
+func inputHash(s *report.Summary) string {
+	h := sha256.New()
+	for _, in := range s.Inputs {
+		fmt.Fprintf(h, "%s %s\n", in.Role, in.SHA256)
+	}
+	b, _ := json.Marshal(s.Settings)
+	h.Write(b)
+	return hex.EncodeToString(h.Sum(nil))
+}
+
+// outputs are the run's files, committed together at the end.
+type outputs struct {
+	dir   string
+	files []*report.AtomicFile
+}
+
+func newOutputs(dir string) *outputs { return &outputs{dir: dir} }
+
+func (o *outputs) create(name string) (*report.AtomicFile, error) {
+	f, err := report.CreateAtomic(filepath.Join(o.dir, name))
+	if err != nil {
+		return nil, err
+	}
+	o.files = append(o.files, f)
+	return f, nil
+}
+
+func (o *outputs) commit() error {
+	for _, f := range o.files {
+		if err := f.Commit(); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+func (o *outputs) abort() {
+	for _, f := range o.files {
+		f.Abort()
+	}
+}
+
+type countingReader struct {
+	r io.Reader
+	n *atomic.Int64
+}
+
+func (c *countingReader) Read(p []byte) (int, error) {
+	n, err := c.r.Read(p)
+	c.n.Add(int64(n))
+	return n, err
+}
+
+func isTerminal(w io.Writer) bool {
+	f, ok := w.(*os.File)
+	if !ok {
+		return false
+	}
+	st, err := f.Stat()
+	return err == nil && st.Mode()&os.ModeCharDevice != 0
+}
+
+// startProgress prints rows per second and the share of bytes read on the
+// terminal every half second; the returned function stops it.
+func startProgress(on bool, read, rows *atomic.Int64, total int64) func() {
+	if !on {
+		return func() {}
+	}
+	done := make(chan struct{})
+	finished := make(chan struct{})
+	start := time.Now()
+	go func() {
+		defer close(finished)
+		t := time.NewTicker(500 * time.Millisecond)
+		defer t.Stop()
+		for {
+			select {
+			case <-done:
+				fmt.Fprint(os.Stderr, "\r\033[K")
+				return
+			case <-t.C:
+				el := time.Since(start).Seconds()
+				pct := 0.0
+				if total > 0 {
+					pct = 100 * float64(read.Load()) / float64(total)
+				}
+				fmt.Fprintf(os.Stderr, "\r\033[Kreducing: %5.1f %% of bytes, %d rows, %.0f rows/s", pct, rows.Load(), float64(rows.Load())/el)
+			}
+		}
+	}()
+	return func() { close(done); <-finished }
+}
+
+// machineSummary is the one-line JSON of -json.
+func machineSummary(s *report.Summary, out string) map[string]any {
+	return map[string]any{
+		"exit_status": s.ExitStatus, "read": s.Counts.Read, "reduced": s.Counts.Reduced, "rejected": s.Counts.Rejected,
+		"flagged": s.Counts.Flagged, "lines": s.Counts.Lines, "flagged_lines": s.Counts.FlaggedLines,
+		"input_hash": s.InputHash, "out": out, "report": filepath.Join(out, "report.html"),
+	}
+}
+
+// printVerdict prints the run's outcome for a person.
+func printVerdict(w io.Writer, s *report.Summary, out string) {
+	c := s.Counts
+	fmt.Fprintf(w, "read %d rows: %d reduced, %d rejected; %d of %d lines flagged, %d observations flagged\n",
+		c.Read, c.Reduced, c.Rejected, c.FlaggedLines, c.Lines, c.Flagged)
+	if e := s.Residuals.Ellipsoid; e.N > 0 {
+		fmt.Fprintf(w, "residuals (reduced − control, ellipsoid): mean %.1f mm, rms %.1f mm, max |w| %.2f\n", e.MeanMM, e.RMSMM, e.MaxAbsW)
+	}
+	if f := s.Fit; f != nil {
+		fmt.Fprintf(w, "fit over %d lines: constant %.1f ± %.1f mm, scale %.2f ± %.2f ppm\n", f.N, f.ConstantMM, f.ConstantSigma, f.ScalePPM, f.ScaleSigma)
+	}
+	for _, l := range s.Lines {
+		if !l.Flagged() {
+			break
+		}
+		fmt.Fprintf(w, "  flagged %s – %s: %+.1f mm (%+.1f ppm), max |w| %.1f, %s\n", l.From, l.To, l.ResidualMM, l.ResidualPPM, l.MaxAbsW, strings.Join(l.Flags, ", "))
+	}
+	fmt.Fprintf(w, "outputs in %s; report: %s\n", out, filepath.Join(out, "report.html"))
+	fmt.Fprintln(w, report.Caution)
+}

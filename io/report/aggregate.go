@@ -1,0 +1,234 @@
+package report
+
+import (
+	"math"
+	"sort"
+
+	"github.com/golang/geo/s1"
+
+	"github.com/geored/geored/reduce"
+	"github.com/geored/geored/reduce/job"
+)
+
+// An Aggregator gathers, in input order, what the summary and lines.csv
+// say about a run: counts, residual statistics, one record per line
+// (either direction) and the fit of residuals against distance. It holds
+// one record per line and a few sums, never the observations.
+type Aggregator struct {
+	critical  float64
+	tolerance reduce.DistanceSpec
+	hasTol    bool
+
+	counts    Counts
+	ell, grid statsAcc
+	lines     map[[2]string]*lineAcc
+	order     []*lineAcc
+}
+
+// NewAggregator prepares for a job with the given critical value for |w|
+// and tolerance (hasTolerance false: no tolerance test).
+func NewAggregator(critical float64, tolerance reduce.DistanceSpec, hasTolerance bool) *Aggregator {
+	return &Aggregator{critical: critical, tolerance: tolerance, hasTol: hasTolerance, lines: map[[2]string]*lineAcc{}}
+}
+
+// lineAcc accumulates one line's observations.
+type lineAcc struct {
+	from, to string
+	geodesic float64
+	grid     float64
+	radius   float64
+	n        int
+	mean, m2 float64 // Welford: mean reduced arc and sum of squared deviations
+	gridMean float64 // mean reduced grid distance
+	min, max float64
+	sumVar   float64 // Σσ² of the observations
+	maxAbsW  float64
+	outliers int
+	outOfTol int
+	dir      [2]dirAcc // [0]: from → to as first seen; [1]: the other way
+}
+
+// dirAcc holds one direction's sums for reciprocal zenith angles.
+type dirAcc struct {
+	n                  int
+	zenith, slope, hgt float64 // sums of zenith (rad), chord S3 and instrument-axis height
+}
+
+// statsAcc accumulates residual statistics.
+type statsAcc struct {
+	n            int
+	mean, m2, sq float64 // mm
+	min, max     float64 // mm
+	sumPPM       float64
+	maxAbsW      float64
+}
+
+func (s *statsAcc) add(mm, ppm, w float64) {
+	s.n++
+	d := mm - s.mean
+	s.mean += d / float64(s.n)
+	s.m2 += d * (mm - s.mean)
+	s.sq += mm * mm
+	if s.n == 1 || mm < s.min {
+		s.min = mm
+	}
+	if s.n == 1 || mm > s.max {
+		s.max = mm
+	}
+	s.sumPPM += ppm
+	s.maxAbsW = math.Max(s.maxAbsW, math.Abs(w))
+}
+
+func (s *statsAcc) stats() Stats {
+	if s.n == 0 {
+		return Stats{}
+	}
+	st := Stats{N: s.n, MeanMM: s.mean, RMSMM: math.Sqrt(s.sq / float64(s.n)), MinMM: s.min, MaxMM: s.max,
+		MeanPPM: s.sumPPM / float64(s.n), MaxAbsW: s.maxAbsW}
+	if s.n > 1 {
+		st.StdDevMM = math.Sqrt(s.m2 / float64(s.n-1))
+	}
+	return st
+}
+
+// Add takes one result, in input order.
+func (a *Aggregator) Add(r *job.Result) {
+	a.counts.Read++
+	if r.Rejected {
+		a.counts.Rejected++
+		return
+	}
+	a.counts.Reduced++
+	red := &r.Reduction
+	e := &red.EllipsoidResidual
+	if e.Outlier || (a.hasTol && e.OutOfTolerance) {
+		a.counts.Flagged++
+	}
+	a.ell.add(e.Residual*1e3, e.PPM, e.Standardized)
+	a.grid.add(red.GridResidual.Residual*1e3, red.GridResidual.PPM, red.GridResidual.Standardized)
+
+	key, dir := [2]string{r.Obs.From, r.Obs.To}, 0
+	l := a.lines[key]
+	if l == nil {
+		if l = a.lines[[2]string{r.Obs.To, r.Obs.From}]; l != nil {
+			dir = 1
+		}
+	}
+	if l == nil {
+		l = &lineAcc{from: r.Obs.From, to: r.Obs.To, geodesic: r.Line.Inverse.Distance, grid: r.Line.GridDistance, radius: r.Line.Radius}
+		a.lines[key] = l
+		a.order = append(a.order, l)
+	}
+	arc := red.Geometry.Arc
+	l.n++
+	d := arc - l.mean
+	l.mean += d / float64(l.n)
+	l.m2 += d * (arc - l.mean)
+	if l.n == 1 || arc < l.min {
+		l.min = arc
+	}
+	if l.n == 1 || arc > l.max {
+		l.max = arc
+	}
+	l.gridMean += (red.Grid.GridDistance - l.gridMean) / float64(l.n)
+	l.sumVar += e.Sigma * e.Sigma
+	l.maxAbsW = math.Max(l.maxAbsW, math.Abs(e.Standardized))
+	if e.Outlier {
+		l.outliers++
+	}
+	if a.hasTol && e.OutOfTolerance {
+		l.outOfTol++
+	}
+	dd := &l.dir[dir]
+	dd.n++
+	dd.zenith += float64(r.Obs.Zenith)
+	dd.slope += red.SecondVelocity.Distance
+	dd.hgt += red.Heights.HeightA
+}
+
+// Line flags.
+const (
+	FlagOutlier   = "outlier"   // an observation's |w| is over the critical value
+	FlagTolerance = "tolerance" // an observation or the mean is over the job's tolerance
+	FlagSpread    = "spread"    // the observations disagree more than their σ allows
+)
+
+func (a *Aggregator) line(l *lineAcc) Line {
+	out := Line{From: l.from, To: l.to, Count: l.n, Reciprocal: l.dir[0].n > 0 && l.dir[1].n > 0,
+		Geodesic: l.geodesic, Grid: l.grid, MeanArc: l.mean, SpreadMM: (l.max - l.min) * 1e3,
+		MaxAbsW: l.maxAbsW}
+	if l.n > 1 {
+		out.StdDevMM = math.Sqrt(l.m2/float64(l.n-1)) * 1e3
+	}
+	res := l.mean - l.geodesic
+	sigmaObs := math.Sqrt(l.sumVar / float64(l.n)) // typical σ of one observation
+	sigmaMean := math.Sqrt(l.sumVar) / float64(l.n)
+	out.ResidualMM, out.ResidualPPM, out.SigmaMM = res*1e3, res/l.geodesic*1e6, sigmaMean*1e3
+	out.gridResidualMM = (l.gridMean - l.grid) * 1e3
+	if out.Reciprocal {
+		f, b := l.dir[0], l.dir[1]
+		slope := (f.slope/float64(f.n) + b.slope/float64(b.n)) / 2
+		rr, err := reduce.Reciprocal(slope, s1.Angle(f.zenith/float64(f.n)), s1.Angle(b.zenith/float64(b.n)), f.hgt/float64(f.n), l.radius)
+		if err == nil {
+			k := rr.K
+			out.K = &k
+		}
+	}
+	if l.outliers > 0 {
+		out.Flags = append(out.Flags, FlagOutlier)
+	}
+	tolFlag := l.outOfTol > 0
+	if a.hasTol && !tolFlag {
+		if t, err := a.tolerance.At(l.geodesic); err == nil && math.Abs(res) > t {
+			tolFlag = true
+		}
+	}
+	if tolFlag {
+		out.Flags = append(out.Flags, FlagTolerance)
+	}
+	// Two observations of one line differ by more than critical·√2·σ
+	// only by chance α; the range of n behaves alike to first order.
+	if l.n > 1 && l.max-l.min > a.critical*math.Sqrt2*sigmaObs {
+		out.Flags = append(out.Flags, FlagSpread)
+	}
+	return out
+}
+
+// Finish completes the summary's counts, statistics, lines (flagged
+// first, then in the order first observed) and fit.
+func (a *Aggregator) Finish(s *Summary) {
+	lines := make([]Line, len(a.order))
+	for i, l := range a.order {
+		lines[i] = a.line(l)
+	}
+	sort.SliceStable(lines, func(i, j int) bool { return lines[i].Flagged() && !lines[j].Flagged() })
+	s.Lines = lines
+	s.Counts = a.counts
+	s.Counts.Lines = len(lines)
+	for _, l := range lines {
+		if l.Flagged() {
+			s.Counts.FlaggedLines++
+		}
+	}
+	s.Residuals = ResidualStats{Ellipsoid: a.ell.stats(), Grid: a.grid.stats()}
+	s.Residuals.Ellipsoid.MedianMM = median(lines, func(l Line) float64 { return l.ResidualMM })
+	s.Residuals.Grid.MedianMM = median(lines, func(l Line) float64 { return l.gridResidualMM })
+	s.Fit = FitResiduals(lines, a.critical)
+}
+
+// median is the median of a value of the lines.
+func median(lines []Line, value func(Line) float64) float64 {
+	if len(lines) == 0 {
+		return 0
+	}
+	v := make([]float64, len(lines))
+	for i, l := range lines {
+		v[i] = value(l)
+	}
+	sort.Float64s(v)
+	n := len(v)
+	if n%2 == 1 {
+		return v[n/2]
+	}
+	return (v[n/2-1] + v[n/2]) / 2
+}

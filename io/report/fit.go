@@ -1,0 +1,70 @@
+package report
+
+import "math"
+
+// FitResiduals fits residual = constant + scale · distance to the lines'
+// mean residuals by weighted least squares (weights 1/σ²), removing the
+// worst line while its standardized residual from the fit exceeds critical,
+// so that a few blunders do not bend the fit while a systematic error
+// common to all lines (a wrong prism constant, a wrong ppm) stays in it.
+// σ of the terms come from the a posteriori variance factor. It returns
+// nil with fewer than three lines or without a spread of distances.
+//
+//	[Σw   Σwx ] [c]   [Σwy ]
+//	[Σwx  Σwx²] [s] = [Σwxy],  s0² = Σw v² / (n − 2),  C = s0² N⁻¹
+func FitResiduals(lines []Line, critical float64) *Fit {
+	type pt struct{ x, y, w float64 }
+	var pts []pt
+	for _, l := range lines {
+		if l.SigmaMM > 0 {
+			pts = append(pts, pt{x: l.Geodesic, y: l.ResidualMM, w: 1 / (l.SigmaMM * l.SigmaMM)})
+		}
+	}
+	for {
+		if len(pts) < 3 {
+			return nil
+		}
+		var sw, swx, swxx, swy, swxy float64
+		for _, p := range pts {
+			sw += p.w
+			swx += p.w * p.x
+			swxx += p.w * p.x * p.x
+			swy += p.w * p.y
+			swxy += p.w * p.x * p.y
+		}
+		det := sw*swxx - swx*swx
+		if !(det > 1e-12*sw*swxx) { // all lines of (nearly) one length
+			return nil
+		}
+		c := (swxx*swy - swx*swxy) / det
+		s := (sw*swxy - swx*swy) / det
+		var vpv float64
+		worst, worstT := -1, 0.0
+		for i, p := range pts {
+			v := p.y - (c + s*p.x)
+			vpv += p.w * v * v
+			// σ of the residual v: σ² − the fit's variance at x.
+			fitVar := (swxx - 2*p.x*swx + p.x*p.x*sw) / det
+			qv := 1/p.w - fitVar
+			if qv > 0 {
+				if t := math.Abs(v) / math.Sqrt(qv); t > worstT {
+					worst, worstT = i, t
+				}
+			}
+		}
+		n := len(pts)
+		s0sq := vpv / float64(n-2)
+		// Data snooping with the a priori σ (Baarda): the a posteriori
+		// factor would be inflated by the very blunder being sought.
+		if worstT > critical && n > 3 {
+			pts = append(pts[:worst], pts[worst+1:]...)
+			continue
+		}
+		sc := math.Sqrt(s0sq * swxx / det)
+		ss := math.Sqrt(s0sq*sw/det) * 1e3 // mm per m → ppm
+		f := &Fit{N: n, ConstantMM: c, ConstantSigma: sc, ScalePPM: s * 1e3, ScaleSigma: ss, VarianceFactor: s0sq}
+		f.ConstantSignificant = sc > 0 && math.Abs(c)/sc > critical
+		f.ScaleSignificant = ss > 0 && math.Abs(f.ScalePPM)/ss > critical
+		return f
+	}
+}

@@ -1,0 +1,338 @@
+package job
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"runtime"
+	"sync"
+
+	"github.com/geored/geored/geodesic"
+	"github.com/geored/geored/io/jobconfig"
+	"github.com/geored/geored/io/obsfile"
+	"github.com/geored/geored/reduce"
+)
+
+// A Source is one observation file to read.
+type Source struct {
+	Name   string
+	Reader io.Reader
+}
+
+// Plan is everything a run needs that is fixed for the job: it is built
+// once and shared, read-only, by all workers.
+type Plan struct {
+	Job      *jobconfig.Job
+	CRS      *geodesic.CRS
+	Geodesic *geodesic.Geodesic
+	Control  map[string]Control
+	// Marks are the control points' heights on the job's reduction datum;
+	// a point missing here has no usable height.
+	Marks   map[string]reduce.MarkHeight
+	Workers int // 0: all cores
+}
+
+// NewPlan completes a plan: the marks' heights on the job's datum.
+func NewPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, control map[string]Control) (*Plan, error) {
+	p := &Plan{Job: j, CRS: crs, Geodesic: g, Control: control, Marks: map[string]reduce.MarkHeight{}, Workers: j.Workers}
+	for id, c := range control {
+		m, ok, err := markHeight(c, j.Datum)
+		if err != nil {
+			return nil, fmt.Errorf("point %q (line %d): %w", id, c.Line, err)
+		}
+		if ok {
+			p.Marks[id] = m
+		}
+	}
+	return p, nil
+}
+
+func markHeight(c Control, datum reduce.Datum) (reduce.MarkHeight, bool, error) {
+	sep := reduce.Separation{}
+	if c.HasSeparation {
+		sep.N = c.Separation
+		switch c.HeightSource {
+		case HeightFromPointN:
+			sep.Source = reduce.SeparationPoint
+		case HeightFromConstantN:
+			sep.Source = reduce.SeparationConstant
+		default:
+			sep.Source = reduce.SeparationGrid
+		}
+	}
+	switch {
+	case datum == reduce.DatumSeaLevel && c.HasOrthometric:
+		m, err := reduce.HeightFromOrthometric(datum, c.Orthometric, sep)
+		return m, err == nil, err
+	case datum == reduce.DatumEllipsoid && c.HasHeight():
+		m, err := reduce.HeightFromEllipsoidal(datum, c.Ellipsoidal, sep)
+		return m, err == nil, err
+	}
+	return reduce.MarkHeight{}, false, nil
+}
+
+// A Result is one observation's outcome: a reduction, or the reason it
+// was rejected. Seq is its 0-based position among all rows read.
+type Result struct {
+	Seq       int64
+	Obs       obsfile.Observation
+	Profile   string
+	Line      *reduce.Line // the line's control data (shared: do not modify)
+	Reduction reduce.Reduction
+	// Rejected rows: File and LineNo say where, Raw is the row as written
+	// and Reason why it could not be reduced.
+	Rejected bool
+	File     string
+	LineNo   int
+	Raw      string
+	Reason   string
+}
+
+// A Sink receives every result in input order, from one goroutine.
+type Sink func(*Result) error
+
+const batchSize = 256
+
+type batch struct {
+	seq     int64 // batch number
+	results []Result
+	errs    []error // per row: read error (a *obsfile.RowError) or nil
+}
+
+// Run reduces the observation sources in order, spreading the work over
+// the plan's workers, and hands every result to sink in input order: the
+// outputs do not depend on the number of workers. Observations are
+// streamed; only the batches in flight are held. Warnings from the files'
+// headers go to warn. An error that stops the run (a header without a
+// required column, an unreadable file, the sink's error) is returned.
+func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Warning), sink Sink) error {
+	workers := plan.Workers
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	ctx, cancel := context.WithCancelCause(ctx)
+	defer cancel(nil)
+
+	todo := make(chan *batch, workers*2)
+	done := make(chan *batch, workers*2)
+	free := make(chan *batch, workers*4+2)
+	cache := newLineCache()
+
+	var readErr error
+	go func() { // reader
+		defer close(todo)
+		readErr = readAll(ctx, plan, sources, warn, todo, free)
+		if readErr != nil {
+			cancel(readErr)
+		}
+	}()
+
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Go(func() {
+			p, err := plan.CRS.NewProjector()
+			if err != nil {
+				cancel(err)
+				for range todo { // drain so the reader can finish
+				}
+				return
+			}
+			defer p.Close()
+			for b := range todo {
+				for i := range b.results {
+					reduceOne(plan, cache, p, &b.results[i], b.errs[i])
+				}
+				select {
+				case done <- b:
+				case <-ctx.Done():
+				}
+			}
+		})
+	}
+	go func() { wg.Wait(); close(done) }()
+
+	// Collector: put the batches back in order and feed the sink.
+	pending := map[int64]*batch{}
+	var next int64
+	var sinkErr error
+	for b := range done {
+		pending[b.seq] = b
+		for {
+			nb, ok := pending[next]
+			if !ok {
+				break
+			}
+			delete(pending, next)
+			next++
+			if sinkErr == nil && ctx.Err() == nil {
+				for i := range nb.results {
+					if sinkErr = sink(&nb.results[i]); sinkErr != nil {
+						cancel(sinkErr)
+						break
+					}
+				}
+			}
+			select {
+			case free <- nb:
+			default:
+			}
+		}
+	}
+	if sinkErr != nil {
+		return sinkErr
+	}
+	if err := context.Cause(ctx); err != nil && !errors.Is(err, context.Canceled) {
+		return err
+	}
+	if readErr != nil {
+		return readErr
+	}
+	return ctx.Err()
+}
+
+// readAll reads every source into numbered batches.
+func readAll(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Warning), todo chan<- *batch, free <-chan *batch) error {
+	opt := obsfile.ObsOptions{LengthUnit: plan.Job.LengthUnit, AngleUnit: plan.Job.AngleUnit}
+	var bseq, rowSeq int64
+	b := newBatch(free, bseq)
+	flush := func() bool {
+		if len(b.results) == 0 {
+			return true
+		}
+		select {
+		case todo <- b:
+		case <-ctx.Done():
+			return false
+		}
+		bseq++
+		b = newBatch(free, bseq)
+		return true
+	}
+	for _, src := range sources {
+		r, warnings, err := obsfile.NewObsReader(src.Reader, src.Name, opt)
+		for _, w := range warnings {
+			warn(w)
+		}
+		if err != nil {
+			return err
+		}
+		for {
+			obs, err := r.Next()
+			if errors.Is(err, io.EOF) {
+				break
+			}
+			var re *obsfile.RowError
+			if err != nil && !errors.As(err, &re) {
+				return err
+			}
+			b.results = append(b.results, Result{Seq: rowSeq, Obs: obs})
+			b.errs = append(b.errs, err)
+			rowSeq++
+			if len(b.results) == batchSize && !flush() {
+				return context.Cause(ctx)
+			}
+		}
+	}
+	if !flush() {
+		return context.Cause(ctx)
+	}
+	return nil
+}
+
+func newBatch(free <-chan *batch, seq int64) *batch {
+	select {
+	case b := <-free:
+		b.seq, b.results, b.errs = seq, b.results[:0], b.errs[:0]
+		return b
+	default:
+		return &batch{seq: seq, results: make([]Result, 0, batchSize), errs: make([]error, 0, batchSize)}
+	}
+}
+
+// reduceOne reduces one observation in place, or marks it rejected.
+func reduceOne(plan *Plan, cache *lineCache, p *geodesic.Projector, r *Result, readErr error) {
+	reject := func(reason string) {
+		r.Rejected, r.Reason = true, reason
+		if r.File == "" {
+			r.File, r.LineNo, r.Raw = r.Obs.File, r.Obs.Line, r.Obs.Raw()
+		}
+	}
+	if readErr != nil {
+		var re *obsfile.RowError
+		errors.As(readErr, &re)
+		r.File, r.LineNo, r.Raw = re.Err.File, re.Err.Line, re.Raw
+		reject(re.Error())
+		return
+	}
+	o := &r.Obs
+	where := fileLine{o.File, o.Line}
+	name := o.Instrument
+	if name == "" {
+		name = plan.Job.DefaultInstrument
+	}
+	prof, ok := plan.Job.Profiles[name]
+	if !ok {
+		if name == "" {
+			reject(where.String() + ": no instrument column and no default_instrument in the job")
+		} else {
+			reject(fmt.Sprintf("%s: instrument %q has no [instrument.%s] profile in the job", where, name, name))
+		}
+		return
+	}
+	r.Profile = name
+	a, okA := plan.Control[o.From]
+	b, okB := plan.Control[o.To]
+	switch {
+	case !okA:
+		reject(fmt.Sprintf("%s: station %q is not in the points file", where, o.From))
+		return
+	case !okB:
+		reject(fmt.Sprintf("%s: target %q is not in the points file", where, o.To))
+		return
+	}
+	markA, ok := plan.Marks[o.From]
+	if !ok {
+		reject(fmt.Sprintf("%s: station %q has no height on the reduction datum (%s)", where, o.From, plan.Job.Datum))
+		return
+	}
+	markB := plan.Marks[o.To] // zero: the target's height comes from the zenith angle
+	line, err := cache.get(a, b, plan.Geodesic, p)
+	if err != nil {
+		reject(fmt.Sprintf("%s: line %s → %s: %v", where, o.From, o.To, err))
+		return
+	}
+	r.Line = line
+	prism := prof.PrismConstant
+	if o.HasPrismConstant {
+		prism = o.PrismConstant
+	}
+	obs := reduce.Observation{
+		SlopeDistance:    o.SlopeDistance,
+		Zenith:           o.Zenith,
+		InstrumentHeight: o.InstrumentHeight,
+		TargetHeight:     o.TargetHeight,
+		PrismConstant:    prism,
+		Meteorology: reduce.Meteorology{
+			Instrument:     reduce.Atmosphere{TemperatureC: o.AtInstrument.TemperatureC, PressureHPa: o.AtInstrument.PressureHPa, HumidityPct: o.AtInstrument.HumidityPct},
+			HaveInstrument: o.AtInstrument.Has,
+			Target:         reduce.Atmosphere{TemperatureC: o.AtTarget.TemperatureC, PressureHPa: o.AtTarget.PressureHPa, HumidityPct: o.AtTarget.HumidityPct},
+			HaveTarget:     o.AtTarget.Has,
+		},
+	}
+	if !o.AtInstrument.Has && !o.AtTarget.Has && !plan.Job.HasDefaultAtmosphere {
+		reject(where.String() + ": the row records no temperature, pressure and humidity, and the job has no default_atmosphere")
+		return
+	}
+	if r.Reduction, err = reduce.Reduce(obs, prof.Chain, *line, markA, markB); err != nil {
+		reject(fmt.Sprintf("%s: %v", where, err))
+	}
+}
+
+// fileLine formats as "file:line" only when a message needs it.
+type fileLine struct {
+	file string
+	line int
+}
+
+func (f fileLine) String() string { return fmt.Sprintf("%s:%d", f.file, f.line) }
