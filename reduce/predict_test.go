@@ -60,14 +60,7 @@ func TestPredictReducesToControl(t *testing.T) {
 	rng := reduce.NewRand(t)
 	base := reduce.DemoJob(t)
 	for _, c := range roundTripCRSs {
-		crs, err := geodesic.OpenCRS(c.definition)
-		require.NoErrorf(t, err, "%s", c.name)
-		proj, err := crs.NewProjector()
-		require.NoErrorf(t, err, "%s", c.name)
-		defer proj.Close()
-		ell := crs.Ellipsoid()
-		geod, err := geodesic.NewGeodesic(ell)
-		require.NoErrorf(t, err, "%s", c.name)
+		proj, ell, geod := openRoundTripCRS(t, c)
 
 		var worst struct{ heights, grid, zenith, zenithGrid, target float64 }
 		for i := 0; i < 1000; i++ {
@@ -125,6 +118,21 @@ func TestPredictReducesToControl(t *testing.T) {
 	}
 }
 
+// openRoundTripCRS opens a CRS with its projector (closed at the end of
+// the test), ellipsoid and geodesic.
+func openRoundTripCRS(t testing.TB, c roundTripCRS) (*geodesic.Projector, geodesic.Ellipsoid, *geodesic.Geodesic) {
+	t.Helper()
+	crs, err := geodesic.OpenCRS(c.definition)
+	require.NoErrorf(t, err, "%s", c.name)
+	proj, err := crs.NewProjector()
+	require.NoErrorf(t, err, "%s", c.name)
+	t.Cleanup(proj.Close)
+	ell := crs.Ellipsoid()
+	geod, err := geodesic.NewGeodesic(ell)
+	require.NoErrorf(t, err, "%s", c.name)
+	return proj, ell, geod
+}
+
 func newLine(t testing.TB, geod *geodesic.Geodesic, proj *geodesic.Projector, ell geodesic.Ellipsoid, a, b s2.LatLng) reduce.Line {
 	t.Helper()
 	inv, err := geod.Inverse(a, b)
@@ -150,14 +158,7 @@ func TestPredictAgainstGeocentricChord(t *testing.T) {
 	rng := reduce.NewRand(t)
 	job := reduce.DemoJob(t)
 	c := roundTripCRSs[0]
-	crs, err := geodesic.OpenCRS(c.definition)
-	require.NoError(t, err)
-	proj, err := crs.NewProjector()
-	require.NoError(t, err)
-	defer proj.Close()
-	ell := crs.Ellipsoid()
-	geod, err := geodesic.NewGeodesic(ell)
-	require.NoError(t, err)
+	proj, ell, geod := openRoundTripCRS(t, c)
 	var worstChord, worstZ, worstZs float64
 	for i := 0; i < 300; i++ {
 		a := s2.LatLngFromDegrees(c.latMin+rng.Float64()*(c.latMax-c.latMin), c.lngMin+rng.Float64()*(c.lngMax-c.lngMin))
