@@ -7,7 +7,7 @@ BIN     := bin/geored
 PROJ_DATA_FILE := /usr/share/proj/egm96_15.gtx
 APT_PACKAGES   := pkg-config libproj-dev proj-data
 
-.PHONY: all deps build test demo bench vet clean
+.PHONY: all deps chromium build test demo bench vet clean
 
 all: build
 
@@ -35,8 +35,27 @@ build: deps
 vet: deps
 	$(GO) vet ./...
 
-test: deps vet
-	$(GO) test -race -count=1 ./...
+# chromium: Debian's chromium, for the test that opens report.html in a
+# headless browser (io/report). Only `make test` needs it.
+chromium:
+	@if [ -x /usr/bin/chromium ]; then \
+		echo "chromium: $$(/usr/bin/chromium --version 2>/dev/null | head -n 1) present"; \
+	else \
+		if [ "$$(id -u)" = 0 ]; then SUDO=; \
+		elif command -v sudo >/dev/null 2>&1; then SUDO=sudo; \
+		else echo "chromium: /usr/bin/chromium is missing and this user cannot install it: as root run"; \
+		     echo "      apt-get update && apt-get install -y chromium"; exit 1; fi; \
+		if ! command -v apt-get >/dev/null 2>&1; then \
+			echo "chromium: no apt-get here: install Chromium as /usr/bin/chromium for the report's browser test"; exit 1; fi; \
+		echo "chromium: installing Debian's chromium"; \
+		$$SUDO env DEBIAN_FRONTEND=noninteractive apt-get update -qq && \
+		$$SUDO env DEBIAN_FRONTEND=noninteractive apt-get install -y -qq --no-install-recommends chromium >/dev/null && \
+		[ -x /usr/bin/chromium ] && \
+		echo "chromium: $$(/usr/bin/chromium --version 2>/dev/null | head -n 1) installed"; \
+	fi
+
+test: deps vet chromium
+	GEORED_CHROMIUM_TEST=1 $(GO) test -race -count=1 ./...
 
 demo: build
 	./$(BIN) demo
