@@ -29,6 +29,7 @@ func commands() []command {
 	return []command{
 		{"reduce", "reduce observation files and compare with control", runReduce},
 		{"inverse", "geodesic and grid inverse between control points", runInverse},
+		{"predict", "expected slope distance, zenith angle and horizontal distance from control", runPredict},
 		{"demo", "run geored on the embedded demo job", runDemo},
 		{"version", "print geored's and PROJ's versions", runVersion},
 	}
