@@ -65,4 +65,4 @@ bench: deps
 	$(GO) test -run '^$$' -bench . -benchmem -count 5 ./...
 
 clean:
-	rm -rf bin demo-out
+	rm -rf bin geored-demo geored-out

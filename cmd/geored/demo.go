@@ -7,60 +7,80 @@ import (
 	"fmt"
 	"io"
 
-	"github.com/geored/geored/io/units"
+	"github.com/geored/geored/io/jobconfig"
 	"github.com/geored/geored/reduce/job"
 )
 
-// The demo job: an invented river-crossing control network.
+// The demo job: an invented river-crossing control network in ETRS89 /
+// UTM zone 32N and observations simulated from it (demo_sim_test.go), with
+// three deliberate blunders and two unreadable rows.
 //
-//go:embed demo/points.csv demo/lines.csv
+//go:embed demo/points.csv demo/lines.csv demo/job.toml demo/observations.csv
 var demoFiles embed.FS
 
-const demoCRS = "EPSG:25832"
+const (
+	defaultDemoOut = "geored-demo"
+	demoCRS        = "EPSG:25832"
+)
 
 func runDemo(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("demo", flag.ContinueOnError)
+	out := fs.String("out", defaultDemoOut, "output folder")
+	workers := fs.Int("workers", 0, "worker goroutines; 0 uses every core")
+	quiet := fs.Bool("quiet", false, "print nothing but errors")
 	fs.Usage = func() {
-		fmt.Fprintln(stderr, "Usage: geored demo\n\nRuns geored on its embedded demo job: an invented river-crossing control")
-		fmt.Fprintln(stderr, "network in ETRS89 / UTM zone 32N.")
+		fmt.Fprintln(stderr, "Usage: geored demo [-out DIR]\n\nReduces the embedded demo job — an invented river-crossing control network in")
+		fmt.Fprintln(stderr, "ETRS89 / UTM zone 32N with simulated observations and three deliberate blunders —")
+		fmt.Fprintln(stderr, "into DIR and names its report. It exits 0 when the run completed: its flags are")
+		fmt.Fprintln(stderr, "expected.\n\nFlags:")
+		fs.PrintDefaults()
 	}
 	if ok, code := parseFlags(fs, args, stderr); !ok {
 		return code
 	}
-	s, err := openSession(demoCRS, "", units.Metre)
+	j, err := demoJob(*out, *workers)
 	if err != nil {
 		return fail(stderr, "demo", err)
 	}
-	defer s.close()
 	points, _ := demoFiles.ReadFile("demo/points.csv")
-	if err := s.loadPoints(bytes.NewReader(points), "demo/points.csv", stderr); err != nil {
-		return fail(stderr, "demo", err)
+	obs, _ := demoFiles.ReadFile("demo/observations.csv")
+	opt := reduceOptions{
+		points:     bytes.NewReader(points),
+		pointsName: "demo/points.csv",
+		inputs:     []job.Source{{Name: "demo/observations.csv", Reader: bytes.NewReader(obs)}},
 	}
-	linesCSV, _ := demoFiles.ReadFile("demo/lines.csv")
-	pairs, err := readLinePairs(bytes.NewReader(linesCSV), "demo/lines.csv")
+	if !*quiet {
+		opt.warn = stderr
+	}
+	sum, err := reduceJob(j, opt)
 	if err != nil {
 		return fail(stderr, "demo", err)
 	}
-	var lines []job.InverseLine
-	for _, pr := range pairs {
-		a, err := s.point(pr[0])
-		if err != nil {
-			return fail(stderr, "demo", err)
-		}
-		b, err := s.point(pr[1])
-		if err != nil {
-			return fail(stderr, "demo", err)
-		}
-		l, err := job.Inverse(a, b, s.geod, s.proj)
-		if err != nil {
-			return fail(stderr, "demo", err)
-		}
-		lines = append(lines, l)
-	}
-	fmt.Fprintf(stdout, "geored demo: inverse of the %d lines of an invented river-crossing network\n", len(lines))
-	fmt.Fprintf(stdout, "(control heights h = H + N, N from the EGM96 geoid grid %s)\n\n", s.geoid.Grid())
-	if err := writeInverseTable(stdout, s, lines, units.Metre); err != nil {
-		return fail(stderr, "demo", err)
+	if !*quiet {
+		fmt.Fprintln(stdout, "geored demo: an invented river-crossing network, reduced from simulated observations")
+		fmt.Fprintln(stdout, "with three deliberate blunders (a booking slip, a wrong prism, a wrong target id)")
+		fmt.Fprintln(stdout, "and two rows that cannot be reduced.")
+		fmt.Fprintln(stdout)
+		printVerdict(stdout, sum, j.Out)
 	}
 	return exitOK
+}
+
+// demoJob is the embedded job, writing to out.
+func demoJob(out string, workers int) (*jobconfig.Job, error) {
+	text, err := demoFiles.ReadFile("demo/job.toml")
+	if err != nil {
+		return nil, err
+	}
+	f, err := jobconfig.Parse(text, "demo/job.toml")
+	if err != nil {
+		return nil, err
+	}
+	f.Out, f.Workers = out, workers
+	j, err := jobconfig.Resolve(f, "demo/job.toml")
+	if err != nil {
+		return nil, err
+	}
+	j.Points, j.Observations = "", nil // read from the binary
+	return j, nil
 }

@@ -23,13 +23,19 @@ func runCmd(t *testing.T, args ...string) (int, string, string) {
 	return code, out.String(), errb.String()
 }
 
-func TestDemoPrintsComputedInverse(t *testing.T) {
-	code, out, stderr := runCmd(t, "demo")
+// The demo network's inverse: its grid distances are plane distances
+// between its own grid coordinates, e.g. NB-PILLAR1 → SB-PILLAR1 is
+// hypot(158.218, 643.224) = 662.3972 m.
+func TestInverseOnDemoPoints(t *testing.T) {
+	dir := t.TempDir()
+	pts := filepath.Join(dir, "points.csv")
+	require.NoError(t, os.WriteFile(pts, mustDemo(t, "demo/points.csv"), 0o644))
+	lines := filepath.Join(dir, "lines.csv")
+	require.NoError(t, os.WriteFile(lines, mustDemo(t, "demo/lines.csv"), 0o644))
+	code, out, stderr := runCmd(t, "inverse", "-crs", demoCRS, "-points", pts, "-lines", lines)
 	require.Equal(t, exitOK, code, stderr)
 	assert.Contains(t, out, "ETRS89 / UTM zone 32N")
 	assert.Contains(t, out, "licensed surveyor")
-	// The demo's grid distances are plane distances between its own grid
-	// coordinates: NB-PILLAR1 → SB-PILLAR1 is hypot(158.218, 643.224) m.
 	assert.Contains(t, out, "662.3972")
 	rows := 0
 	for _, line := range strings.Split(out, "\n") {

@@ -141,12 +141,12 @@ Flags:
 }
 
 type reduceOptions struct {
-	strict   bool
-	progress bool
-	warn     io.Writer // nil: silent
-	inputs   []job.Source
-	labels   []string // names of inputs given as readers (embedded demo)
-	points   io.Reader
+	strict     bool
+	progress   bool
+	warn       io.Writer    // nil: silent
+	inputs     []job.Source // observations given as readers (the embedded demo)
+	points     io.Reader    // points given as a reader (the embedded demo) ...
+	pointsName string       // ... and its name
 }
 
 // reduceJob runs a job into its output folder and returns the summary.
@@ -184,7 +184,7 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 	// Points: read whole (they are held), hashed.
 	pointsName, pointsData := j.Points, []byte(nil)
 	if opt.points != nil {
-		pointsName = "points.csv"
+		pointsName = opt.pointsName
 		pointsData, err = io.ReadAll(opt.points)
 	} else {
 		pointsData, err = os.ReadFile(j.Points)
@@ -230,10 +230,10 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 		hashes = append(hashes, h)
 		sources = append(sources, job.Source{Name: path, Reader: io.TeeReader(&countingReader{r: f, n: &read}, h)})
 	}
-	for i, src := range opt.inputs {
+	for _, src := range opt.inputs {
 		h := sha256.New()
 		hashes = append(hashes, h)
-		sources = append(sources, job.Source{Name: opt.labels[i], Reader: io.TeeReader(src.Reader, h)})
+		sources = append(sources, job.Source{Name: src.Name, Reader: io.TeeReader(src.Reader, h)})
 	}
 
 	if err := os.MkdirAll(j.Out, 0o755); err != nil {

@@ -51,7 +51,7 @@ type lineAcc struct {
 // dirAcc holds one direction's sums for reciprocal zenith angles.
 type dirAcc struct {
 	n                  int
-	zenith, slope, hgt float64 // sums of zenith (rad), chord S3 and instrument-axis height
+	zenith, slope, hgt float64 // sums of mark-to-mark zenith (rad), chord S3 and height of mark A
 }
 
 // statsAcc accumulates residual statistics.
@@ -139,11 +139,16 @@ func (a *Aggregator) Add(r *job.Result) {
 	if a.hasTol && e.OutOfTolerance {
 		l.outOfTol++
 	}
+	// Reciprocal zenith angles give k only along one chord: reduce each
+	// to the chord between the marks, z_m = z + (HT − HI) sin z / S
+	// (raising the target by HT lowers z by HT sin z / S; raising the
+	// instrument by HI raises it alike).
 	dd := &l.dir[dir]
+	z, slope := float64(r.Obs.Zenith), red.SecondVelocity.Distance
 	dd.n++
-	dd.zenith += float64(r.Obs.Zenith)
-	dd.slope += red.SecondVelocity.Distance
-	dd.hgt += red.Heights.HeightA
+	dd.zenith += z + (r.Obs.TargetHeight-r.Obs.InstrumentHeight)*math.Sin(z)/slope
+	dd.slope += slope
+	dd.hgt += red.Heights.MarkA.Height
 }
 
 // Line flags.
