@@ -38,11 +38,12 @@ table { border-collapse: collapse; margin: .4rem 0; font-variant-numeric: tabula
 th, td { border: 1px solid #bbb; padding: .2rem .45rem; vertical-align: top; }
 thead th { background: #e8e8e8; text-align: center; }
 td.num { text-align: right; white-space: nowrap; }
-td.id { overflow-wrap: break-word; }
+td.id { white-space: nowrap; }
 .wide { overflow-x: auto; }
 td.hash { font-family: "Liberation Mono", "DejaVu Sans Mono", monospace; font-size: .85em; overflow-wrap: anywhere; }
 table.kv th { text-align: left; background: #f2f2f2; font-weight: normal; width: 16rem; }
-table.lines { font-size: .9rem; }
+table.lines { font-size: .88rem; }
+table.lines th, table.lines td { padding: .15rem .35rem; }
 #flagged-lines tbody tr, #all-lines tr.flagged { background: #fcebee; }
 #all-lines tr.flagged td:first-child { border-left: 4px solid #b00020; }
 .flags { color: #b00020; font-weight: bold; }
@@ -54,6 +55,7 @@ footer { margin-top: 2rem; }
 @page { margin: 14mm; }
 @media print {
   body { font-size: 9.5pt; margin: 0; max-width: none; padding: 0; }
+  table.lines { font-size: 8pt; }
   h2 { break-after: avoid; page-break-after: avoid; }
   tr, figure { break-inside: avoid; page-break-inside: avoid; }
   .caution, .verdict { background: none; }
@@ -151,7 +153,7 @@ footer { margin-top: 2rem; }
 {{- if .Plot}}
 <figure>
 {{.Plot}}
-<figcaption id="plot-caption">Residual of each line's mean reduced ellipsoid distance against the geodesic from control, in mm, plotted at the line's geodesic distance in m. Error bars are ±{{.PlotBars}}σ of the line's mean; flagged lines are red triangles labelled from–to{{if .Fit}}; the dashed line is the fit constant + scale · distance{{end}}.</figcaption>
+<figcaption id="plot-caption">Residual of each line's mean reduced ellipsoid distance against the geodesic from control, in mm, plotted at the line's geodesic distance in m. Error bars are ±{{.PlotBars}}σ of the line's mean; flagged lines are red triangles labelled from–to{{if .PlotOffScale}}; a flagged line far off the scale of the others is an arrow at the edge, its residual in its label{{end}}{{if .Fit}}; the dashed line is the fit constant + scale · distance{{end}}.</figcaption>
 </figure>
 {{- else}}
 <p>No line has a residual to plot.</p>
@@ -271,6 +273,9 @@ type htmlView struct {
 	Plot        template.HTML
 	PlotSkipped int
 	PlotBars    int
+	// PlotOffScale counts flagged lines drawn as arrows at the plot's
+	// edge, too far off the scale of the others to draw to it.
+	PlotOffScale int
 	// FitReading says in plain words what the fit's terms suggest.
 	FitReading []string
 	// FlagMeanings explain each flag that appears on the page.
@@ -327,7 +332,8 @@ func WriteHTML(w io.Writer, s *Summary) error {
 	// The SVG comes from residualPlot, which draws numbers and point ids
 	// that the SVG writer has escaped itself.
 	v.Plot = template.HTML(svg)
-	_, _, _, v.PlotSkipped = plotData(s)
+	lay := layoutPlot(s)
+	v.PlotSkipped, v.PlotOffScale = lay.Skipped, lay.OffScale.Len()
 
 	var buf bytes.Buffer
 	if err := page.Execute(&buf, v); err != nil {

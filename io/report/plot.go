@@ -6,6 +6,7 @@ import (
 	"image/color"
 	"math"
 	"regexp"
+	"slices"
 	"strings"
 
 	"gonum.org/v1/plot"
@@ -45,12 +46,20 @@ var (
 	plotFontFallback = "font-family:'Liberation Sans',Arial,Helvetica,sans-serif;"
 )
 
-// residualPoints are the lines of a plot: the residual of each line's mean
-// (mm) at its geodesic distance (m), with the half-length of its error bar
-// (mm).
+// plotOffScale is how far, as a multiple of the extent of the lines
+// within tolerance, a flagged line's residual may lie and still be drawn
+// to scale. A blunder of metres beside residuals of millimetres would
+// otherwise squash every other line onto the zero line; past this it is
+// drawn as an arrow at the edge, its residual written in its label.
+const plotOffScale = 5
+
+// residualPoints are lines of the plot: the residual of each line's mean
+// (mm) at its geodesic distance (m), the half-length of its error bar (mm),
+// and, for flagged lines, a label.
 type residualPoints struct {
 	plotter.XYs
-	Bars []float64
+	Bars   []float64
+	Labels []string
 }
 
 // Len is the number of points, shared by the coordinates and the bars.
@@ -59,42 +68,112 @@ func (r residualPoints) Len() int { return len(r.XYs) }
 // YError gives the lower and upper half-lengths of point i's bar, in mm.
 func (r residualPoints) YError(i int) (float64, float64) { return r.Bars[i], r.Bars[i] }
 
-// plotData splits the summary's lines into those within tolerance and the
-// flagged ones, keeping only lines whose distance, residual and σ are
-// finite; skipped counts the others, which the page mentions below the
-// plot.
-func plotData(s *Summary) (ok, flagged residualPoints, labels []string, skipped int) {
+// add appends one point.
+func (r *residualPoints) add(pt plotter.XY, bar float64, label string) {
+	r.XYs = append(r.XYs, pt)
+	r.Bars = append(r.Bars, bar)
+	r.Labels = append(r.Labels, label)
+}
+
+// plotLayout is what the plot shows and where.
+type plotLayout struct {
+	// OK are the lines within tolerance, Flagged the flagged lines drawn
+	// to scale, OffScale the flagged lines beyond Limit, at their true
+	// residual. Skipped counts lines left out for a distance, residual or
+	// σ that is not a finite number (or a negative σ).
+	OK, Flagged, OffScale residualPoints
+	Skipped               int
+	// Limit is the largest |residual| drawn to scale, mm; +Inf when every
+	// line is.
+	Limit float64
+	// The axes' ranges, m and mm. Between DataMax and YMax is room for
+	// the legend, where arrows for lines off the scale above are drawn.
+	XMin, XMax, YMin, YMax, DataMin, DataMax float64
+}
+
+// layoutPlot sorts the summary's lines into the plot's sets and chooses
+// the axes' ranges: distance from 0 to 5 % past the longest line;
+// residuals over every line drawn to scale with its error bar, zero, and
+// the fitted line at both ends of the distance axis, with a margin below
+// and room above for the legend. A range that would be empty is widened
+// to 1 mm.
+func layoutPlot(s *Summary) plotLayout {
+	var lay plotLayout
+	var flagged residualPoints
 	for _, l := range s.Lines {
 		if !finite(l.Geodesic) || !finite(l.ResidualMM) || !finite(l.SigmaMM) || l.SigmaMM < 0 {
-			skipped++
+			lay.Skipped++
 			continue
 		}
 		pt := plotter.XY{X: l.Geodesic, Y: l.ResidualMM}
-		bar := plotBars * l.SigmaMM
 		if l.Flagged() {
-			flagged.XYs = append(flagged.XYs, pt)
-			flagged.Bars = append(flagged.Bars, bar)
-			labels = append(labels, shortID(l.From)+"–"+shortID(l.To))
-			continue
+			flagged.add(pt, plotBars*l.SigmaMM, shortID(l.From)+"–"+shortID(l.To))
+		} else {
+			lay.OK.add(pt, plotBars*l.SigmaMM, "")
 		}
-		ok.XYs = append(ok.XYs, pt)
-		ok.Bars = append(ok.Bars, bar)
+		lay.XMax = math.Max(lay.XMax, l.Geodesic)
 	}
-	return ok, flagged, labels, skipped
+	if lay.XMax <= 0 {
+		lay.XMax = 1
+	}
+	lay.XMax *= 1.05
+
+	// The fitted line at both ends, and the lines within tolerance with
+	// their bars, set the scale that flagged lines are measured against.
+	var fitEnds []float64
+	if f := s.Fit; f != nil && finite(f.ConstantMM) && finite(f.ScalePPM) {
+		fitEnds = []float64{f.ConstantMM + f.ScalePPM*lay.XMin/1000, f.ConstantMM + f.ScalePPM*lay.XMax/1000}
+	}
+	lay.Limit = math.Inf(1)
+	if lay.OK.Len() > 0 {
+		extent := 1.0 // mm
+		for i, pt := range lay.OK.XYs {
+			extent = math.Max(extent, math.Abs(pt.Y)+lay.OK.Bars[i])
+		}
+		for _, y := range fitEnds {
+			extent = math.Max(extent, math.Abs(y))
+		}
+		lay.Limit = plotOffScale * extent
+	}
+	for i, pt := range flagged.XYs {
+		if math.Abs(pt.Y) > lay.Limit {
+			lay.OffScale.add(pt, 0, flagged.Labels[i])
+		} else {
+			lay.Flagged.add(pt, flagged.Bars[i], flagged.Labels[i])
+		}
+	}
+
+	for _, set := range []residualPoints{lay.OK, lay.Flagged} {
+		for i, pt := range set.XYs {
+			lay.DataMin = math.Min(lay.DataMin, pt.Y-set.Bars[i])
+			lay.DataMax = math.Max(lay.DataMax, pt.Y+set.Bars[i])
+		}
+	}
+	for _, y := range fitEnds {
+		lay.DataMin, lay.DataMax = math.Min(lay.DataMin, y), math.Max(lay.DataMax, y)
+	}
+	span := lay.DataMax - lay.DataMin
+	if span <= 0 {
+		span = 1
+	}
+	lay.YMin, lay.YMax = lay.DataMin-0.1*span, lay.DataMax+0.5*span
+	return lay
 }
 
 // residualPlot draws the residual of each line's mean against its geodesic
 // distance, with ±plotBars·σ error bars, flagged lines as red triangles
-// labelled with their ids, the fitted line ConstantMM + ScalePPM·distance
-// when the summary has a fit, and a zero line. It returns an <svg> element
-// ready to be placed inline in an HTML page: no XML prolog, no namespace
-// URLs, and fonts named by family with generic fallbacks, so the page loads
-// nothing. The result is nil when no line has finite values to plot.
+// labelled with their ids (as arrows at the edge, with their residual,
+// when far off the scale of the others), the fitted line ConstantMM +
+// ScalePPM·distance when the summary has a fit, and a zero line. It
+// returns an <svg> element ready to be placed inline in an HTML page: no
+// XML prolog, no namespace URLs, and fonts named by family with generic
+// fallbacks, so the page loads nothing. The result is nil when no line has
+// finite values to plot.
 //
 // Drawing is deterministic: the same summary gives the same bytes.
 func residualPlot(s *Summary) ([]byte, error) {
-	ok, flagged, labels, _ := plotData(s)
-	if ok.Len()+flagged.Len() == 0 {
+	lay := layoutPlot(s)
+	if lay.OK.Len()+lay.Flagged.Len()+lay.OffScale.Len() == 0 {
 		return nil, nil
 	}
 
@@ -115,8 +194,7 @@ func residualPlot(s *Summary) ([]byte, error) {
 	p.Y.Tick.Marker = plot.TickerFunc(fixedTicks)
 	p.Add(plotter.NewGrid())
 
-	xMin, xMax, yMin, yMax := plotRanges(s, ok, flagged)
-	p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = xMin, xMax, yMin, yMax
+	p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = lay.XMin, lay.XMax, lay.YMin, lay.YMax
 
 	zero := plotter.NewFunction(func(float64) float64 { return 0 })
 	zero.Samples = 2
@@ -144,8 +222,8 @@ func residualPlot(s *Summary) ([]byte, error) {
 		shape draw.GlyphDrawer
 		ink   color.Color
 	}{
-		{ok, "line within tolerance", draw.CircleGlyph{}, plotInkColor},
-		{flagged, "flagged line", draw.PyramidGlyph{}, plotFlagColor},
+		{lay.OK, "line within tolerance", draw.CircleGlyph{}, plotInkColor},
+		{lay.Flagged, "flagged line", draw.PyramidGlyph{}, plotFlagColor},
 	} {
 		if set.pts.Len() == 0 {
 			continue
@@ -168,6 +246,35 @@ func residualPlot(s *Summary) ([]byte, error) {
 	}
 	p.Legend.Add(fmt.Sprintf("error bar: ±%dσ of the line's mean", plotBars),
 		barThumbnail{barStyle, vg.Points(barCap)})
+
+	// Lines off the scale: an arrow just past the data, pointing the way
+	// the residual lies, labelled with the residual.
+	labelled := lay.Flagged
+	if lay.OffScale.Len() > 0 {
+		span := lay.DataMax - lay.DataMin
+		var arrows residualPoints
+		for i, pt := range lay.OffScale.XYs {
+			at := lay.DataMax + 0.12*span
+			if pt.Y < 0 {
+				at = lay.DataMin - 0.05*span
+			}
+			arrows.add(plotter.XY{X: pt.X, Y: at}, 0,
+				fmt.Sprintf("%s: %s mm", lay.OffScale.Labels[i], signed(pt.Y, 1)))
+		}
+		sc, err := plotter.NewScatter(arrows.XYs)
+		if err != nil {
+			return nil, fmt.Errorf("residual plot: lines off the scale: %w", err)
+		}
+		sc.GlyphStyleFunc = func(i int) draw.GlyphStyle {
+			return draw.GlyphStyle{Color: plotFlagColor, Radius: vg.Points(4.5),
+				Shape: arrowGlyph{Down: lay.OffScale.XYs[i].Y < 0}}
+		}
+		p.Add(sc)
+		p.Legend.Add(fmt.Sprintf("flagged line off the scale (over %s mm)", fixed(lay.Limit, 1)),
+			legendGlyph{draw.GlyphStyle{Color: plotFlagColor, Radius: vg.Points(4), Shape: arrowGlyph{}}})
+		labelled.XYs = append(slices.Clone(labelled.XYs), arrows.XYs...)
+		labelled.Labels = append(slices.Clone(labelled.Labels), arrows.Labels...)
+	}
 	p.Legend.Top = true
 	p.Legend.Left = true
 	p.Legend.XOffs = vg.Points(8)
@@ -178,13 +285,13 @@ func residualPlot(s *Summary) ([]byte, error) {
 	// left half of the plot, to the left of those in the right half, so
 	// that no label runs off the drawing.
 	var right, left plotter.XYLabels
-	for i, pt := range flagged.XYs {
+	for i, pt := range labelled.XYs {
 		side := &right
-		if pt.X > (xMin+xMax)/2 {
+		if pt.X > (lay.XMin+lay.XMax)/2 {
 			side = &left
 		}
 		side.XYs = append(side.XYs, pt)
-		side.Labels = append(side.Labels, labels[i])
+		side.Labels = append(side.Labels, labelled.Labels[i])
 	}
 	for _, side := range []struct {
 		labels plotter.XYLabels
@@ -241,34 +348,33 @@ func (b barThumbnail) Thumbnail(c *draw.Canvas) {
 	}
 }
 
-// plotRanges gives the axes' ranges: distance from 0 to 5 % past the
-// longest line; residuals over every point with its error bar, zero, and
-// the fitted line at both ends of the distance axis, with room above for
-// the legend. A range that would be empty is widened to 1 mm.
-func plotRanges(s *Summary, sets ...residualPoints) (xMin, xMax, yMin, yMax float64) {
-	yMin, yMax = 0, 0
-	for _, set := range sets {
-		for i, pt := range set.XYs {
-			xMax = math.Max(xMax, pt.X)
-			yMin = math.Min(yMin, pt.Y-set.Bars[i])
-			yMax = math.Max(yMax, pt.Y+set.Bars[i])
-		}
+// arrowGlyph is a filled triangle on a short stem, pointing up, or down
+// when Down is set: a line whose residual lies off the plot that way.
+type arrowGlyph struct{ Down bool }
+
+// DrawGlyph draws the arrow with its tip a radius from pt.
+func (g arrowGlyph) DrawGlyph(c *draw.Canvas, sty draw.GlyphStyle, pt vg.Point) {
+	r := sty.Radius
+	dir := vg.Length(1)
+	if g.Down {
+		dir = -1
 	}
-	if xMax <= 0 {
-		xMax = 1
-	}
-	xMax *= 1.05
-	if s.Fit != nil && finite(s.Fit.ConstantMM) && finite(s.Fit.ScalePPM) {
-		for _, d := range []float64{xMin, xMax} {
-			y := s.Fit.ConstantMM + s.Fit.ScalePPM*d/1000
-			yMin, yMax = math.Min(yMin, y), math.Max(yMax, y)
-		}
-	}
-	span := yMax - yMin
-	if span <= 0 {
-		span = 1
-	}
-	return xMin, xMax, yMin - 0.08*span, yMax + 0.45*span
+	var head vg.Path
+	head.Move(vg.Point{X: pt.X, Y: pt.Y + dir*r})
+	head.Line(vg.Point{X: pt.X - r*0.8, Y: pt.Y})
+	head.Line(vg.Point{X: pt.X + r*0.8, Y: pt.Y})
+	head.Close()
+	c.SetColor(sty.Color)
+	c.Fill(head)
+	c.StrokeLine2(draw.LineStyle{Color: sty.Color, Width: r * 0.4}, pt.X, pt.Y, pt.X, pt.Y-dir*r)
+}
+
+// legendGlyph is a legend sample that draws one glyph.
+type legendGlyph struct{ draw.GlyphStyle }
+
+// Thumbnail draws the glyph in the middle of c.
+func (g legendGlyph) Thumbnail(c *draw.Canvas) {
+	c.DrawGlyph(g.GlyphStyle, c.Center())
 }
 
 // fixedTicks puts about six major ticks on round values (1, 2 or 5 times a
@@ -292,7 +398,9 @@ func fixedTicks(lo, hi float64) []plot.Tick {
 	for i := math.Ceil(lo / minor); i*minor <= hi+minor*1e-9; i++ {
 		v := i * minor
 		t := plot.Tick{Value: v}
-		if m := math.Mod(math.Abs(i), 5); m == 0 {
+		// A label too near the top of the range would run off the
+		// drawing: the axis ends there without one.
+		if m := math.Mod(math.Abs(i), 5); m == 0 && hi-v > 0.04*(hi-lo) {
 			t.Label = fixed(v, decimals)
 		}
 		ticks = append(ticks, t)
@@ -331,6 +439,15 @@ func shortID(id string) string {
 		return id
 	}
 	return string(r[:plotLabelRunes-1]) + "…"
+}
+
+// signed formats x with the given decimals and always a sign, "+" or "-".
+func signed(x float64, decimals int) string {
+	f := fixed(x, decimals)
+	if strings.HasPrefix(f, "-") {
+		return f
+	}
+	return "+" + f
 }
 
 // signWord is "+" for a non-negative x and "−" (minus sign) otherwise.

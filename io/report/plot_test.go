@@ -46,12 +46,16 @@ func TestResidualPlotSkipsNonFinite(t *testing.T) {
 	s := testSummary()
 	s.Lines[2].ResidualMM = math.NaN()
 	s.Lines[3].Geodesic = math.Inf(1)
-	ok, flagged, labels, skipped := plotData(s)
-	assert.Equal(t, 2, skipped)
-	assert.Equal(t, 1, ok.Len(), "lines within tolerance left")
-	assert.Equal(t, 2, flagged.Len())
-	assert.Equal(t, []string{"P3–<script>alert(1…", "Brücke-Nord–東塔"}, labels)
-	assert.Equal(t, 2*1.6, flagged.Bars[1], "bar is 2σ of the line's mean")
+	lay := layoutPlot(s)
+	assert.Equal(t, 2, lay.Skipped)
+	assert.Equal(t, 1, lay.OK.Len(), "lines within tolerance left")
+	// The one line within tolerance left, Ω-7–P1, reaches 0.04 + 2·1.01
+	// mm, the fitted line 1.84 mm + 0.71 ppm at the far end of the axis
+	// more: P3's 14.95 mm is past 5 times that.
+	assert.InDelta(t, 5*(1.84+0.71*1208.43317*1.05/1000), lay.Limit, 1e-9, "mm")
+	assert.Equal(t, []string{"P3–<script>alert(1…"}, lay.OffScale.Labels)
+	assert.Equal(t, []string{"Brücke-Nord–東塔"}, lay.Flagged.Labels)
+	assert.Equal(t, 2*1.6, lay.Flagged.Bars[0], "bar is 2σ of the line's mean, mm")
 
 	_, err := residualPlot(s)
 	require.NoError(t, err)
@@ -68,27 +72,68 @@ func TestResidualPlotEmpty(t *testing.T) {
 	assert.Nil(t, svg)
 }
 
-func TestPlotRanges(t *testing.T) {
+func TestLayoutPlot(t *testing.T) {
 	s := testSummary()
 	s.Fit = nil
-	ok, flagged, _, _ := plotData(s)
-	xMin, xMax, yMin, yMax := plotRanges(s, ok, flagged)
-	assert.Equal(t, 0.0, xMin)
-	assert.InDelta(t, 1208.43317*1.05, xMax, 1e-9, "5 % past the longest line, m")
+	lay := layoutPlot(s)
+	assert.Equal(t, 0.0, lay.XMin)
+	assert.InDelta(t, 1208.43317*1.05, lay.XMax, 1e-9, "5 % past the longest line, m")
+	// Lines within tolerance reach 4.41 mm (P2–P3: |−1.53| + 2·1.44), so
+	// flagged lines up to 5 times that are drawn to scale.
+	assert.InDelta(t, 5*(1.53+2*1.44), lay.Limit, 1e-9, "mm")
+	assert.Equal(t, 2, lay.Flagged.Len())
+	assert.Zero(t, lay.OffScale.Len())
 	// Lowest: P2–P3 at −1.53 − 2·1.44 mm; highest: P3–hostile at 14.95 + 2·2.92 mm.
 	lo, hi := -1.53-2*1.44, 14.95+2*2.92
 	span := hi - lo
-	assert.InDelta(t, lo-0.08*span, yMin, 1e-9, "mm")
-	assert.InDelta(t, hi+0.45*span, yMax, 1e-9, "mm")
+	assert.InDelta(t, lo, lay.DataMin, 1e-9, "mm")
+	assert.InDelta(t, hi, lay.DataMax, 1e-9, "mm")
+	assert.InDelta(t, lo-0.1*span, lay.YMin, 1e-9, "mm")
+	assert.InDelta(t, hi+0.5*span, lay.YMax, 1e-9, "mm")
 
 	// One line on zero with no σ: the range is widened, not empty.
 	s.Lines = []Line{{From: "A", To: "B", Geodesic: 0}}
-	ok, flagged, _, _ = plotData(s)
-	xMin, xMax, yMin, yMax = plotRanges(s, ok, flagged)
-	assert.Less(t, xMin, xMax)
-	assert.Less(t, yMin, yMax)
+	lay = layoutPlot(s)
+	assert.Less(t, lay.XMin, lay.XMax)
+	assert.Less(t, lay.YMin, lay.YMax)
 	_, err := residualPlot(s)
 	assert.NoError(t, err)
+}
+
+// A blunder of metres must not squash the other lines onto zero: it is
+// drawn as an arrow at the edge, its residual in its label.
+func TestResidualPlotOffScale(t *testing.T) {
+	s := testSummary()
+	s.Lines = append(s.Lines,
+		Line{From: "N1", To: "S1", Count: 5, Geodesic: 662.661, ResidualMM: 51795.8, SigmaMM: 0.7, Flags: []string{"outlier"}},
+		Line{From: "N2", To: "S2", Count: 2, Geodesic: 300, ResidualMM: -880, SigmaMM: 0.9, Flags: []string{"outlier"}},
+	)
+	lay := layoutPlot(s)
+	require.Equal(t, 2, lay.OffScale.Len())
+	assert.Equal(t, []string{"N1–S1", "N2–S2"}, lay.OffScale.Labels)
+	assert.Equal(t, 2, lay.Flagged.Len(), "the other flagged lines stay to scale")
+	assert.Less(t, lay.YMax, 100.0, "the axis is not stretched to the blunder, mm")
+	assert.Greater(t, lay.YMin, -100.0, "the axis is not stretched to the blunder, mm")
+
+	svg, err := residualPlot(s)
+	require.NoError(t, err)
+	assert.Contains(t, string(svg), "N1–S1: +51795.8 mm")
+	assert.Contains(t, string(svg), "N2–S2: -880.0 mm")
+	assert.Contains(t, string(svg), "flagged line off the scale (over 22.1 mm)")
+	assert.Contains(t, render(t, s), "a flagged line far off the scale of the others is an arrow")
+
+	// With no line within tolerance there is no scale to keep: all are
+	// drawn to scale.
+	var only []Line
+	for _, l := range s.Lines {
+		if l.Flagged() {
+			only = append(only, l)
+		}
+	}
+	s.Lines = only
+	lay = layoutPlot(s)
+	assert.Zero(t, lay.OffScale.Len())
+	assert.Greater(t, lay.YMax, 51795.8)
 }
 
 func TestFixedTicks(t *testing.T) {
@@ -103,7 +148,7 @@ func TestFixedTicks(t *testing.T) {
 	}
 	assert.Equal(t, []string{"0", "200", "400", "600", "800", "1000", "1200"}, labels(0, 1268.85))
 	assert.Equal(t, []string{"-5", "0", "5", "10", "15", "20"}, labels(-5.8, 21.2))
-	assert.Equal(t, []string{"-2", "0", "2", "4", "6", "8", "10"}, labels(-2.6, 10.3))
+	assert.Equal(t, []string{"-2", "0", "2", "4", "6", "8"}, labels(-2.6, 10.3), "no label within 4 % of the top")
 	assert.Equal(t, []string{"-0.4", "-0.2", "0.0", "0.2", "0.4"}, labels(-0.5, 0.5))
 	assert.Len(t, fixedTicks(0, 1000), 26, "majors every 200 m, four minors between")
 	assert.Nil(t, fixedTicks(1, 1))
