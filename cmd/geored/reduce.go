@@ -12,6 +12,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"runtime/pprof"
 	"strings"
 	"sync/atomic"
 	"time"
@@ -65,6 +66,7 @@ func runReduce(args []string, stdout, stderr io.Writer) int {
 	strict := fs.Bool("strict", false, "any rejected row makes the run fail (exit 2)")
 	quiet := fs.Bool("quiet", false, "print nothing but errors")
 	jsonOut := fs.Bool("json", false, "print a one-line machine summary (JSON) on stdout")
+	cpuProfile := fs.String("cpuprofile", "", "write a CPU profile (pprof) of the run to this file")
 	fs.Usage = func() {
 		fmt.Fprint(stderr, `Usage: geored reduce [flags] [observations.csv ...]
 
@@ -122,6 +124,13 @@ Flags:
 	j, err := jobconfig.Resolve(file, name)
 	if err != nil {
 		return fail(stderr, "reduce", err)
+	}
+	if *cpuProfile != "" {
+		stop, err := startCPUProfile(*cpuProfile)
+		if err != nil {
+			return fail(stderr, "reduce", err)
+		}
+		defer stop()
 	}
 	opts := reduceOptions{strict: *strict, progress: !*quiet && isTerminal(stderr)}
 	if !*quiet {
@@ -475,4 +484,18 @@ func printVerdict(w io.Writer, s *report.Summary, out string) {
 	}
 	fmt.Fprintf(w, "outputs in %s; report: %s\n", out, filepath.Join(out, "report.html"))
 	fmt.Fprintln(w, report.Caution)
+}
+
+// startCPUProfile profiles the run into path; the returned function ends
+// the profile.
+func startCPUProfile(path string) (func(), error) {
+	f, err := os.Create(path)
+	if err != nil {
+		return nil, err
+	}
+	if err := pprof.StartCPUProfile(f); err != nil {
+		f.Close()
+		return nil, err
+	}
+	return func() { pprof.StopCPUProfile(); f.Close() }, nil
 }

@@ -1,0 +1,160 @@
+package main
+
+import (
+	"bufio"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"runtime"
+	"sort"
+	"syscall"
+	"text/tabwriter"
+	"time"
+)
+
+// measurement is the median wall time and the largest peak RSS of
+// repeated runs of one command.
+type measurement struct {
+	name  string
+	wall  time.Duration
+	rssKB int64
+}
+
+// runBench times the parse floor, geod -I and geored reduce on 1 worker
+// and on all cores over a job made by gen, each -repeat times, and prints
+// medians, rates and ratios.
+func runBench(args []string) error {
+	fs := flag.NewFlagSet("run", flag.ContinueOnError)
+	dir := fs.String("dir", "", "folder made by georedbench gen")
+	geored := fs.String("geored", "bin/geored", "geored binary")
+	geod := fs.String("geod", "geod", "PROJ's geod (empty to skip)")
+	repeat := fs.Int("repeat", 3, "runs of each command; the median is reported")
+	profile := fs.String("cpuprofile", "", "also write a CPU profile of one all-cores geored run here")
+	if err := fs.Parse(args); err != nil {
+		return err
+	}
+	if *dir == "" {
+		return fmt.Errorf("run: -dir is required")
+	}
+	obsFile := filepath.Join(*dir, "observations.csv")
+	rows, err := countRows(obsFile)
+	if err != nil {
+		return err
+	}
+	self, err := os.Executable()
+	if err != nil {
+		return err
+	}
+	job := filepath.Join(*dir, "job.toml")
+	cmds := []struct {
+		name  string
+		argv  []string
+		stdin string
+	}{
+		{"parse floor (encoding/csv + strconv)", []string{self, "floor", obsFile}, ""},
+		{"geod -I (inverses only)", []string{*geod, "+ellps=GRS80", "-I", "-f", "%.4f"}, filepath.Join(*dir, "geod.txt")},
+		{"geored reduce, 1 worker", []string{*geored, "reduce", "-config", job, "-quiet", "-workers", "1", "-out", filepath.Join(*dir, "out1")}, ""},
+		{fmt.Sprintf("geored reduce, all cores (%d)", runtime.NumCPU()), []string{*geored, "reduce", "-config", job, "-quiet", "-workers", "0", "-out", filepath.Join(*dir, "outN")}, ""},
+	}
+	var ms []measurement
+	for _, c := range cmds {
+		if c.argv[0] == "" {
+			continue
+		}
+		if _, err := exec.LookPath(c.argv[0]); err != nil {
+			fmt.Fprintf(os.Stderr, "skipping %s: %v\n", c.name, err)
+			continue
+		}
+		var walls []time.Duration
+		var rss int64
+		for range *repeat {
+			w, r, err := timeCommand(c.argv, c.stdin)
+			if err != nil {
+				return fmt.Errorf("%s: %w", c.name, err)
+			}
+			walls = append(walls, w)
+			rss = max(rss, r)
+		}
+		sort.Slice(walls, func(i, j int) bool { return walls[i] < walls[j] })
+		ms = append(ms, measurement{c.name, walls[len(walls)/2], rss})
+	}
+	if *profile != "" {
+		argv := []string{*geored, "reduce", "-config", job, "-quiet", "-out", filepath.Join(*dir, "outP"), "-cpuprofile", *profile}
+		if _, _, err := timeCommand(argv, ""); err != nil {
+			return fmt.Errorf("profile run: %w", err)
+		}
+	}
+	report(os.Stdout, ms, rows, *repeat)
+	return nil
+}
+
+func report(w io.Writer, ms []measurement, rows int64, repeat int) {
+	var floor, geod time.Duration
+	for _, m := range ms {
+		switch {
+		case m.name[:5] == "parse":
+			floor = m.wall
+		case m.name[:4] == "geod":
+			geod = m.wall
+		}
+	}
+	fmt.Fprintf(w, "%d observations; median of %d runs; %s, %d cores\n\n", rows, repeat, runtime.GOOS+"/"+runtime.GOARCH, runtime.NumCPU())
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
+	fmt.Fprintln(tw, "command\twall s\tobs/s\t× parse floor\t× geod -I\tpeak RSS MB\t")
+	for _, m := range ms {
+		ratio := func(base time.Duration) string {
+			if base == 0 {
+				return "—"
+			}
+			return fmt.Sprintf("%.2f", m.wall.Seconds()/base.Seconds())
+		}
+		fmt.Fprintf(tw, "%s\t%.2f\t%.0f\t%s\t%s\t%.1f\t\n", m.name, m.wall.Seconds(), float64(rows)/m.wall.Seconds(), ratio(floor), ratio(geod), float64(m.rssKB)/1024)
+	}
+	tw.Flush()
+}
+
+// timeCommand runs argv (stdin from a file if given, stdout discarded)
+// and returns its wall time and peak resident set size in KiB.
+func timeCommand(argv []string, stdin string) (time.Duration, int64, error) {
+	cmd := exec.Command(argv[0], argv[1:]...)
+	cmd.Stderr = os.Stderr
+	if stdin != "" {
+		f, err := os.Open(stdin)
+		if err != nil {
+			return 0, 0, err
+		}
+		defer f.Close()
+		cmd.Stdin = f
+	}
+	start := time.Now()
+	err := cmd.Run()
+	wall := time.Since(start)
+	if err != nil {
+		if ee, ok := err.(*exec.ExitError); !ok || ee.ExitCode() > 1 { // geored exits 1 for flagged results
+			return 0, 0, err
+		}
+	}
+	var rss int64
+	if ru, ok := cmd.ProcessState.SysUsage().(*syscall.Rusage); ok {
+		rss = ru.Maxrss
+	}
+	return wall, rss, nil
+}
+
+func countRows(path string) (int64, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return 0, err
+	}
+	defer f.Close()
+	var n int64
+	sc := bufio.NewScanner(f)
+	sc.Buffer(make([]byte, 1<<20), 1<<20)
+	for sc.Scan() {
+		n++
+	}
+	return n - 1, sc.Err()
+}
