@@ -30,6 +30,7 @@ func commands() []command {
 		{"reduce", "reduce observation files and compare with control", runReduce},
 		{"inverse", "geodesic and grid inverse between control points", runInverse},
 		{"predict", "expected slope distance, zenith angle and horizontal distance from control", runPredict},
+		{"sightline", "whether a line of sight clears the curved Earth, with refraction", runSightline},
 		{"demo", "run geored on the embedded demo job", runDemo},
 		{"version", "print geored's and PROJ's versions", runVersion},
 	}

@@ -186,7 +186,12 @@ type sightSource struct {
 	line int
 }
 
-func (s sightSource) String() string { return s.file + ":" + strconv.Itoa(s.line) }
+func (s sightSource) String() string {
+	if s.line == 0 { // a flag
+		return s.file
+	}
+	return s.file + ":" + strconv.Itoa(s.line)
+}
 
 // A sight is one row of a pairs file: from, to, the heights of the
 // instrument and the target over their marks (metres), and optionally the
@@ -216,55 +221,47 @@ func readSightFile(path string, unit units.LengthUnit, stderr io.Writer) ([]sigh
 	return readSights(f, path, unit, stderr)
 }
 
-// readSights reads a pairs file. Every bad value is reported, each with
-// file, line, column, the value and what was wanted; unknown columns are
-// warnings.
-func readSights(r io.Reader, file string, unit units.LengthUnit, stderr io.Writer) ([]sight, error) {
+// csvInput is a small CSV input read whole: its header, trimmed and
+// lowercased, and its records with their lines; '#' comment lines and
+// blank records are skipped.
+type csvInput struct {
+	file       string
+	header     []string
+	col        map[string]int
+	headerLine int
+	records    []csvRecord
+}
+
+type csvRecord struct {
+	line   int
+	fields []string
+}
+
+// readCSVInput reads a CSV input; wantHeader says what header an empty
+// file lacks. A repeated column stops it; malformed CSV and records whose
+// field count differs from the header's are returned as rowErrs, each
+// with its line, and the other records are kept.
+func readCSVInput(r io.Reader, file, wantHeader string) (in *csvInput, rowErrs []error, err error) {
 	cr := csv.NewReader(bufio.NewReader(r))
 	cr.Comment = '#'
 	cr.FieldsPerRecord = -1
 	header, err := cr.Read()
 	if errors.Is(err, io.EOF) {
-		return nil, &obsfile.HeaderError{File: file, Line: 1, Reason: "the file is empty: want a header row " + strings.Join(sightRequired, ",")}
+		return nil, nil, &obsfile.HeaderError{File: file, Line: 1, Reason: "the file is empty: want a header row " + wantHeader}
 	}
 	if err != nil {
-		return nil, fmt.Errorf("%s: %w", file, err)
+		return nil, nil, fmt.Errorf("%s: %w", file, err)
 	}
-	headerLine, _ := cr.FieldPos(0)
-	col := map[string]int{}
+	in = &csvInput{file: file, col: map[string]int{}}
+	in.headerLine, _ = cr.FieldPos(0)
 	for i, h := range header {
 		name := strings.ToLower(strings.TrimSpace(strings.TrimPrefix(h, "\uFEFF")))
-		if _, dup := col[name]; dup {
-			return nil, &obsfile.HeaderError{File: file, Line: headerLine, Reason: fmt.Sprintf("column %q appears twice", name)}
+		if _, dup := in.col[name]; dup {
+			return nil, nil, &obsfile.HeaderError{File: file, Line: in.headerLine, Reason: fmt.Sprintf("column %q appears twice", name)}
 		}
-		col[name] = i
-		if !slices.Contains(sightColumns, name) {
-			fmt.Fprintf(stderr, "warning: %s:%d: unknown column %q (column %d) is ignored; known columns: %s\n", file, headerLine, name, i+1, strings.Join(sightColumns, ", "))
-		}
+		in.col[name] = i
+		in.header = append(in.header, name)
 	}
-	var missing []string
-	for _, n := range sightRequired {
-		if _, ok := col[n]; !ok {
-			missing = append(missing, n)
-		}
-	}
-	if len(missing) > 0 {
-		return nil, &obsfile.HeaderError{File: file, Line: headerLine, Reason: "missing required column(s) " + strings.Join(missing, ", ")}
-	}
-	for _, group := range [][]string{{"temperature_c", "pressure_hpa", "humidity_pct"}, {"temperature_c_to", "pressure_hpa_to", "humidity_pct_to"}} {
-		n := 0
-		for _, g := range group {
-			if _, ok := col[g]; ok {
-				n++
-			}
-		}
-		if n != 0 && n != 3 {
-			return nil, &obsfile.HeaderError{File: file, Line: headerLine, Reason: strings.Join(group, ", ") + " go together"}
-		}
-	}
-
-	var out []sight
-	var errs []error
 	for {
 		rec, err := cr.Read()
 		if errors.Is(err, io.EOF) {
@@ -273,20 +270,60 @@ func readSights(r io.Reader, file string, unit units.LengthUnit, stderr io.Write
 		if err != nil {
 			var pe *csv.ParseError
 			if errors.As(err, &pe) {
-				errs = append(errs, &obsfile.FieldError{File: file, Line: pe.Line, Column: pe.Column, Want: "well-formed CSV: " + pe.Err.Error(), Err: err})
+				rowErrs = append(rowErrs, &obsfile.FieldError{File: file, Line: pe.Line, Column: pe.Column, Want: "well-formed CSV: " + pe.Err.Error(), Err: err})
 				break
 			}
-			return nil, fmt.Errorf("%s: %w", file, err)
+			return nil, nil, fmt.Errorf("%s: %w", file, err)
 		}
 		line, _ := cr.FieldPos(0)
 		if strings.TrimSpace(strings.Join(rec, "")) == "" {
 			continue
 		}
 		if len(rec) != len(header) {
-			errs = append(errs, &obsfile.FieldError{File: file, Line: line, Want: fmt.Sprintf("%d fields as in the header, got %d", len(header), len(rec))})
+			rowErrs = append(rowErrs, &obsfile.FieldError{File: file, Line: line, Want: fmt.Sprintf("%d fields as in the header, got %d", len(header), len(rec))})
 			continue
 		}
-		row := sightRow{file: file, line: line, rec: rec, col: col}
+		in.records = append(in.records, csvRecord{line: line, fields: slices.Clone(rec)})
+	}
+	return in, rowErrs, nil
+}
+
+// readSights reads a pairs file. Every bad value is reported, each with
+// file, line, column, the value and what was wanted; unknown columns are
+// warnings.
+func readSights(r io.Reader, file string, unit units.LengthUnit, stderr io.Writer) ([]sight, error) {
+	in, errs, err := readCSVInput(r, file, strings.Join(sightRequired, ","))
+	if err != nil {
+		return nil, err
+	}
+	for i, name := range in.header {
+		if !slices.Contains(sightColumns, name) {
+			fmt.Fprintf(stderr, "warning: %s:%d: unknown column %q (column %d) is ignored; known columns: %s\n", file, in.headerLine, name, i+1, strings.Join(sightColumns, ", "))
+		}
+	}
+	var missing []string
+	for _, n := range sightRequired {
+		if _, ok := in.col[n]; !ok {
+			missing = append(missing, n)
+		}
+	}
+	if len(missing) > 0 {
+		return nil, &obsfile.HeaderError{File: file, Line: in.headerLine, Reason: "missing required column(s) " + strings.Join(missing, ", ")}
+	}
+	for _, group := range [][]string{{"temperature_c", "pressure_hpa", "humidity_pct"}, {"temperature_c_to", "pressure_hpa_to", "humidity_pct_to"}} {
+		n := 0
+		for _, g := range group {
+			if _, ok := in.col[g]; ok {
+				n++
+			}
+		}
+		if n != 0 && n != 3 {
+			return nil, &obsfile.HeaderError{File: file, Line: in.headerLine, Reason: strings.Join(group, ", ") + " go together"}
+		}
+	}
+	var out []sight
+	for _, rec := range in.records {
+		row := sightRow{file: file, line: rec.line, rec: rec.fields, col: in.col}
 		sg, err := row.parse(unit)
 		if err != nil {
 			errs = append(errs, err)
