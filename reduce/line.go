@@ -154,3 +154,28 @@ func NewLine(a, b s2.LatLng, inv Inverse, gridA, gridB GridPoint, e Radii, g Geo
 	l.Scale.Curvature = math.Log(kl/kr) / (2 * gridCurvatureStep) / l.Scale.Mid
 	return l, nil
 }
+
+// Reversed is the same line seen from B: the ends, their scale factors and
+// the end azimuths swap (each turned by π), and the rate of change of
+// curvature changes sign. The midpoint, the mean azimuth (taken modulo π),
+// the radius and the curvature on the grid (measured across Azimuth; only
+// κ² enters GridDistance) do not depend on the direction, so a job
+// computes each line once.
+func (l Line) Reversed() Line {
+	r := l
+	r.A, r.B = l.B, l.A
+	r.Inverse.Azimuth1 = wrapPi(l.Inverse.Azimuth2 + math.Pi)
+	r.Inverse.Azimuth2 = wrapPi(l.Inverse.Azimuth1 + math.Pi)
+	r.Scale.A, r.Scale.B = l.Scale.B, l.Scale.A
+	r.CurvatureRate = -l.CurvatureRate
+	return r
+}
+
+// wrapPi returns a in (−π, π].
+func wrapPi(a s1.Angle) s1.Angle {
+	x := math.Remainder(float64(a), 2*math.Pi)
+	if x <= -math.Pi {
+		x += 2 * math.Pi
+	}
+	return s1.Angle(x)
+}

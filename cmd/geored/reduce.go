@@ -306,8 +306,12 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 		return nil, err
 	}
 	lines.Write(report.AppendHeader(nil, report.LinesHeader(u)))
-	for i := range sum.Lines {
-		lines.Write(report.AppendLineRow(buf[:0], &sum.Lines[i], u))
+	if err := agg.EachLine(func(l *report.Line) error {
+		buf = report.AppendLineRow(buf[:0], l, u)
+		_, err := lines.Write(buf)
+		return err
+	}); err != nil {
+		return nil, err
 	}
 	js, err := out.create("summary.json")
 	if err != nil {

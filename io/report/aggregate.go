@@ -21,14 +21,14 @@ type Aggregator struct {
 
 	counts    Counts
 	ell, grid statsAcc
-	lines     map[[2]string]*lineAcc
+	lines     map[uint64]*lineAcc
 	order     []*lineAcc
 }
 
 // NewAggregator prepares for a job with the given critical value for |w|
 // and tolerance (hasTolerance false: no tolerance test).
 func NewAggregator(critical float64, tolerance reduce.DistanceSpec, hasTolerance bool) *Aggregator {
-	return &Aggregator{critical: critical, tolerance: tolerance, hasTol: hasTolerance, lines: map[[2]string]*lineAcc{}}
+	return &Aggregator{critical: critical, tolerance: tolerance, hasTol: hasTolerance, lines: map[uint64]*lineAcc{}}
 }
 
 // lineAcc accumulates one line's observations.
@@ -107,17 +107,14 @@ func (a *Aggregator) Add(r *job.Result) {
 	a.ell.add(e.Residual*1e3, e.PPM, e.Standardized)
 	a.grid.add(red.GridResidual.Residual*1e3, red.GridResidual.PPM, red.GridResidual.Standardized)
 
-	key, dir := [2]string{r.Obs.From, r.Obs.To}, 0
-	l := a.lines[key]
-	if l == nil {
-		if l = a.lines[[2]string{r.Obs.To, r.Obs.From}]; l != nil {
-			dir = 1
-		}
-	}
-	if l == nil {
+	l, dir := a.lines[r.LineKey], 0
+	switch {
+	case l == nil:
 		l = &lineAcc{from: r.Obs.From, to: r.Obs.To, geodesic: r.Line.Inverse.Distance, grid: r.Line.GridDistance, radius: r.Line.Radius}
-		a.lines[key] = l
+		a.lines[r.LineKey] = l
 		a.order = append(a.order, l)
+	case l.from != r.Obs.From:
+		dir = 1
 	}
 	arc := red.Geometry.Arc
 	l.n++
@@ -199,36 +196,66 @@ func (a *Aggregator) line(l *lineAcc) Line {
 	return out
 }
 
+// MaxListedLines is the most lines a summary lists besides the flagged
+// ones; a larger job lists only its flagged lines (lines.csv has all).
+const MaxListedLines = 2000
+
 // Finish completes the summary's counts, statistics, lines (flagged
-// first, then in the order first observed) and fit.
+// first, then in the order first observed; see MaxListedLines) and fit.
+// It keeps a few numbers per line, not the lines.
 func (a *Aggregator) Finish(s *Summary) {
-	lines := make([]Line, len(a.order))
-	for i, l := range a.order {
-		lines[i] = a.line(l)
-	}
-	sort.SliceStable(lines, func(i, j int) bool { return lines[i].Flagged() && !lines[j].Flagged() })
-	s.Lines = lines
 	s.Counts = a.counts
-	s.Counts.Lines = len(lines)
-	for _, l := range lines {
-		if l.Flagged() {
+	s.Counts.Lines = len(a.order)
+	s.Residuals = ResidualStats{Ellipsoid: a.ell.stats(), Grid: a.grid.stats()}
+	ell := make([]float64, 0, len(a.order))
+	grid := make([]float64, 0, len(a.order))
+	fit := make([]fitPoint, 0, len(a.order))
+	s.Lines = nil
+	var rest []Line
+	for _, acc := range a.order {
+		l := a.line(acc)
+		ell = append(ell, l.ResidualMM)
+		grid = append(grid, l.gridResidualMM)
+		if l.SigmaMM > 0 {
+			fit = append(fit, fitPoint{x: l.Geodesic, y: l.ResidualMM, w: 1 / (l.SigmaMM * l.SigmaMM)})
+		}
+		switch {
+		case l.Flagged():
 			s.Counts.FlaggedLines++
+			s.Lines = append(s.Lines, l)
+		case len(a.order) <= MaxListedLines:
+			rest = append(rest, l)
+		default:
+			s.LinesNotListed++
 		}
 	}
-	s.Residuals = ResidualStats{Ellipsoid: a.ell.stats(), Grid: a.grid.stats()}
-	s.Residuals.Ellipsoid.MedianMM = median(lines, func(l Line) float64 { return l.ResidualMM })
-	s.Residuals.Grid.MedianMM = median(lines, func(l Line) float64 { return l.gridResidualMM })
-	s.Fit = FitResiduals(lines, a.critical)
+	s.Lines = append(s.Lines, rest...)
+	s.Residuals.Ellipsoid.MedianMM = median(ell)
+	s.Residuals.Grid.MedianMM = median(grid)
+	s.Fit = fitLine(fit, a.critical)
 }
 
-// median is the median of a value of the lines.
-func median(lines []Line, value func(Line) float64) float64 {
-	if len(lines) == 0 {
-		return 0
+// EachLine calls write for every line, flagged ones first, then in the
+// order first observed: the rows of lines.csv.
+func (a *Aggregator) EachLine(write func(*Line) error) error {
+	for pass := 0; pass < 2; pass++ {
+		for _, acc := range a.order {
+			l := a.line(acc)
+			if l.Flagged() != (pass == 0) {
+				continue
+			}
+			if err := write(&l); err != nil {
+				return err
+			}
+		}
 	}
-	v := make([]float64, len(lines))
-	for i, l := range lines {
-		v[i] = value(l)
+	return nil
+}
+
+// median is the median of v; it sorts v.
+func median(v []float64) float64 {
+	if len(v) == 0 {
+		return 0
 	}
 	sort.Float64s(v)
 	n := len(v)

@@ -13,13 +13,20 @@ import "math"
 //	[Σw   Σwx ] [c]   [Σwy ]
 //	[Σwx  Σwx²] [s] = [Σwxy],  s0² = Σw v² / (n − 2),  C = s0² N⁻¹
 func FitResiduals(lines []Line, critical float64) *Fit {
-	type pt struct{ x, y, w float64 }
-	var pts []pt
+	var pts []fitPoint
 	for _, l := range lines {
 		if l.SigmaMM > 0 {
-			pts = append(pts, pt{x: l.Geodesic, y: l.ResidualMM, w: 1 / (l.SigmaMM * l.SigmaMM)})
+			pts = append(pts, fitPoint{x: l.Geodesic, y: l.ResidualMM, w: 1 / (l.SigmaMM * l.SigmaMM)})
 		}
 	}
+	return fitLine(pts, critical)
+}
+
+// fitPoint is one line for the fit: distance m, residual mm, weight 1/mm².
+type fitPoint struct{ x, y, w float64 }
+
+// fitLine is FitResiduals on prepared points; it reorders pts.
+func fitLine(pts []fitPoint, critical float64) *Fit {
 	for {
 		if len(pts) < 3 {
 			return nil

@@ -212,6 +212,9 @@ A significant constant suggests a wrong prism constant or additive constant; a s
 </tbody>
 </table>
 </div>
+{{- if .LinesNotListed}}
+<p id="lines-not-listed">{{.LinesNotListed}} lines within tolerance are not listed here nor plotted: lines.csv has every line.</p>
+{{- end}}
 {{- else}}
 <p>No lines were reduced.</p>
 {{- end}}

@@ -23,9 +23,12 @@ type Summary struct {
 	// wrong prism or additive constant, a scale at a wrong ppm setting.
 	Fit *Fit `json:"fit,omitempty"`
 
-	// Lines holds every line (flagged ones first), each once whichever
-	// direction it was observed in.
-	Lines []Line `json:"lines"`
+	// Lines holds the flagged lines and then, in a job of at most
+	// MaxListedLines lines, every other line; each once whichever way it
+	// was observed. LinesNotListed counts the lines left out: lines.csv
+	// has every line.
+	Lines          []Line `json:"lines"`
+	LinesNotListed int    `json:"lines_not_listed"`
 
 	// Warnings are notes on the inputs that did not stop the run.
 	Warnings []string `json:"warnings,omitempty"`

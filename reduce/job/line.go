@@ -22,24 +22,34 @@ func NewReduceLine(a, b Control, g *geodesic.Geodesic, p *geodesic.Projector) (r
 	return line, geo, err
 }
 
-// lineCache computes each directed line once per job, whichever worker
-// asks first; the others wait for that result. The result does not depend
-// on which worker computed it.
+// lineCache computes each line once per job, whichever way it is observed
+// and whichever worker asks first; the others wait for that result, which
+// does not depend on the worker. Lines are keyed by their end points'
+// positions in the plan.
 type lineCache struct {
 	mu    sync.Mutex
-	lines map[[2]string]*lineEntry
+	lines map[uint64]*lineEntry
 }
 
 type lineEntry struct {
 	once sync.Once
-	line reduce.Line
+	line reduce.Line // from the lower-numbered point to the higher
 	err  error
 }
 
-func newLineCache() *lineCache { return &lineCache{lines: map[[2]string]*lineEntry{}} }
+func newLineCache() *lineCache { return &lineCache{lines: map[uint64]*lineEntry{}} }
 
-func (c *lineCache) get(a, b Control, g *geodesic.Geodesic, p *geodesic.Projector) (*reduce.Line, error) {
-	key := [2]string{a.ID, b.ID}
+// lineKey names the line between points a and b, either way.
+func lineKey(a, b int32) uint64 {
+	if a > b {
+		a, b = b, a
+	}
+	return uint64(a)<<32 | uint64(uint32(b))
+}
+
+// get returns the line from point a to point b of the plan.
+func (c *lineCache) get(a, b int32, plan *Plan, p *geodesic.Projector) (reduce.Line, error) {
+	key := lineKey(a, b)
 	c.mu.Lock()
 	e, ok := c.lines[key]
 	if !ok {
@@ -47,6 +57,12 @@ func (c *lineCache) get(a, b Control, g *geodesic.Geodesic, p *geodesic.Projecto
 		c.lines[key] = e
 	}
 	c.mu.Unlock()
-	e.once.Do(func() { e.line, _, e.err = NewReduceLine(a, b, g, p) })
-	return &e.line, e.err
+	lo, hi := min(a, b), max(a, b)
+	e.once.Do(func() {
+		e.line, _, e.err = NewReduceLine(plan.points[lo].control, plan.points[hi].control, plan.Geodesic, p)
+	})
+	if e.err != nil || a == lo {
+		return e.line, e.err
+	}
+	return e.line.Reversed(), nil
 }

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"runtime"
+	"slices"
 	"sync"
 
 	"github.com/geored/geored/geodesic"
@@ -31,12 +32,30 @@ type Plan struct {
 	// a point missing here has no usable height.
 	Marks   map[string]reduce.MarkHeight
 	Workers int // 0: all cores
+
+	index  map[string]int32 // point id → position in points
+	points []planPoint
+}
+
+// planPoint is one control point as the per-row path needs it.
+type planPoint struct {
+	id      string
+	control Control
+	mark    reduce.MarkHeight
+	hasMark bool
 }
 
 // NewPlan completes a plan: the marks' heights on the job's datum.
 func NewPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, control map[string]Control) (*Plan, error) {
-	p := &Plan{Job: j, CRS: crs, Geodesic: g, Control: control, Marks: map[string]reduce.MarkHeight{}, Workers: j.Workers}
-	for id, c := range control {
+	p := &Plan{Job: j, CRS: crs, Geodesic: g, Control: control, Marks: map[string]reduce.MarkHeight{}, Workers: j.Workers,
+		index: make(map[string]int32, len(control))}
+	ids := make([]string, 0, len(control))
+	for id := range control {
+		ids = append(ids, id)
+	}
+	slices.SortFunc(ids, func(a, b string) int { return control[a].Line - control[b].Line })
+	for _, id := range ids {
+		c := control[id]
 		m, ok, err := markHeight(c, j.Datum)
 		if err != nil {
 			return nil, fmt.Errorf("point %q (line %d): %w", id, c.Line, err)
@@ -44,6 +63,8 @@ func NewPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, control 
 		if ok {
 			p.Marks[id] = m
 		}
+		p.index[id] = int32(len(p.points))
+		p.points = append(p.points, planPoint{id: id, control: c, mark: m, hasMark: ok})
 	}
 	return p, nil
 }
@@ -75,10 +96,13 @@ func markHeight(c Control, datum reduce.Datum) (reduce.MarkHeight, bool, error) 
 // A Result is one observation's outcome: a reduction, or the reason it
 // was rejected. Seq is its 0-based position among all rows read.
 type Result struct {
-	Seq       int64
-	Obs       obsfile.Observation
-	Profile   string
-	Line      *reduce.Line // the line's control data (shared: do not modify)
+	Seq     int64
+	Obs     obsfile.Observation
+	Profile string
+	// Line is the line's control data, from Obs.From to Obs.To; LineKey
+	// names the line whichever way it was observed.
+	Line      reduce.Line
+	LineKey   uint64
 	Reduction reduce.Reduction
 	// Rejected rows: File and LineNo say where, Raw is the row as written
 	// and Reason why it could not be reduced.
@@ -281,8 +305,8 @@ func reduceOne(plan *Plan, cache *lineCache, p *geodesic.Projector, r *Result, r
 		return
 	}
 	r.Profile = name
-	a, okA := plan.Control[o.From]
-	b, okB := plan.Control[o.To]
+	ia, okA := plan.index[o.From]
+	ib, okB := plan.index[o.To]
 	switch {
 	case !okA:
 		reject(fmt.Sprintf("%s: station %q is not in the points file", where, o.From))
@@ -291,18 +315,19 @@ func reduceOne(plan *Plan, cache *lineCache, p *geodesic.Projector, r *Result, r
 		reject(fmt.Sprintf("%s: target %q is not in the points file", where, o.To))
 		return
 	}
-	markA, ok := plan.Marks[o.From]
-	if !ok {
+	a, b := &plan.points[ia], &plan.points[ib]
+	o.From, o.To = a.id, b.id // the plan's strings: the row's may go
+	if !a.hasMark {
 		reject(fmt.Sprintf("%s: station %q has no height on the reduction datum (%s)", where, o.From, plan.Job.Datum))
 		return
 	}
-	markB := plan.Marks[o.To] // zero: the target's height comes from the zenith angle
-	line, err := cache.get(a, b, plan.Geodesic, p)
-	if err != nil {
+	markA, markB := a.mark, b.mark // markB zero: the target's height comes from the zenith angle
+	var err error
+	r.LineKey = lineKey(ia, ib)
+	if r.Line, err = cache.get(ia, ib, plan, p); err != nil {
 		reject(fmt.Sprintf("%s: line %s → %s: %v", where, o.From, o.To, err))
 		return
 	}
-	r.Line = line
 	prism := prof.PrismConstant
 	if o.HasPrismConstant {
 		prism = o.PrismConstant
@@ -324,7 +349,7 @@ func reduceOne(plan *Plan, cache *lineCache, p *geodesic.Projector, r *Result, r
 		reject(where.String() + ": the row records no temperature, pressure and humidity, and the job has no default_atmosphere")
 		return
 	}
-	if r.Reduction, err = reduce.Reduce(obs, prof.Chain, *line, markA, markB); err != nil {
+	if r.Reduction, err = reduce.Reduce(obs, prof.Chain, r.Line, markA, markB); err != nil {
 		reject(fmt.Sprintf("%s: %v", where, err))
 	}
 }

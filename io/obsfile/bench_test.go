@@ -1,0 +1,42 @@
+package obsfile
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"io"
+	"testing"
+
+	"github.com/geored/geored/io/units"
+)
+
+// BenchmarkObsReader decodes a 12-column observation file; ns/op is per
+// row.
+func BenchmarkObsReader(b *testing.B) {
+	var buf bytes.Buffer
+	buf.WriteString("obs_id,from,to,slope_distance,zenith_angle,instrument_height,target_height,temperature_c,pressure_hpa,humidity_pct,prism_constant_mm,instrument\n")
+	const rows = 10000
+	for i := range rows {
+		fmt.Fprintf(&buf, "%d,P%05d,P%05d,%.4f,%.6f,1.%03d,1.600,%.1f,1003.2,65,-30,ts\n", i, i%9973, (i*7)%9973, 1000+float64(i)*0.37, 89+float64(i%1000)/500, i%1000, 5+float64(i%200)/10)
+	}
+	data := buf.Bytes()
+	opt := ObsOptions{LengthUnit: units.Metre, AngleUnit: units.Degrees}
+	rowsRead := 0
+	for b.Loop() {
+		r, _, err := NewObsReader(bytes.NewReader(data), "bench.csv", opt)
+		if err != nil {
+			b.Fatal(err)
+		}
+		for {
+			_, err := r.Next()
+			if errors.Is(err, io.EOF) {
+				break
+			}
+			if err != nil {
+				b.Fatal(err)
+			}
+			rowsRead++
+		}
+	}
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(rowsRead), "ns/row")
+}

@@ -1,0 +1,64 @@
+package job
+
+import (
+	"math"
+	"strconv"
+	"testing"
+
+	"github.com/golang/geo/s1"
+	"github.com/golang/geo/s2"
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+
+	"github.com/geored/geored/geodesic"
+	"github.com/geored/geored/io/obsfile"
+)
+
+// A line computed from B equals the reversed line computed from A, so the
+// cache may compute each line once: checked against NewReduceLine both
+// ways on lines of 50 m to 30 km in several directions.
+func TestReversedLineEqualsLineFromB(t *testing.T) {
+	crs, err := geodesic.OpenCRS("EPSG:25832")
+	require.NoError(t, err)
+	p, err := crs.NewProjector()
+	require.NoError(t, err)
+	defer p.Close()
+	g, err := geodesic.NewGeodesic(crs.Ellipsoid())
+	require.NoError(t, err)
+	origin := s2.LatLngFromDegrees(51.2, 10.4)
+	for _, az := range []float64{0, 37, 90, 151, 180, 233, 299} {
+		for _, d := range []float64{50, 1500, 30000} {
+			end, _, err := g.Direct(origin, s1Deg(az), d)
+			require.NoError(t, err)
+			pts := []obsfile.Point{{ID: "A", LatLng: origin, HasLatLng: true}, {ID: "B", LatLng: end, HasLatLng: true}}
+			c, err := ResolveControl(pts, "t", p, Separations{})
+			require.NoError(t, err)
+			ab, _, err := NewReduceLine(c["A"], c["B"], g, p)
+			require.NoError(t, err)
+			ba, _, err := NewReduceLine(c["B"], c["A"], g, p)
+			require.NoError(t, err)
+			r := ab.Reversed()
+			name := func(q string) string { return q + " at azimuth " + ftoa(az) + "°, " + ftoa(d) + " m" }
+			assert.Equal(t, ba.A, r.A)
+			assert.Equal(t, ba.B, r.B)
+			assert.InDelta(t, ba.Inverse.Distance, r.Inverse.Distance, 1e-9, name("distance, m"))
+			assert.InDelta(t, 0, math.Remainder(float64(ba.Inverse.Azimuth1-r.Inverse.Azimuth1), 2*math.Pi), 1e-12, name("azimuth 1, rad"))
+			assert.InDelta(t, 0, math.Remainder(float64(ba.Inverse.Azimuth2-r.Inverse.Azimuth2), 2*math.Pi), 1e-12, name("azimuth 2, rad"))
+			assert.InDelta(t, ba.Radius, r.Radius, 1e-6, name("radius, m"))
+			assert.InDelta(t, ba.CurvatureRate, r.CurvatureRate, 1e-22, name("curvature rate, 1/m²"))
+			assert.InDelta(t, ba.Scale.A, r.Scale.A, 1e-15, name("k at A"))
+			assert.InDelta(t, ba.Scale.B, r.Scale.B, 1e-15, name("k at B"))
+			assert.InDelta(t, ba.Scale.Mid, r.Scale.Mid, 1e-12, name("k at the midpoint"))
+			// The sign of the curvature follows Azimuth, which for a line
+			// along a meridian may fall either side of 0 ≡ π; only κ²
+			// enters the grid distance.
+			assert.InDelta(t, math.Abs(ba.Scale.Curvature), math.Abs(r.Scale.Curvature), 1e-15, name("curvature on the grid, 1/m"))
+			assert.InDelta(t, ba.Midpoint.Lat.Degrees(), r.Midpoint.Lat.Degrees(), 1e-12, name("midpoint latitude"))
+			assert.Equal(t, ba.GridDistance, r.GridDistance)
+		}
+	}
+}
+
+func s1Deg(d float64) s1.Angle { return s1.Angle(d) * s1.Degree }
+
+func ftoa(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
