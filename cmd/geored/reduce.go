@@ -262,26 +262,27 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 	reduced.Write(report.AppendHeader(nil, report.ReducedHeader(u)))
 	rejects.Write(report.AppendHeader(nil, report.RejectsHeader))
 
+	plan.Format = func(dst []byte, r *job.Result) []byte {
+		if r.Rejected {
+			return report.AppendRejectRow(dst, r)
+		}
+		return report.AppendReducedRow(dst, r, u)
+	}
 	agg := report.NewAggregator(j.Critical, j.Tolerance, j.HasTolerance)
 	rowsPerSource := make(map[string]int)
 	var buf []byte
 	var rows atomic.Int64
 	stop := startProgress(opt.progress, &read, &rows, total)
 	err = job.Run(context.Background(), plan, sources, warn, func(r *job.Result) error {
-		buf = buf[:0]
-		if r.Rejected {
-			buf = report.AppendRejectRow(buf, r)
-			_, err := rejects.Write(buf)
-			rowsPerSource[r.File]++
-			agg.Add(r)
-			rows.Add(1)
-			return err
-		}
-		buf = report.AppendReducedRow(buf, r, u)
-		_, err := reduced.Write(buf)
-		rowsPerSource[r.Obs.File]++
 		agg.Add(r)
 		rows.Add(1)
+		if r.Rejected {
+			rowsPerSource[r.File]++
+			_, err := rejects.Write(r.Row)
+			return err
+		}
+		rowsPerSource[r.Obs.File]++
+		_, err := reduced.Write(r.Row)
 		return err
 	})
 	stop()

@@ -17,7 +17,7 @@ func BenchmarkObsReader(b *testing.B) {
 	buf.WriteString("obs_id,from,to,slope_distance,zenith_angle,instrument_height,target_height,temperature_c,pressure_hpa,humidity_pct,prism_constant_mm,instrument\n")
 	const rows = 10000
 	for i := range rows {
-		fmt.Fprintf(&buf, "%d,P%05d,P%05d,%.4f,%.6f,1.%03d,1.600,%.1f,1003.2,65,-30,ts\n", i, i%9973, (i*7)%9973, 1000+float64(i)*0.37, 89+float64(i%1000)/500, i%1000, 5+float64(i%200)/10)
+		fmt.Fprintf(&buf, "%d,P%05d,P%05d,%.4f,%.6f,1.%03d,1.600,%.1f,1003.2,65,-30,ts\n", i, i%9973, (i+1)%9973, 1000+float64(i)*0.37, 89+float64(i%1000)/500, i%1000, 5+float64(i%200)/10)
 	}
 	data := buf.Bytes()
 	opt := ObsOptions{LengthUnit: units.Metre, AngleUnit: units.Degrees}

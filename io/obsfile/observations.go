@@ -168,14 +168,18 @@ func (o *ObsReader) bad(i int, want string) *FieldError {
 	return &FieldError{File: o.t.file, Line: line, Column: i + 1, Field: o.t.header[i], Value: o.t.row[i], Want: want}
 }
 
-// number parses a finite decimal number in column i.
-func (o *ObsReader) number(i int, want string) (float64, *FieldError) {
+// number parses a finite decimal number in column i; want says what was
+// expected, built only when the value is bad.
+func (o *ObsReader) number(i int, want func() string) (float64, *FieldError) {
 	v, err := strconv.ParseFloat(o.field(i), 64)
 	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
-		return 0, o.bad(i, want)
+		return 0, o.bad(i, want())
 	}
 	return v, nil
 }
+
+// wants is a fixed description of an expected value.
+func wants(s string) func() string { return func() string { return s } }
 
 func (o *ObsReader) parse() (Observation, *FieldError) {
 	t := o.t
@@ -192,7 +196,7 @@ func (o *ObsReader) parse() (Observation, *FieldError) {
 		return ob, o.bad(o.to, fmt.Sprintf("a target other than the station %q", ob.From))
 	}
 	u := o.opt.LengthUnit
-	v, fe := o.number(o.slope, fmt.Sprintf("a slope distance in %s", u))
+	v, fe := o.number(o.slope, func() string { return fmt.Sprintf("a slope distance in %s", u) })
 	if fe != nil {
 		return ob, fe
 	}
@@ -205,14 +209,14 @@ func (o *ObsReader) parse() (Observation, *FieldError) {
 		return ob, &FieldError{File: t.file, Line: ob.Line, Column: o.zenith + 1, Field: colZenith, Value: t.row[o.zenith], Want: zenithWant(err, o.opt.AngleUnit), Err: err}
 	}
 	ob.Zenith = z
-	for _, h := range []struct {
+	for _, h := range [...]struct {
 		i   int
 		dst *float64
 	}{{o.hi, &ob.InstrumentHeight}, {o.ht, &ob.TargetHeight}} {
 		if h.i < 0 || o.field(h.i) == "" {
 			continue
 		}
-		v, fe := o.number(h.i, fmt.Sprintf("a height in %s", u))
+		v, fe := o.number(h.i, func() string { return fmt.Sprintf("a height in %s", u) })
 		if fe != nil {
 			return ob, fe
 		}
@@ -222,7 +226,7 @@ func (o *ObsReader) parse() (Observation, *FieldError) {
 		*h.dst = v * float64(u)
 	}
 	if o.prism >= 0 && o.field(o.prism) != "" {
-		v, fe := o.number(o.prism, "a prism constant in mm")
+		v, fe := o.number(o.prism, wants("a prism constant in mm"))
 		if fe != nil {
 			return ob, fe
 		}
@@ -248,7 +252,7 @@ func (o *ObsReader) weather(ti, pi, hi int) (Weather, *FieldError) {
 		return Weather{}, nil
 	}
 	blank := 0
-	for _, i := range []int{ti, pi, hi} {
+	for _, i := range [...]int{ti, pi, hi} {
 		if o.field(i) == "" {
 			blank++
 		}
@@ -258,7 +262,7 @@ func (o *ObsReader) weather(ti, pi, hi int) (Weather, *FieldError) {
 		return Weather{}, nil
 	case 0:
 	default:
-		for _, i := range []int{ti, pi, hi} {
+		for _, i := range [...]int{ti, pi, hi} {
 			if o.field(i) == "" {
 				return Weather{}, o.bad(i, "a value: temperature, pressure and humidity are given together or not at all")
 			}
@@ -266,19 +270,19 @@ func (o *ObsReader) weather(ti, pi, hi int) (Weather, *FieldError) {
 	}
 	var w Weather
 	var fe *FieldError
-	if w.TemperatureC, fe = o.number(ti, "a temperature in °C"); fe != nil {
+	if w.TemperatureC, fe = o.number(ti, wants("a temperature in °C")); fe != nil {
 		return w, fe
 	}
 	if w.TemperatureC < -60 || w.TemperatureC > 60 {
 		return w, o.bad(ti, "a temperature in -60..60 °C")
 	}
-	if w.PressureHPa, fe = o.number(pi, "a pressure in hPa"); fe != nil {
+	if w.PressureHPa, fe = o.number(pi, wants("a pressure in hPa")); fe != nil {
 		return w, fe
 	}
 	if w.PressureHPa < 500 || w.PressureHPa > 1100 {
 		return w, o.bad(pi, "a pressure in 500..1100 hPa")
 	}
-	if w.HumidityPct, fe = o.number(hi, "a relative humidity in %"); fe != nil {
+	if w.HumidityPct, fe = o.number(hi, wants("a relative humidity in %")); fe != nil {
 		return w, fe
 	}
 	if w.HumidityPct < 0 || w.HumidityPct > 100 {

@@ -22,12 +22,16 @@ func FitResiduals(lines []Line, critical float64) *Fit {
 	return fitLine(pts, critical)
 }
 
+// maxFitRounds bounds the rounds of removing blunders from the fit.
+const maxFitRounds = 64
+
 // fitPoint is one line for the fit: distance m, residual mm, weight 1/mm².
 type fitPoint struct{ x, y, w float64 }
 
 // fitLine is FitResiduals on prepared points; it reorders pts.
 func fitLine(pts []fitPoint, critical float64) *Fit {
-	for {
+	t := make([]float64, len(pts))
+	for round := 0; ; round++ {
 		if len(pts) < 3 {
 			return nil
 		}
@@ -46,25 +50,34 @@ func fitLine(pts []fitPoint, critical float64) *Fit {
 		c := (swxx*swy - swx*swxy) / det
 		s := (sw*swxy - swx*swy) / det
 		var vpv float64
-		worst, worstT := -1, 0.0
+		worstT := 0.0
 		for i, p := range pts {
 			v := p.y - (c + s*p.x)
 			vpv += p.w * v * v
 			// σ of the residual v: σ² − the fit's variance at x.
 			fitVar := (swxx - 2*p.x*swx + p.x*p.x*sw) / det
-			qv := 1/p.w - fitVar
-			if qv > 0 {
-				if t := math.Abs(v) / math.Sqrt(qv); t > worstT {
-					worst, worstT = i, t
-				}
+			t[i] = 0
+			if qv := 1/p.w - fitVar; qv > 0 {
+				t[i] = math.Abs(v) / math.Sqrt(qv)
 			}
+			worstT = math.Max(worstT, t[i])
 		}
 		n := len(pts)
 		s0sq := vpv / float64(n-2)
 		// Data snooping with the a priori σ (Baarda): the a posteriori
-		// factor would be inflated by the very blunder being sought.
-		if worstT > critical && n > 3 {
-			pts = append(pts[:worst], pts[worst+1:]...)
+		// factor would be inflated by the very blunder being sought. Each
+		// round drops the worst line and any nearly as bad (over half its
+		// test value), so that many blunders cost few rounds; after 64
+		// rounds the fit stands as it is.
+		if worstT > critical && n > 3 && round < maxFitRounds {
+			cut := math.Max(critical, worstT/2)
+			kept := pts[:0]
+			for i, p := range pts {
+				if t[i] <= cut {
+					kept = append(kept, p)
+				}
+			}
+			pts, t = kept, t[:len(kept)]
 			continue
 		}
 		sc := math.Sqrt(s0sq * swxx / det)

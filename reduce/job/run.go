@@ -32,6 +32,10 @@ type Plan struct {
 	// a point missing here has no usable height.
 	Marks   map[string]reduce.MarkHeight
 	Workers int // 0: all cores
+	// Format, if set, turns each result into its output row in the
+	// workers, so that formatting runs in parallel; the sink finds the
+	// row in Result.Row.
+	Format func(dst []byte, r *Result) []byte
 
 	index  map[string]int32 // point id → position in points
 	points []planPoint
@@ -111,6 +115,9 @@ type Result struct {
 	LineNo   int
 	Raw      string
 	Reason   string
+	// Row is Plan.Format's output for this result; it is reused after the
+	// sink returns.
+	Row []byte
 }
 
 // A Sink receives every result in input order, from one goroutine.
@@ -121,7 +128,8 @@ const batchSize = 256
 type batch struct {
 	seq     int64 // batch number
 	results []Result
-	errs    []error // per row: read error (a *obsfile.RowError) or nil
+	errs    []error  // per row: read error (a *obsfile.RowError) or nil
+	rows    [][]byte // formatted rows, reused with the batch
 }
 
 // Run reduces the observation sources in order, spreading the work over
@@ -165,7 +173,15 @@ func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Wa
 			defer p.Close()
 			for b := range todo {
 				for i := range b.results {
-					reduceOne(plan, cache, p, &b.results[i], b.errs[i])
+					r := &b.results[i]
+					reduceOne(plan, cache, p, r, b.errs[i])
+					if plan.Format != nil {
+						if i == len(b.rows) {
+							b.rows = append(b.rows, nil)
+						}
+						b.rows[i] = plan.Format(b.rows[i][:0], r)
+						r.Row = b.rows[i]
+					}
 				}
 				select {
 				case done <- b:
