@@ -6,6 +6,7 @@ import (
 	"os"
 
 	"github.com/geored/geored/geodesic"
+	"github.com/geored/geored/io/jobconfig"
 	"github.com/geored/geored/io/obsfile"
 	"github.com/geored/geored/io/units"
 	"github.com/geored/geored/reduce/job"
@@ -17,10 +18,27 @@ type session struct {
 	geod      *geodesic.Geodesic
 	proj      *geodesic.Projector
 	geoid     *geodesic.Geoid // nil when the job uses no geoid grid
+	geoidGrid string          // as opened: a grid, or "none"
+	seps      job.Separations // where N comes from
 	unit      units.LengthUnit
 	control   map[string]job.Control
 	order     []string // point ids in file order
 	pointFile string
+}
+
+// openJobSession opens a job's CRS and its geoid: the named grid, none,
+// or, when the job gives one N and no grid, that constant.
+func openJobSession(j *jobconfig.Job) (*session, error) {
+	grid := j.Geoid
+	if grid == "" && j.HasConstantN {
+		grid = "none"
+	}
+	s, err := openSession(j.CRS, grid, j.LengthUnit)
+	if err != nil {
+		return nil, err
+	}
+	s.seps.Constant, s.seps.HasConstant = j.ConstantN, j.HasConstantN
+	return s, nil
 }
 
 // openSession opens the CRS, the geoid ("none" for no grid, "" for the
@@ -38,12 +56,14 @@ func openSession(crsDef, geoidGrid string, unit units.LengthUnit) (*session, err
 	if err != nil {
 		return nil, err
 	}
-	s := &session{crs: crs, geod: g, proj: p, unit: unit}
+	s := &session{crs: crs, geod: g, proj: p, unit: unit, geoidGrid: geoidGrid}
 	if geoidGrid != "none" {
 		if s.geoid, err = geodesic.OpenGeoid(geoidGrid); err != nil {
 			p.Close()
 			return nil, err
 		}
+		s.geoidGrid = s.geoid.Grid()
+		s.seps.Grid = s.geoid
 	}
 	return s, nil
 }
@@ -55,37 +75,43 @@ func (s *session) close() {
 	}
 }
 
-// loadPoints reads and resolves a points file; warnings go to stderr.
-func (s *session) loadPoints(r io.Reader, name string, stderr io.Writer) error {
+// loadPoints reads and resolves a points file; each warning goes to warn.
+// It returns the number of points.
+func (s *session) loadPoints(r io.Reader, name string, warn func(obsfile.Warning)) (int, error) {
 	pts, warnings, err := obsfile.ReadPoints(r, name, obsfile.PointOptions{
 		GridUnit:   units.LengthUnit(s.crs.MetresPerUnit()),
 		HeightUnit: s.unit,
 	})
 	for _, w := range warnings {
-		fmt.Fprintf(stderr, "warning: %s\n", w)
+		warn(w)
 	}
 	if err != nil {
-		return err
+		return 0, err
 	}
-	s.control, err = job.ResolveControl(pts, name, s.proj, job.Separations{Grid: s.geoid})
-	if err != nil {
-		return err
+	if s.control, err = job.ResolveControl(pts, name, s.proj, s.seps); err != nil {
+		return 0, err
 	}
 	s.order = s.order[:0]
 	for _, p := range pts {
 		s.order = append(s.order, p.ID)
 	}
 	s.pointFile = name
-	return nil
+	return len(pts), nil
 }
 
-func (s *session) loadPointFile(path string, stderr io.Writer) error {
+func (s *session) loadPointFile(path string, warn func(obsfile.Warning)) error {
 	f, err := os.Open(path)
 	if err != nil {
 		return err
 	}
 	defer f.Close()
-	return s.loadPoints(f, path, stderr)
+	_, err = s.loadPoints(f, path, warn)
+	return err
+}
+
+// warnTo prints warnings on w.
+func warnTo(w io.Writer) func(obsfile.Warning) {
+	return func(wn obsfile.Warning) { fmt.Fprintf(w, "warning: %s\n", wn) }
 }
 
 // point looks a control point up by id.

@@ -111,7 +111,7 @@ func (f *inverseFlags) pairs(s *session, stderr io.Writer) ([][2]job.Control, er
 	if f.points == "" {
 		return nil, errors.New("give -points FILE, or -a and -b")
 	}
-	if err := s.loadPointFile(f.points, stderr); err != nil {
+	if err := s.loadPointFile(f.points, warnTo(stderr)); err != nil {
 		return nil, err
 	}
 	var ids [][2]string

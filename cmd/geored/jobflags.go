@@ -3,6 +3,7 @@ package main
 import (
 	"flag"
 	"fmt"
+	"path/filepath"
 	"strconv"
 	"strings"
 
@@ -163,6 +164,35 @@ func (f *jobFlags) applyProfile(jf *jobconfig.File) error {
 	}
 	jf.Instrument[name] = in
 	return nil
+}
+
+// resolve reads the config file (if any), lays the set flags over it,
+// takes the paths it names (points, out, observations) relative to it,
+// and validates the job.
+func (f *jobFlags) resolve(fs *flag.FlagSet) (*jobconfig.Job, error) {
+	file, name, err := f.file(fs)
+	if err != nil {
+		return nil, err
+	}
+	if f.config != "" {
+		base := filepath.Dir(f.config)
+		rel := func(p string) string {
+			if p == "" || filepath.IsAbs(p) {
+				return p
+			}
+			return filepath.Join(base, p)
+		}
+		if !f.set["points"] {
+			file.Points = rel(file.Points)
+		}
+		if !f.set["out"] {
+			file.Out = rel(file.Out)
+		}
+		for i, o := range file.Observations {
+			file.Observations[i] = rel(o)
+		}
+	}
+	return jobconfig.Resolve(file, name)
 }
 
 // parseAPlusB reads "5mm+5ppm", "5 mm + 5 ppm" or "5+5".

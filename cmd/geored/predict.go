@@ -9,7 +9,6 @@ import (
 	"io"
 	"math"
 	"os"
-	"path/filepath"
 	"slices"
 	"strconv"
 	"strings"
@@ -56,7 +55,7 @@ Flags:
 	if *pairs == "" {
 		return fail(stderr, "predict", errors.New("-pairs FILE is required"))
 	}
-	j, err := resolveJobFlags(fs, &jf)
+	j, err := jf.resolve(fs)
 	if err != nil {
 		return fail(stderr, "predict", err)
 	}
@@ -99,20 +98,6 @@ Flags:
 // cautionText is printed under every table.
 const cautionText = "Results support, and do not replace, the judgement of a licensed surveyor;\nlocal regulations and standards govern."
 
-// resolveJobFlags reads the config file (if any), lays the set flags over
-// it, takes its points path relative to the config file, and validates
-// the job.
-func resolveJobFlags(fs *flag.FlagSet, jf *jobFlags) (*jobconfig.Job, error) {
-	file, name, err := jf.file(fs)
-	if err != nil {
-		return nil, err
-	}
-	if jf.config != "" && !jf.set["points"] && file.Points != "" && !filepath.IsAbs(file.Points) {
-		file.Points = filepath.Join(filepath.Dir(jf.config), file.Points)
-	}
-	return jobconfig.Resolve(file, name)
-}
-
 // jobWorld is a job's CRS, geodesic, control and marks, opened once.
 type jobWorld struct {
 	job  *jobconfig.Job
@@ -125,16 +110,16 @@ func openJobWorld(j *jobconfig.Job, stderr io.Writer) (*jobWorld, error) {
 	if j.Points == "" {
 		return nil, errors.New("no points file: give points in the config or -points")
 	}
-	geoidGrid := j.Geoid
-	if geoidGrid == "" && j.HasConstantN {
-		geoidGrid = "none"
-	}
-	s, err := openSession(j.CRS, geoidGrid, j.LengthUnit)
+	s, err := openJobSession(j)
 	if err != nil {
 		return nil, err
 	}
 	w := &jobWorld{job: j, sess: s}
-	if err := w.loadPoints(stderr); err != nil {
+	if err := s.loadPointFile(j.Points, warnTo(stderr)); err != nil {
+		s.close()
+		return nil, err
+	}
+	if w.plan, err = job.NewPlan(j, s.crs, s.geod, s.control); err != nil {
 		s.close()
 		return nil, err
 	}
@@ -142,30 +127,6 @@ func openJobWorld(j *jobconfig.Job, stderr io.Writer) (*jobWorld, error) {
 }
 
 func (w *jobWorld) close() { w.sess.close() }
-
-func (w *jobWorld) loadPoints(stderr io.Writer) error {
-	f, err := os.Open(w.job.Points)
-	if err != nil {
-		return err
-	}
-	defer f.Close()
-	s := w.sess
-	pts, warnings, err := obsfile.ReadPoints(f, w.job.Points, obsfile.PointOptions{
-		GridUnit: units.LengthUnit(s.crs.MetresPerUnit()), HeightUnit: w.job.LengthUnit})
-	for _, wn := range warnings {
-		fmt.Fprintf(stderr, "warning: %s\n", wn)
-	}
-	if err != nil {
-		return err
-	}
-	seps := job.Separations{Grid: s.geoid, Constant: w.job.ConstantN, HasConstant: w.job.HasConstantN}
-	if s.control, err = job.ResolveControl(pts, w.job.Points, s.proj, seps); err != nil {
-		return err
-	}
-	s.pointFile = w.job.Points
-	w.plan, err = job.NewPlan(w.job, s.crs, s.geod, s.control)
-	return err
-}
 
 // mark returns a control point and its height on the job's datum.
 func (w *jobWorld) mark(id, role string, at sightSource) (job.Control, reduce.MarkHeight, error) {

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"bytes"
 	"context"
 	"crypto/sha256"
 	"encoding/hex"
@@ -21,7 +22,6 @@ import (
 	"github.com/geored/geored/io/jobconfig"
 	"github.com/geored/geored/io/obsfile"
 	"github.com/geored/geored/io/report"
-	"github.com/geored/geored/io/units"
 	"github.com/geored/geored/reduce/job"
 )
 
@@ -95,35 +95,13 @@ Flags:
 		}
 		return exitFailed
 	}
-	file, name, err := jf.file(fs)
+	j, err := jf.resolve(fs)
 	if err != nil {
 		return fail(stderr, "reduce", err)
 	}
-	if jf.config != "" { // paths in the config file are relative to it
-		base := filepath.Dir(jf.config)
-		rel := func(p string) string {
-			if p == "" || filepath.IsAbs(p) {
-				return p
-			}
-			return filepath.Join(base, p)
-		}
-		if !jf.set["points"] {
-			file.Points = rel(file.Points)
-		}
-		if !jf.set["out"] {
-			file.Out = rel(file.Out)
-		}
-		for i, o := range file.Observations {
-			file.Observations[i] = rel(o)
-		}
-	}
-	file.Observations = append(file.Observations, fs.Args()...)
-	if file.Out == "" {
-		file.Out = defaultOut
-	}
-	j, err := jobconfig.Resolve(file, name)
-	if err != nil {
-		return fail(stderr, "reduce", err)
+	j.Observations = append(j.Observations, fs.Args()...)
+	if j.Out == "" {
+		j.Out = defaultOut
 	}
 	if *cpuProfile != "" {
 		stop, err := startCPUProfile(*cpuProfile)
@@ -172,11 +150,7 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 	if len(j.Observations) == 0 && len(opt.inputs) == 0 {
 		return nil, errors.New("no observation files: name them after the flags or in the config's observations")
 	}
-	geoidGrid := j.Geoid
-	if geoidGrid == "" && j.HasConstantN {
-		geoidGrid = "none"
-	}
-	s, err := openSession(j.CRS, geoidGrid, j.LengthUnit)
+	s, err := openJobSession(j)
 	if err != nil {
 		return nil, err
 	}
@@ -201,25 +175,16 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 	if err != nil {
 		return nil, err
 	}
-	pts, warnings, err := obsfile.ReadPoints(strings.NewReader(string(pointsData)), pointsName, obsfile.PointOptions{
-		GridUnit: units.LengthUnit(s.crs.MetresPerUnit()), HeightUnit: j.LengthUnit})
-	for _, w := range warnings {
-		warn(w)
-	}
+	nPoints, err := s.loadPoints(bytes.NewReader(pointsData), pointsName, warn)
 	if err != nil {
 		return nil, err
 	}
-	seps := job.Separations{Grid: s.geoid, Constant: j.ConstantN, HasConstant: j.HasConstantN}
-	control, err := job.ResolveControl(pts, pointsName, s.proj, seps)
-	if err != nil {
-		return nil, err
-	}
-	plan, err := job.NewPlan(j, s.crs, s.geod, control)
+	plan, err := job.NewPlan(j, s.crs, s.geod, s.control)
 	if err != nil {
 		return nil, err
 	}
 	ph := sha256.Sum256(pointsData)
-	sum.Inputs = append(sum.Inputs, report.InputFile{Role: "points", Path: pointsName, SHA256: hex.EncodeToString(ph[:]), Rows: len(pts)})
+	sum.Inputs = append(sum.Inputs, report.InputFile{Role: "points", Path: pointsName, SHA256: hex.EncodeToString(ph[:]), Rows: nPoints})
 
 	// Observation sources, hashed and counted as they stream.
 	var sources []job.Source
@@ -292,7 +257,7 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 	for i, src := range sources {
 		sum.Inputs = append(sum.Inputs, report.InputFile{Role: "observations", Path: src.Name, SHA256: hex.EncodeToString(hashes[i].Sum(nil)), Rows: rowsPerSource[src.Name]})
 	}
-	sum.Settings = settings(j, s.crs, geoidGrid, opt.strict)
+	sum.Settings = settings(j, s.crs, s.geoidGrid, opt.strict)
 	sum.InputHash = inputHash(sum)
 	agg.Finish(sum)
 	switch {
@@ -345,8 +310,6 @@ func settings(j *jobconfig.Job, crs *geodesic.CRS, geoidGrid string, strict bool
 		geoid = fmt.Sprintf("constant N = %g m", j.ConstantN)
 	case geoidGrid == "none":
 		geoid = "none"
-	case geoidGrid == "":
-		geoid = geodesic.DefaultGeoidGrid
 	}
 	atm := "none"
 	if j.HasDefaultAtmosphere {

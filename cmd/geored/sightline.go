@@ -159,7 +159,7 @@ func (f *sightlineFlags) sightline(fs *flag.FlagSet, jf *jobFlags, stderr io.Wri
 		title := fmt.Sprintf("line of sight over %s %s, eye %s %s, target %s %s above the ground", fmtLen(f.distance*u, unit), unit, fmtLen(f.eye*u, unit), unit, fmtLen(f.target*u, unit), unit)
 		return s, unit, title, err
 	}
-	j, err := resolveJobFlags(fs, jf)
+	j, err := jf.resolve(fs)
 	if err != nil {
 		return reduce.Sightline{}, 0, "", err
 	}
