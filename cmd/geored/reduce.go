@@ -304,12 +304,9 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 
 // settings records the job's settings as used.
 func settings(j *jobconfig.Job, crs *geodesic.CRS, geoidGrid string, strict bool) report.Settings {
-	geoid := geoidGrid
-	switch {
-	case geoidGrid == "none" && j.HasConstantN:
+	geoid := geoidGrid // a grid's name, or "none"
+	if geoidGrid == "none" && j.HasConstantN {
 		geoid = fmt.Sprintf("constant N = %g m", j.ConstantN)
-	case geoidGrid == "none":
-		geoid = "none"
 	}
 	atm := "none"
 	if j.HasDefaultAtmosphere {

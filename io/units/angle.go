@@ -172,14 +172,3 @@ func FormatAngle(a s1.Angle, u AngleUnit, decimals int) (string, error) {
 	return strconv.FormatFloat(float64(a/per), 'f', decimals, 64), nil
 }
 
-// NormalizeAzimuth returns the azimuth equivalent to a in [0, 2π).
-func NormalizeAzimuth(a s1.Angle) s1.Angle {
-	r := math.Mod(float64(a), 2*math.Pi)
-	if r < 0 {
-		r += 2 * math.Pi
-	}
-	if r >= 2*math.Pi { // a tiny negative a rounds up to 2π
-		r = 0
-	}
-	return s1.Angle(r)
-}

@@ -195,26 +195,6 @@ func TestPackedRoundTrip(t *testing.T) {
 	}
 }
 
-func TestNormalizeAzimuth(t *testing.T) {
-	cases := []struct {
-		in, want s1.Angle
-	}{
-		{0, 0},
-		{-90 * s1.Degree, 270 * s1.Degree},
-		{360 * s1.Degree, 0},
-		{725 * s1.Degree, 5 * s1.Degree},
-		{-1e-18, 0},
-		{-400 * Gon, 0},
-	}
-	for _, c := range cases {
-		got := NormalizeAzimuth(c.in)
-		// compare around the circle: -400 gon may land one ulp below 2π
-		diff := math.Remainder(float64(got-c.want), 2*math.Pi)
-		assert.InDeltaf(t, 0, diff, 1e-14, "normalize %v (rad)", c.in.Degrees())
-		assert.Truef(t, got >= 0 && got < 2*math.Pi, "normalize %v: %v outside [0, 2π)", c.in.Degrees(), got)
-	}
-}
-
 func TestParseAngleUnit(t *testing.T) {
 	for _, u := range []AngleUnit{Degrees, PackedDMS, Gons, Radians} {
 		got, err := ParseAngleUnit(u.String())
