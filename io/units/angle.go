@@ -171,4 +171,3 @@ func FormatAngle(a s1.Angle, u AngleUnit, decimals int) (string, error) {
 	}
 	return strconv.FormatFloat(float64(a/per), 'f', decimals, 64), nil
 }
-
