@@ -6,28 +6,45 @@ GO      ?= go
 BIN     := bin/geored
 PROJ_DATA_FILE := /usr/share/proj/egm96_15.gtx
 APT_PACKAGES   := pkg-config libproj-dev proj-data
+BENCH_OBS      ?= 1000000
+BENCH_DIR      ?= /tmp/geored-bench-$(BENCH_OBS)
 
-.PHONY: all deps chromium build test demo bench vet clean
+.PHONY: all deps chromium bench-tools build test demo bench profile vet clean
 
 all: build
 
-# deps: PROJ >= 9.1 with pkg-config, and proj-data's EGM96 grid, the default geoid.
-deps:
-	@if command -v pkg-config >/dev/null 2>&1 && pkg-config --exists 'proj >= 9.1' && [ -f $(PROJ_DATA_FILE) ]; then \
-		echo "deps: PROJ $$(pkg-config --modversion proj) and $(PROJ_DATA_FILE) present"; \
+# apt_install: $(1) names the need, $(2) is a shell test that it is met,
+# $(3) the Debian packages that meet it. When the test fails they are
+# installed with apt-get, as root or through sudo; without either the
+# target stops and says what to install.
+define apt_install
+	@if $(2); then \
+		echo "$(1): present"; \
 	else \
 		if [ "$$(id -u)" = 0 ]; then SUDO=; \
 		elif command -v sudo >/dev/null 2>&1; then SUDO=sudo; \
-		else echo "deps: PROJ is missing and this user cannot install it: as root run"; \
-		     echo "      apt-get update && apt-get install -y $(APT_PACKAGES)"; exit 1; fi; \
-		if ! command -v apt-get >/dev/null 2>&1; then \
-			echo "deps: no apt-get here: install PROJ >= 9.1 (development files, pkg-config file) and its data (egm96_15.gtx)"; exit 1; fi; \
-		echo "deps: installing $(APT_PACKAGES)"; \
+		else echo "$(1): missing and this user cannot install it: as root run"; \
+		     echo "      apt-get update && apt-get install -y $(3)"; exit 1; fi; \
+		command -v apt-get >/dev/null 2>&1 || { echo "$(1): no apt-get here: install the equivalent of Debian's $(3)"; exit 1; }; \
+		echo "$(1): installing $(3)"; \
 		$$SUDO env DEBIAN_FRONTEND=noninteractive apt-get update -qq && \
-		$$SUDO env DEBIAN_FRONTEND=noninteractive apt-get install -y -qq --no-install-recommends $(APT_PACKAGES) >/dev/null && \
-		pkg-config --exists 'proj >= 9.1' && [ -f $(PROJ_DATA_FILE) ] && \
-		echo "deps: PROJ $$(pkg-config --modversion proj) installed"; \
+		$$SUDO env DEBIAN_FRONTEND=noninteractive apt-get install -y -qq --no-install-recommends $(3) >/dev/null && \
+		{ $(2); } && echo "$(1): installed"; \
 	fi
+endef
+
+# deps: PROJ >= 9.1 with pkg-config, and proj-data's EGM96 grid, the default geoid.
+deps:
+	$(call apt_install,PROJ >= 9.1 and $(PROJ_DATA_FILE),command -v pkg-config >/dev/null 2>&1 && pkg-config --exists 'proj >= 9.1' && [ -f $(PROJ_DATA_FILE) ],$(APT_PACKAGES))
+
+# chromium: Debian's chromium, for the test that opens report.html in a
+# headless browser (io/report). Only `make test` needs it.
+chromium:
+	$(call apt_install,chromium,[ -x /usr/bin/chromium ],chromium)
+
+# bench-tools: PROJ's geod, which make bench runs beside geored.
+bench-tools:
+	$(call apt_install,geod,command -v geod >/dev/null 2>&1,proj-bin)
 
 build: deps
 	$(GO) build -o $(BIN) ./cmd/geored
@@ -35,34 +52,28 @@ build: deps
 vet: deps
 	$(GO) vet ./...
 
-# chromium: Debian's chromium, for the test that opens report.html in a
-# headless browser (io/report). Only `make test` needs it.
-chromium:
-	@if [ -x /usr/bin/chromium ]; then \
-		echo "chromium: $$(/usr/bin/chromium --version 2>/dev/null | head -n 1) present"; \
-	else \
-		if [ "$$(id -u)" = 0 ]; then SUDO=; \
-		elif command -v sudo >/dev/null 2>&1; then SUDO=sudo; \
-		else echo "chromium: /usr/bin/chromium is missing and this user cannot install it: as root run"; \
-		     echo "      apt-get update && apt-get install -y chromium"; exit 1; fi; \
-		if ! command -v apt-get >/dev/null 2>&1; then \
-			echo "chromium: no apt-get here: install Chromium as /usr/bin/chromium for the report's browser test"; exit 1; fi; \
-		echo "chromium: installing Debian's chromium"; \
-		$$SUDO env DEBIAN_FRONTEND=noninteractive apt-get update -qq && \
-		$$SUDO env DEBIAN_FRONTEND=noninteractive apt-get install -y -qq --no-install-recommends chromium >/dev/null && \
-		[ -x /usr/bin/chromium ] && \
-		echo "chromium: $$(/usr/bin/chromium --version 2>/dev/null | head -n 1) installed"; \
-	fi
-
 test: deps vet chromium
 	GEORED_CHROMIUM_TEST=1 $(GO) test -race -count=1 ./...
 
 demo: build
 	./$(BIN) demo
 
-# bench: per-operation benchmarks; medians over 5 runs are what to quote.
-bench: deps
-	$(GO) test -run '^$$' -bench . -benchmem -count 5 ./...
+# bench: the per-stage benchmarks (go test -bench; quote medians), then the
+# whole job: a synthetic job of $(BENCH_OBS) observations timed beside the
+# parse floor and geod -I, on one worker and on all cores.
+bench: deps bench-tools build
+	$(GO) test -run '^$$' -bench . -benchmem -count 3 -benchtime 200ms ./...
+	$(GO) build -o bin/georedbench ./cmd/georedbench
+	[ -f $(BENCH_DIR)/observations.csv ] || ./bin/georedbench gen -dir $(BENCH_DIR) -obs $(BENCH_OBS)
+	./bin/georedbench run -dir $(BENCH_DIR) -geored $(BIN)
+
+# profile: a CPU profile of geored reduce on the synthetic job, and where
+# the time goes.
+profile: deps build
+	$(GO) build -o bin/georedbench ./cmd/georedbench
+	[ -f $(BENCH_DIR)/observations.csv ] || ./bin/georedbench gen -dir $(BENCH_DIR) -obs $(BENCH_OBS)
+	./$(BIN) reduce -config $(BENCH_DIR)/job.toml -quiet -out $(BENCH_DIR)/out-profile -cpuprofile bin/reduce.prof || [ $$? = 1 ]
+	$(GO) tool pprof -top -nodecount 25 $(BIN) bin/reduce.prof
 
 clean:
 	rm -rf bin geored-demo geored-out
