@@ -6,7 +6,9 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"slices"
+	"strconv"
 	"strings"
 )
 
@@ -19,6 +21,8 @@ type table struct {
 	header []string
 	row    []string
 	line   int // line of the current row
+	// headerLine is the line of the header row.
+	headerLine int
 }
 
 const bom = "\uFEFF"
@@ -43,6 +47,7 @@ func openTable(r io.Reader, file string, known []string) (*table, []Warning, err
 		return nil, nil, t.csvError(err)
 	}
 	t.line, _ = cr.FieldPos(0)
+	t.headerLine = t.line
 	t.header = slices.Clone(header)
 	var warnings []Warning
 	for i, h := range t.header {
@@ -77,6 +82,57 @@ func (t *table) require(names ...string) error {
 }
 
 func (t *table) has(name string) bool { _, ok := t.col[name]; return ok }
+
+// together checks that the columns named are all in the header or none
+// of them is.
+func (t *table) together(names ...string) error {
+	n := 0
+	for _, name := range names {
+		if t.has(name) {
+			n++
+		}
+	}
+	if n == 0 || n == len(names) {
+		return nil
+	}
+	return &HeaderError{File: t.file, Line: t.headerLine, Reason: strings.Join(names[:len(names)-1], ", ") + " and " + names[len(names)-1] + " go together"}
+}
+
+// eachRow calls parse on every row after the header. It reports every bad
+// row (a *FieldError from reading or from parse), up to maxErrors, in one
+// joined error; any other error ends the file and is returned alone. A file
+// with no rows is a *HeaderError: "no <what> after the header".
+func (t *table) eachRow(what string, parse func() error) error {
+	var errs []error
+	rows := 0
+	for {
+		err := t.next()
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		if err == nil {
+			rows++
+			err = parse()
+		}
+		if err != nil {
+			var fe *FieldError
+			if !errors.As(err, &fe) {
+				return err
+			}
+			if errs = append(errs, err); len(errs) == maxErrors {
+				errs = append(errs, fmt.Errorf("%s: stopped after %d errors", t.file, maxErrors))
+				break
+			}
+		}
+	}
+	if len(errs) > 0 {
+		return errors.Join(errs...)
+	}
+	if rows == 0 {
+		return &HeaderError{File: t.file, Line: t.headerLine, Reason: "no " + what + " after the header"}
+	}
+	return nil
+}
 
 // next reads the next row, skipping rows whose fields are all blank. It
 // returns io.EOF at the end.
@@ -116,6 +172,26 @@ func (t *table) get(name string) string {
 		return ""
 	}
 	return strings.TrimSpace(t.row[i])
+}
+
+// number parses a finite decimal number in column name and checks it lies
+// in [lo, hi]; want says what was expected. A blank is a bad value.
+func (t *table) number(name, want string, lo, hi float64) (float64, error) {
+	v, err := strconv.ParseFloat(t.get(name), 64)
+	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) || v < lo || v > hi {
+		return 0, t.fieldError(name, want, err)
+	}
+	return v, nil
+}
+
+// optionalNumber is number for a column that may be absent or blank; the
+// bool says whether a value was given.
+func (t *table) optionalNumber(name, want string, lo, hi float64) (float64, bool, error) {
+	if t.get(name) == "" {
+		return 0, false, nil
+	}
+	v, err := t.number(name, want, lo, hi)
+	return v, err == nil, err
 }
 
 // fieldError builds the error for a bad value of column name in the
