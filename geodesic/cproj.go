@@ -161,6 +161,25 @@ static geored_position geored_direct(const struct geod_geodesic *g,
 	return p;
 }
 
+typedef struct {
+	double s12, azi1, azi2, mid_lat, mid_lon;
+} geored_inverse_mid;
+
+// geored_inverse_midpoint solves the inverse problem and finds the
+// midpoint on one geodesic line.
+static geored_inverse_mid geored_inverse_midpoint(const struct geod_geodesic *g,
+		double lat1, double lon1, double lat2, double lon2) {
+	struct geod_geodesicline l;
+	geored_inverse_mid r;
+	double lat, lon;
+	geod_inverseline(&l, g, lat1, lon1, lat2, lon2, GEOD_LATITUDE | GEOD_LONGITUDE | GEOD_AZIMUTH | GEOD_DISTANCE_IN);
+	r.s12 = l.s13;
+	r.azi1 = l.azi1;
+	geod_position(&l, l.s13, &lat, &lon, &r.azi2);
+	geod_position(&l, l.s13 / 2, &r.mid_lat, &r.mid_lon, NULL);
+	return r;
+}
+
 static geored_position geored_midpoint(const struct geod_geodesic *g,
 		double lat1, double lon1, double lat2, double lon2) {
 	struct geod_geodesicline l;
@@ -320,6 +339,13 @@ func (c *geodCore) inverse(lat1, lon1, lat2, lon2 float64) (s12, azi1, azi2 floa
 func (c *geodCore) direct(lat1, lon1, azi1, s12 float64) (lat2, lon2, azi2 float64) {
 	p := C.geored_direct(&c.g, C.double(lat1), C.double(lon1), C.double(azi1), C.double(s12))
 	return float64(p.lat), float64(p.lon), float64(p.azi)
+}
+
+// inverseMidpoint returns the inverse solution and the midpoint, in
+// metres and degrees.
+func (c *geodCore) inverseMidpoint(lat1, lon1, lat2, lon2 float64) (s12, azi1, azi2, midLat, midLon float64) {
+	r := C.geored_inverse_midpoint(&c.g, C.double(lat1), C.double(lon1), C.double(lat2), C.double(lon2))
+	return float64(r.s12), float64(r.azi1), float64(r.azi2), float64(r.mid_lat), float64(r.mid_lon)
 }
 
 // midpoint returns the point halfway along the geodesic, in degrees.

@@ -108,3 +108,18 @@ func (g *Geodesic) Midpoint(a, b s2.LatLng) (s2.LatLng, error) {
 	lat, lon := g.core.midpoint(a.Lat.Degrees(), a.Lng.Degrees(), b.Lat.Degrees(), b.Lng.Degrees())
 	return s2.LatLngFromDegrees(lat, lon), nil
 }
+
+// InverseMidpoint solves the inverse problem between a and b and gives the
+// midpoint of the same geodesic, in one pass: what Inverse and Midpoint
+// give, for about the price of Inverse.
+func (g *Geodesic) InverseMidpoint(a, b s2.LatLng) (Line, s2.LatLng, error) {
+	if err := checkLatLng("first", a); err != nil {
+		return Line{}, s2.LatLng{}, err
+	}
+	if err := checkLatLng("second", b); err != nil {
+		return Line{}, s2.LatLng{}, err
+	}
+	s12, azi1, azi2, lat, lon := g.core.inverseMidpoint(a.Lat.Degrees(), a.Lng.Degrees(), b.Lat.Degrees(), b.Lng.Degrees())
+	l := Line{Distance: s12, Azimuth1: s1.Angle(azi1) * s1.Degree, Azimuth2: s1.Angle(azi2) * s1.Degree}
+	return l, s2.LatLngFromDegrees(lat, lon), nil
+}

@@ -88,6 +88,16 @@ func TestDirectAndMidpointAgreeWithInverse(t *testing.T) {
 
 		mid, err := g.Midpoint(a, b)
 		require.NoError(t, err)
+		both, mid2, err := g.InverseMidpoint(a, b)
+		require.NoError(t, err)
+		assert.InDeltaf(t, line.Distance, both.Distance, 15e-6*mm, "line %d: InverseMidpoint distance, metres (Karney 2013: 15 nm)", r.line)
+		assert.InDeltaf(t, 0, angleDiff(both.Azimuth1.Degrees(), line.Azimuth1.Degrees())*3600, 1e-6, "line %d: InverseMidpoint azimuth 1, arc-seconds", r.line)
+		assert.InDeltaf(t, 0, angleDiff(both.Azimuth2.Degrees(), line.Azimuth2.Degrees())*3600, 1e-6, "line %d: InverseMidpoint azimuth 2, arc-seconds", r.line)
+		if line.Distance < 19.9e6 {
+			d, err := g.Inverse(mid, mid2)
+			require.NoError(t, err)
+			assert.InDeltaf(t, 0, d.Distance, 1e-6*mm, "line %d: InverseMidpoint midpoint, metres", r.line)
+		}
 		h1, err := g.Inverse(a, mid)
 		require.NoError(t, err)
 		h2, err := g.Inverse(mid, b)

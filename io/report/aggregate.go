@@ -21,14 +21,14 @@ type Aggregator struct {
 
 	counts    Counts
 	ell, grid statsAcc
-	lines     map[uint64]*lineAcc
+	lines     []*lineAcc // by job.Result.LineID
 	order     []*lineAcc
 }
 
 // NewAggregator prepares for a job with the given critical value for |w|
 // and tolerance (hasTolerance false: no tolerance test).
 func NewAggregator(critical float64, tolerance reduce.DistanceSpec, hasTolerance bool) *Aggregator {
-	return &Aggregator{critical: critical, tolerance: tolerance, hasTol: hasTolerance, lines: map[uint64]*lineAcc{}}
+	return &Aggregator{critical: critical, tolerance: tolerance, hasTol: hasTolerance}
 }
 
 // lineAcc accumulates one line's observations.
@@ -107,11 +107,14 @@ func (a *Aggregator) Add(r *job.Result) {
 	a.ell.add(e.Residual*1e3, e.PPM, e.Standardized)
 	a.grid.add(red.GridResidual.Residual*1e3, red.GridResidual.PPM, red.GridResidual.Standardized)
 
-	l, dir := a.lines[r.LineKey], 0
+	for int(r.LineID) >= len(a.lines) {
+		a.lines = append(a.lines, nil)
+	}
+	l, dir := a.lines[r.LineID], 0
 	switch {
 	case l == nil:
 		l = &lineAcc{from: r.Obs.From, to: r.Obs.To, geodesic: r.Line.Inverse.Distance, grid: r.Line.GridDistance, radius: r.Line.Radius}
-		a.lines[r.LineKey] = l
+		a.lines[r.LineID] = l
 		a.order = append(a.order, l)
 	case l.from != r.Obs.From:
 		dir = 1

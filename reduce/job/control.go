@@ -43,6 +43,10 @@ type Control struct {
 	Line   int // line in the points file
 	LatLng s2.LatLng
 	Grid   geodesic.GridPoint
+	// Scale is the point scale factor here, where the projection is
+	// conformal (HasScale): computed once per point, used by every line.
+	Scale    float64
+	HasScale bool
 
 	// Ellipsoidal height h, orthometric height H and geoid separation N;
 	// HasOrthometric and HasSeparation say whether H and N are known.
@@ -105,6 +109,12 @@ func resolve(pt obsfile.Point, p *geodesic.Projector, seps Separations) (Control
 		if c.LatLng, err = p.Inverse(c.Grid); err != nil {
 			return c, err
 		}
+	}
+	if p.CRS().Conformal() {
+		if c.Scale, err = p.PointScaleFactor(c.LatLng); err != nil {
+			return c, err
+		}
+		c.HasScale = true
 	}
 	if pt.HasElevation {
 		c.Orthometric, c.HasOrthometric = pt.Elevation, true

@@ -3,23 +3,56 @@ package job
 import (
 	"sync"
 
+	"github.com/golang/geo/s2"
+
 	"github.com/geored/geored/geodesic"
 	"github.com/geored/geored/reduce"
 )
 
 // NewReduceLine prepares what the chain needs of the line from a to b: the
 // geodesic from control, the projected distance, the midpoint, Euler's
-// radius and the scale factors (reduce.NewLine).
+// radius and the scale factors (reduce.NewLine). The geodesic and its
+// midpoint come from one pass, and the ends' scale factors from the
+// control points, where they were computed once per point.
 func NewReduceLine(a, b Control, g *geodesic.Geodesic, p *geodesic.Projector) (reduce.Line, geodesic.Line, error) {
-	geo, err := g.Inverse(a.LatLng, b.LatLng)
+	geo, mid, err := g.InverseMidpoint(a.LatLng, b.LatLng)
 	if err != nil {
 		return reduce.Line{}, geo, err
 	}
 	inv := reduce.Inverse{Distance: geo.Distance, Azimuth1: geo.Azimuth1, Azimuth2: geo.Azimuth2}
 	gridA := reduce.GridPoint{Easting: a.Grid.Easting, Northing: a.Grid.Northing}
 	gridB := reduce.GridPoint{Easting: b.Grid.Easting, Northing: b.Grid.Northing}
-	line, err := reduce.NewLine(a.LatLng, b.LatLng, inv, gridA, gridB, g.Ellipsoid(), g, p)
+	known := knownLine{Geodesic: g, p: p, a: a, b: b, mid: mid}
+	line, err := reduce.NewLine(a.LatLng, b.LatLng, inv, gridA, gridB, g.Ellipsoid(), known, known)
 	return line, geo, err
+}
+
+// knownLine answers reduce.NewLine's questions about one line from what
+// is already known — the midpoint from the inverse pass, the ends' scale
+// factors from the control points — and asks the geodesic and the
+// projection for the rest.
+type knownLine struct {
+	*geodesic.Geodesic
+	p    *geodesic.Projector
+	a, b Control
+	mid  s2.LatLng
+}
+
+func (k knownLine) Midpoint(a, b s2.LatLng) (s2.LatLng, error) {
+	if a == k.a.LatLng && b == k.b.LatLng {
+		return k.mid, nil
+	}
+	return k.Geodesic.Midpoint(a, b)
+}
+
+func (k knownLine) PointScaleFactor(ll s2.LatLng) (float64, error) {
+	switch {
+	case k.a.HasScale && ll == k.a.LatLng:
+		return k.a.Scale, nil
+	case k.b.HasScale && ll == k.b.LatLng:
+		return k.b.Scale, nil
+	}
+	return k.p.PointScaleFactor(ll)
 }
 
 // lineCache computes each line once per job, whichever way it is observed
@@ -32,6 +65,7 @@ type lineCache struct {
 }
 
 type lineEntry struct {
+	id   int32 // dense number of the line in this job, 0, 1, 2, …
 	once sync.Once
 	line reduce.Line // from the lower-numbered point to the higher
 	err  error
@@ -47,13 +81,15 @@ func lineKey(a, b int32) uint64 {
 	return uint64(a)<<32 | uint64(uint32(b))
 }
 
-// get returns the line from point a to point b of the plan.
-func (c *lineCache) get(a, b int32, plan *Plan, p *geodesic.Projector) (reduce.Line, error) {
+// get returns the line from point a to point b of the plan and its
+// number. Numbers are dense but follow the order in which workers first
+// asked, so they identify a line within the job and say nothing of order.
+func (c *lineCache) get(a, b int32, plan *Plan, p *geodesic.Projector) (reduce.Line, int32, error) {
 	key := lineKey(a, b)
 	c.mu.Lock()
 	e, ok := c.lines[key]
 	if !ok {
-		e = &lineEntry{}
+		e = &lineEntry{id: int32(len(c.lines))}
 		c.lines[key] = e
 	}
 	c.mu.Unlock()
@@ -62,7 +98,7 @@ func (c *lineCache) get(a, b int32, plan *Plan, p *geodesic.Projector) (reduce.L
 		e.line, _, e.err = NewReduceLine(plan.points[lo].control, plan.points[hi].control, plan.Geodesic, p)
 	})
 	if e.err != nil || a == lo {
-		return e.line, e.err
+		return e.line, e.id, e.err
 	}
-	return e.line.Reversed(), nil
+	return e.line.Reversed(), e.id, nil
 }

@@ -62,3 +62,32 @@ func TestReversedLineEqualsLineFromB(t *testing.T) {
 func s1Deg(d float64) s1.Angle { return s1.Angle(d) * s1.Degree }
 
 func ftoa(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
+
+// BenchmarkNewReduceLine is the once-per-line work: geodesic, midpoint,
+// radius and scale factors.
+func BenchmarkNewReduceLine(b *testing.B) {
+	crs, err := geodesic.OpenCRS("EPSG:25832")
+	require.NoError(b, err)
+	p, err := crs.NewProjector()
+	require.NoError(b, err)
+	defer p.Close()
+	g, err := geodesic.NewGeodesic(crs.Ellipsoid())
+	require.NoError(b, err)
+	var pts []obsfile.Point
+	for i := range 64 {
+		pts = append(pts, obsfile.Point{ID: strconv.Itoa(i), LatLng: s2.LatLngFromDegrees(51+float64(i%8)*0.01, 9+float64(i/8)*0.015), HasLatLng: true})
+	}
+	c, err := ResolveControl(pts, "bench", p, Separations{})
+	require.NoError(b, err)
+	i := 0
+	for b.Loop() {
+		a, bb := c[strconv.Itoa(i%64)], c[strconv.Itoa((i*7+3)%64)]
+		if a.ID == bb.ID {
+			bb = c[strconv.Itoa((i+1)%64)]
+		}
+		if _, _, err := NewReduceLine(a, bb, g, p); err != nil {
+			b.Fatal(err)
+		}
+		i++
+	}
+}

@@ -103,10 +103,11 @@ type Result struct {
 	Seq     int64
 	Obs     obsfile.Observation
 	Profile string
-	// Line is the line's control data, from Obs.From to Obs.To; LineKey
-	// names the line whichever way it was observed.
+	// Line is the line's control data, from Obs.From to Obs.To; LineID
+	// numbers the line within the job, whichever way it was observed
+	// (0, 1, 2, … in no particular order).
 	Line      reduce.Line
-	LineKey   uint64
+	LineID    int32
 	Reduction reduce.Reduction
 	// Rejected rows: File and LineNo say where, Raw is the row as written
 	// and Reason why it could not be reduced.
@@ -339,8 +340,7 @@ func reduceOne(plan *Plan, cache *lineCache, p *geodesic.Projector, r *Result, r
 	}
 	markA, markB := a.mark, b.mark // markB zero: the target's height comes from the zenith angle
 	var err error
-	r.LineKey = lineKey(ia, ib)
-	if r.Line, err = cache.get(ia, ib, plan, p); err != nil {
+	if r.Line, r.LineID, err = cache.get(ia, ib, plan, p); err != nil {
 		reject(fmt.Sprintf("%s: line %s → %s: %v", where, o.From, o.To, err))
 		return
 	}
