@@ -1,15 +1,12 @@
 package main
 
 import (
-	"bufio"
 	"encoding/csv"
 	"errors"
 	"flag"
 	"fmt"
 	"io"
-	"math"
 	"os"
-	"slices"
 	"strconv"
 	"strings"
 	"text/tabwriter"
@@ -74,7 +71,7 @@ Flags:
 	var rows []predictedSight
 	var errs []error
 	for _, sg := range sights {
-		r, err := w.predict(sg)
+		r, err := w.predict(*pairs, sg)
 		if err != nil {
 			errs = append(errs, err)
 			continue
@@ -154,300 +151,76 @@ func (s sightSource) String() string {
 	return s.file + ":" + strconv.Itoa(s.line)
 }
 
-// A sight is one row of a pairs file: from, to, the heights of the
-// instrument and the target over their marks (metres), and optionally the
-// instrument profile, the prism constant and the air.
-type sight struct {
-	at                             sightSource
-	from, to, instrument           string
-	instrumentHeight, targetHeight float64
-	prism                          float64
-	hasPrism                       bool
-	met                            reduce.Meteorology
-}
-
-// Pairs file columns.
-var (
-	sightRequired = []string{"from", "to", "instrument_height", "target_height"}
-	sightColumns  = append(slices.Clone(sightRequired), "instrument", "prism_constant_mm",
-		"temperature_c", "pressure_hpa", "humidity_pct", "temperature_c_to", "pressure_hpa_to", "humidity_pct_to")
-)
-
-func readSightFile(path string, unit units.LengthUnit, stderr io.Writer) ([]sight, error) {
+// readSightFile reads a pairs file with heights in unit; its warnings go
+// to stderr.
+func readSightFile(path string, unit units.LengthUnit, stderr io.Writer) ([]obsfile.Sight, error) {
 	f, err := os.Open(path)
 	if err != nil {
 		return nil, err
 	}
 	defer f.Close()
-	return readSights(f, path, unit, stderr)
+	sights, warnings, err := obsfile.ReadSights(f, path, unit)
+	for _, wn := range warnings {
+		warnTo(stderr)(wn)
+	}
+	return sights, err
 }
 
-// csvInput is a small CSV input read whole: its header, trimmed and
-// lowercased, and its records with their lines; '#' comment lines and
-// blank records are skipped.
-type csvInput struct {
-	file       string
-	header     []string
-	col        map[string]int
-	headerLine int
-	records    []csvRecord
-}
-
-type csvRecord struct {
-	line   int
-	fields []string
-}
-
-// readCSVInput reads a CSV input; wantHeader says what header an empty
-// file lacks. A repeated column stops it; malformed CSV and records whose
-// field count differs from the header's are returned as rowErrs, each
-// with its line, and the other records are kept.
-func readCSVInput(r io.Reader, file, wantHeader string) (in *csvInput, rowErrs []error, err error) {
-	cr := csv.NewReader(bufio.NewReader(r))
-	cr.Comment = '#'
-	cr.FieldsPerRecord = -1
-	header, err := cr.Read()
-	if errors.Is(err, io.EOF) {
-		return nil, nil, &obsfile.HeaderError{File: file, Line: 1, Reason: "the file is empty: want a header row " + wantHeader}
+// meteorology is a sight's air at its two ends as the reduction takes it.
+func meteorology(atInstrument, atTarget obsfile.Weather) reduce.Meteorology {
+	air := func(w obsfile.Weather) reduce.Atmosphere {
+		return reduce.Atmosphere{TemperatureC: w.TemperatureC, PressureHPa: w.PressureHPa, HumidityPct: w.HumidityPct}
 	}
-	if err != nil {
-		return nil, nil, fmt.Errorf("%s: %w", file, err)
-	}
-	in = &csvInput{file: file, col: map[string]int{}}
-	in.headerLine, _ = cr.FieldPos(0)
-	for i, h := range header {
-		name := strings.ToLower(strings.TrimSpace(strings.TrimPrefix(h, "\uFEFF")))
-		if _, dup := in.col[name]; dup {
-			return nil, nil, &obsfile.HeaderError{File: file, Line: in.headerLine, Reason: fmt.Sprintf("column %q appears twice", name)}
-		}
-		in.col[name] = i
-		in.header = append(in.header, name)
-	}
-	for {
-		rec, err := cr.Read()
-		if errors.Is(err, io.EOF) {
-			break
-		}
-		if err != nil {
-			var pe *csv.ParseError
-			if errors.As(err, &pe) {
-				rowErrs = append(rowErrs, &obsfile.FieldError{File: file, Line: pe.Line, Column: pe.Column, Want: "well-formed CSV: " + pe.Err.Error(), Err: err})
-				break
-			}
-			return nil, nil, fmt.Errorf("%s: %w", file, err)
-		}
-		line, _ := cr.FieldPos(0)
-		if strings.TrimSpace(strings.Join(rec, "")) == "" {
-			continue
-		}
-		if len(rec) != len(header) {
-			rowErrs = append(rowErrs, &obsfile.FieldError{File: file, Line: line, Want: fmt.Sprintf("%d fields as in the header, got %d", len(header), len(rec))})
-			continue
-		}
-		in.records = append(in.records, csvRecord{line: line, fields: slices.Clone(rec)})
-	}
-	return in, rowErrs, nil
-}
-
-// readSights reads a pairs file. Every bad value is reported, each with
-// file, line, column, the value and what was wanted; unknown columns are
-// warnings.
-func readSights(r io.Reader, file string, unit units.LengthUnit, stderr io.Writer) ([]sight, error) {
-	in, errs, err := readCSVInput(r, file, strings.Join(sightRequired, ","))
-	if err != nil {
-		return nil, err
-	}
-	for i, name := range in.header {
-		if !slices.Contains(sightColumns, name) {
-			fmt.Fprintf(stderr, "warning: %s:%d: unknown column %q (column %d) is ignored; known columns: %s\n", file, in.headerLine, name, i+1, strings.Join(sightColumns, ", "))
-		}
-	}
-	var missing []string
-	for _, n := range sightRequired {
-		if _, ok := in.col[n]; !ok {
-			missing = append(missing, n)
-		}
-	}
-	if len(missing) > 0 {
-		return nil, &obsfile.HeaderError{File: file, Line: in.headerLine, Reason: "missing required column(s) " + strings.Join(missing, ", ")}
-	}
-	for _, group := range [][]string{{"temperature_c", "pressure_hpa", "humidity_pct"}, {"temperature_c_to", "pressure_hpa_to", "humidity_pct_to"}} {
-		n := 0
-		for _, g := range group {
-			if _, ok := in.col[g]; ok {
-				n++
-			}
-		}
-		if n != 0 && n != 3 {
-			return nil, &obsfile.HeaderError{File: file, Line: in.headerLine, Reason: strings.Join(group, ", ") + " go together"}
-		}
-	}
-	var out []sight
-	for _, rec := range in.records {
-		row := sightRow{file: file, line: rec.line, rec: rec.fields, col: in.col}
-		sg, err := row.parse(unit)
-		if err != nil {
-			errs = append(errs, err)
-			continue
-		}
-		out = append(out, sg)
-	}
-	if len(errs) > 0 {
-		return nil, errors.Join(errs...)
-	}
-	if len(out) == 0 {
-		return nil, fmt.Errorf("%s: no sights after the header", file)
-	}
-	return out, nil
-}
-
-// sightRow is one record of a pairs file being parsed.
-type sightRow struct {
-	file string
-	line int
-	rec  []string
-	col  map[string]int
-}
-
-func (r sightRow) get(name string) string {
-	i, ok := r.col[name]
-	if !ok {
-		return ""
-	}
-	return strings.TrimSpace(r.rec[i])
-}
-
-func (r sightRow) bad(name, want string, cause error) error {
-	i := r.col[name]
-	return &obsfile.FieldError{File: r.file, Line: r.line, Column: i + 1, Field: name, Value: r.rec[i], Want: want, Err: cause}
-}
-
-// number reads a finite number of column name within [lo, hi].
-func (r sightRow) number(name, want string, lo, hi float64) (float64, error) {
-	v, err := strconv.ParseFloat(r.get(name), 64)
-	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) || v < lo || v > hi {
-		return 0, r.bad(name, want, err)
-	}
-	return v, nil
-}
-
-func (r sightRow) parse(unit units.LengthUnit) (sight, error) {
-	sg := sight{at: sightSource{r.file, r.line}, from: r.get("from"), to: r.get("to"), instrument: r.get("instrument")}
-	switch {
-	case sg.from == "":
-		return sg, r.bad("from", "the id of the instrument's mark", nil)
-	case sg.to == "":
-		return sg, r.bad("to", "the id of the target's mark", nil)
-	case sg.from == sg.to:
-		return sg, r.bad("to", fmt.Sprintf("a target other than the station %q", sg.from), nil)
-	}
-	limit := 100 / float64(unit)
-	for _, h := range []struct {
-		name string
-		dst  *float64
-	}{{"instrument_height", &sg.instrumentHeight}, {"target_height", &sg.targetHeight}} {
-		v, err := r.number(h.name, fmt.Sprintf("a height over the mark in %s within ±%.4g", unit, limit), -limit, limit)
-		if err != nil {
-			return sg, err
-		}
-		*h.dst = v * float64(unit)
-	}
-	if _, ok := r.col["prism_constant_mm"]; ok && r.get("prism_constant_mm") != "" {
-		v, err := r.number("prism_constant_mm", "a prism constant in mm within ±1000", -1000, 1000)
-		if err != nil {
-			return sg, err
-		}
-		sg.prism, sg.hasPrism = v/1000, true
-	}
-	var err error
-	if sg.met.Instrument, sg.met.HaveInstrument, err = r.atmosphere(""); err != nil {
-		return sg, err
-	}
-	if sg.met.Target, sg.met.HaveTarget, err = r.atmosphere("_to"); err != nil {
-		return sg, err
-	}
-	return sg, nil
-}
-
-// atmosphere reads temperature_c, pressure_hpa and humidity_pct (with the
-// suffix): all three or none.
-func (r sightRow) atmosphere(suffix string) (reduce.Atmosphere, bool, error) {
-	names := [3]string{"temperature_c" + suffix, "pressure_hpa" + suffix, "humidity_pct" + suffix}
-	if _, ok := r.col[names[0]]; !ok {
-		return reduce.Atmosphere{}, false, nil
-	}
-	blank := 0
-	for _, n := range names {
-		if r.get(n) == "" {
-			blank++
-		}
-	}
-	if blank == 3 {
-		return reduce.Atmosphere{}, false, nil
-	}
-	for _, n := range names {
-		if r.get(n) == "" {
-			return reduce.Atmosphere{}, false, r.bad(n, "a value: temperature, pressure and humidity are given together or not at all", nil)
-		}
-	}
-	var a reduce.Atmosphere
-	var err error
-	if a.TemperatureC, err = r.number(names[0], "a temperature in -60..60 °C", -60, 60); err != nil {
-		return a, false, err
-	}
-	if a.PressureHPa, err = r.number(names[1], "a pressure in 500..1100 hPa", 500, 1100); err != nil {
-		return a, false, err
-	}
-	if a.HumidityPct, err = r.number(names[2], "a relative humidity in 0..100 %", 0, 100); err != nil {
-		return a, false, err
-	}
-	return a, true, nil
+	return reduce.Meteorology{Instrument: air(atInstrument), HaveInstrument: atInstrument.Has, Target: air(atTarget), HaveTarget: atTarget.Has}
 }
 
 // predictedSight is one sight's prediction with its line.
 type predictedSight struct {
-	sight   sight
+	sight   obsfile.Sight
 	profile string
 	prof    jobconfig.Profile
 	line    job.InverseLine
 	pred    reduce.Prediction
 }
 
-func (w *jobWorld) predict(sg sight) (predictedSight, error) {
-	name := sg.instrument
+// predict predicts one sight of the pairs file.
+func (w *jobWorld) predict(pairs string, sg obsfile.Sight) (predictedSight, error) {
+	at := sightSource{pairs, sg.Line}
+	name := sg.Instrument
 	if name == "" {
 		name = w.job.DefaultInstrument
 	}
 	prof, ok := w.job.Profiles[name]
 	switch {
 	case !ok && name == "":
-		return predictedSight{}, fmt.Errorf("%s: no instrument column and no default_instrument in the job (profiles: %s)", sg.at, strings.Join(w.job.ProfileNames(), ", "))
+		return predictedSight{}, fmt.Errorf("%s: no instrument column and no default_instrument in the job (profiles: %s)", at, strings.Join(w.job.ProfileNames(), ", "))
 	case !ok:
-		return predictedSight{}, fmt.Errorf("%s: instrument %q has no [instrument.%s] profile in the job (profiles: %s)", sg.at, name, name, strings.Join(w.job.ProfileNames(), ", "))
+		return predictedSight{}, fmt.Errorf("%s: instrument %q has no [instrument.%s] profile in the job (profiles: %s)", at, name, name, strings.Join(w.job.ProfileNames(), ", "))
 	}
-	a, markA, err := w.mark(sg.from, "station", sg.at)
+	a, markA, err := w.mark(sg.From, "station", at)
 	if err != nil {
 		return predictedSight{}, err
 	}
-	b, markB, err := w.mark(sg.to, "target", sg.at)
+	b, markB, err := w.mark(sg.To, "target", at)
 	if err != nil {
 		return predictedSight{}, err
 	}
-	if !sg.met.HaveInstrument && !sg.met.HaveTarget && !w.job.HasDefaultAtmosphere {
-		return predictedSight{}, fmt.Errorf("%s: the row gives no temperature, pressure and humidity, and the job has no default_atmosphere", sg.at)
+	if !sg.AtInstrument.Has && !sg.AtTarget.Has && !w.job.HasDefaultAtmosphere {
+		return predictedSight{}, fmt.Errorf("%s: the row gives no temperature, pressure and humidity, and the job has no default_atmosphere", at)
 	}
 	line, err := job.Inverse(a, b, w.sess.geod, w.sess.proj)
 	if err != nil {
-		return predictedSight{}, fmt.Errorf("%s: line %s → %s: %w", sg.at, sg.from, sg.to, err)
+		return predictedSight{}, fmt.Errorf("%s: line %s → %s: %w", at, sg.From, sg.To, err)
 	}
 	prism := prof.PrismConstant
-	if sg.hasPrism {
-		prism = sg.prism
+	if sg.HasPrismConstant {
+		prism = sg.PrismConstant
 	}
-	obs := reduce.Observation{InstrumentHeight: sg.instrumentHeight, TargetHeight: sg.targetHeight, PrismConstant: prism, Meteorology: sg.met}
+	obs := reduce.Observation{InstrumentHeight: sg.InstrumentHeight, TargetHeight: sg.TargetHeight, PrismConstant: prism,
+		Meteorology: meteorology(sg.AtInstrument, sg.AtTarget)}
 	p, err := reduce.Predict(obs, prof.Chain, line.Line, markA, markB)
 	if err != nil {
-		return predictedSight{}, fmt.Errorf("%s: %s → %s: %w", sg.at, sg.from, sg.to, err)
+		return predictedSight{}, fmt.Errorf("%s: %s → %s: %w", at, sg.From, sg.To, err)
 	}
 	return predictedSight{sight: sg, profile: name, prof: prof, line: line, pred: p}, nil
 }
@@ -507,8 +280,8 @@ func writePredictTable(w io.Writer, jw *jobWorld, rows []predictedSight) error {
 	for _, r := range rows {
 		p := r.pred
 		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%.1f\t%.1f\t%s\t%s\t\n",
-			r.sight.from, r.sight.to, r.profile,
-			lengthText(r.sight.instrumentHeight, lu, false), lengthText(r.sight.targetHeight, lu, false),
+			r.sight.From, r.sight.To, r.profile,
+			lengthText(r.sight.InstrumentHeight, lu, false), lengthText(r.sight.TargetHeight, lu, false),
 			lengthText(p.Displayed.Slope, lu, false), angleText(p.Observation.Zenith, au, false), lengthText(p.Displayed.Horizontal, lu, false),
 			lengthText(p.Bare.Slope, lu, false), lengthText(p.Bare.Horizontal, lu, false),
 			r.prof.Chain.Field.PPM, p.FirstVelocity.PPM,
@@ -538,8 +311,8 @@ func writePredictCSV(w io.Writer, rows []predictedSight, lu units.LengthUnit, au
 	for _, r := range rows {
 		p := r.pred
 		f := r.prof.Chain.Field
-		cw.Write([]string{r.sight.from, r.sight.to, r.profile,
-			lengthText(r.sight.instrumentHeight, lu, true), lengthText(r.sight.targetHeight, lu, true),
+		cw.Write([]string{r.sight.From, r.sight.To, r.profile,
+			lengthText(r.sight.InstrumentHeight, lu, true), lengthText(r.sight.TargetHeight, lu, true),
 			lengthText(p.Displayed.Slope, lu, true), angleText(p.Observation.Zenith, au, true), lengthText(p.Displayed.Horizontal, lu, true),
 			lengthText(p.Bare.Slope, lu, true), lengthText(p.Bare.Horizontal, lu, true),
 			g(f.PPM), g(f.PrismConstant * 1000), g(p.Instrument.PrismConstant * 1000), p.FirstVelocity.Source.String(), g(p.FirstVelocity.PPM),

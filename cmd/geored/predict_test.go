@@ -143,9 +143,10 @@ func TestPredictTable(t *testing.T) {
 	require.Equal(t, exitFailed, code, "two profiles and no default_instrument")
 	assert.Contains(t, stderr, "pairs.csv:2: no instrument column and no default_instrument")
 
-	require.NoError(t, os.WriteFile(filepath.Join(dir, "pairs.csv"), []byte("from,to,instrument_height,target_height,instrument\nA,C,5,5,ts1\n"), 0o644))
+	require.NoError(t, os.WriteFile(filepath.Join(dir, "pairs.csv"), []byte("from,to,instrument_height,target_height,instrument,note\nA,C,5,5,ts1,north\n"), 0o644))
 	code, out, stderr = runCmd(t, "predict", "-config", filepath.Join(dir, "job.toml"), "-pairs", filepath.Join(dir, "pairs.csv"))
 	require.Equal(t, exitOK, code, stderr)
+	assert.Contains(t, stderr, `pairs.csv:1: unknown column "note" (column 6) is ignored`)
 	assert.Contains(t, out, "lengths in us-ft, angles in dms")
 	assert.Contains(t, out, "licensed surveyor")
 	// due north: both bearings print as 0°00′00.00″

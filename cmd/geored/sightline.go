@@ -95,7 +95,7 @@ Flags:
 	}
 	var prof []reduce.PointClearance
 	if f.profile != "" {
-		pts, err := readProfileFile(f.profile, unit, sl.Arc)
+		pts, err := readProfileFile(f.profile, unit, sl.Arc, stderr)
 		if err != nil {
 			return fail(stderr, "sightline", err)
 		}
@@ -195,54 +195,24 @@ func or(s, def string) string {
 
 func fmtLen(m float64, u units.LengthUnit) string { return lengthText(m, u, false) }
 
-func readProfileFile(path string, unit units.LengthUnit, arc float64) ([]reduce.ProfilePoint, error) {
+// readProfileFile reads a profile file in unit for a line of length metres;
+// its warnings go to stderr.
+func readProfileFile(path string, unit units.LengthUnit, length float64, stderr io.Writer) ([]reduce.ProfilePoint, error) {
 	f, err := os.Open(path)
 	if err != nil {
 		return nil, err
 	}
 	defer f.Close()
-	return readProfile(f, path, unit, arc)
-}
-
-// readProfile reads a profile CSV with the columns distance and height in
-// unit; every bad value is reported with file, line and column.
-func readProfile(r io.Reader, file string, unit units.LengthUnit, arc float64) ([]reduce.ProfilePoint, error) {
-	in, errs, err := readCSVInput(r, file, "distance,height")
+	pts, warnings, err := obsfile.ReadProfile(f, path, unit, length)
+	for _, wn := range warnings {
+		warnTo(stderr)(wn)
+	}
 	if err != nil {
 		return nil, err
 	}
-	di, okD := in.col["distance"]
-	hi, okH := in.col["height"]
-	if !okD || !okH {
-		return nil, &obsfile.HeaderError{File: file, Line: in.headerLine, Reason: "want the columns distance and height; found " + strings.Join(in.header, ",")}
-	}
-	maxD, _ := unit.FromMetres(arc)
-	var out []reduce.ProfilePoint
-	for _, rec := range in.records {
-		get := func(i int, want string, lo, hi float64) (float64, error) {
-			v, err := strconv.ParseFloat(strings.TrimSpace(rec.fields[i]), 64)
-			if err != nil || math.IsNaN(v) || v < lo || v > hi {
-				return 0, &obsfile.FieldError{File: file, Line: rec.line, Column: i + 1, Field: in.header[i], Value: rec.fields[i], Want: want, Err: err}
-			}
-			return v, nil
-		}
-		d, err := get(di, fmt.Sprintf("a distance from the eye along the line in %s, 0..%.4f (the line's length)", unit, maxD), 0, maxD)
-		if err != nil {
-			errs = append(errs, err)
-			continue
-		}
-		h, err := get(hi, fmt.Sprintf("a height in %s within -10000..100000 m", unit), -1e4/float64(unit), 1e5/float64(unit))
-		if err != nil {
-			errs = append(errs, err)
-			continue
-		}
-		out = append(out, reduce.ProfilePoint{Distance: math.Min(d*float64(unit), arc), Height: h * float64(unit)})
-	}
-	if len(errs) > 0 {
-		return nil, errors.Join(errs...)
-	}
-	if len(out) == 0 {
-		return nil, fmt.Errorf("%s: no profile points after the header", file)
+	out := make([]reduce.ProfilePoint, len(pts))
+	for i, p := range pts {
+		out[i] = reduce.ProfilePoint{Distance: p.Distance, Height: p.Height}
 	}
 	return out, nil
 }

@@ -41,10 +41,11 @@ func TestSightlineDirect(t *testing.T) {
 func TestSightlineProfileAndPlot(t *testing.T) {
 	dir := t.TempDir()
 	prof := filepath.Join(dir, "profile.csv")
-	require.NoError(t, os.WriteFile(prof, []byte("# ground under the line\ndistance,height\n3000,5\n6000,12\n9000,8.5\n"), 0o644))
+	require.NoError(t, os.WriteFile(prof, []byte("# ground under the line\ndistance,height,what\n3000,5,field\n6000,12,wood\n9000,8.5,barn\n"), 0o644))
 	args := []string{"sightline", "-distance", "12000", "-eye-height", "10", "-target-height", "12", "-profile", prof, "-min-clearance", "2"}
 	code, out, stderr := runCmd(t, append(args, "-plot", filepath.Join(dir, "p.svg"))...)
 	require.Equal(t, exitFlagged, code, stderr)
+	assert.Contains(t, stderr, `warning: `+prof+`:2: unknown column "what" (column 3) is ignored`)
 	assert.Equal(t, 2, strings.Count(out, "BELOW MINIMUM"), out)
 	svg := readFile(t, filepath.Join(dir, "p.svg"))
 	assert.Contains(t, svg, "<svg")
@@ -116,7 +117,7 @@ func TestSightlineBadInput(t *testing.T) {
 		{[]string{"sightline", "-distance", "1000", "-k", "1.5"}, []string{"coefficient of refraction"}},
 		{[]string{"sightline", "-distance", "12000", "-eye-height", "10", "-profile", bad},
 			[]string{`profile.csv:3:1: distance "13000": want a distance from the eye along the line in m, 0..12000.0000`, `profile.csv:4:2: height "abc"`}},
-		{[]string{"sightline", "-distance", "12000", "-profile", noCols}, []string{"nocols.csv:1: header: want the columns distance and height"}},
+		{[]string{"sightline", "-distance", "12000", "-profile", noCols}, []string{"nocols.csv:1: header: missing required column(s) distance, height; found x, y"}},
 		{[]string{"sightline", "-distance", "12000", "-plot", filepath.Join(dir, "p.png")}, []string{`-plot`, "want a file ending in .svg or .html"}},
 		{[]string{"sightline", "-config", filepath.Join(jobDir, "job.toml"), "-from", "A", "-to", "Z"}, []string{`-to: target "Z" is not in`}},
 		{[]string{"sightline", "-config", filepath.Join(jobDir, "job.toml"), "-from", "A"}, []string{"give -from and -to together"}},
