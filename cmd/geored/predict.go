@@ -166,14 +166,6 @@ func readSightFile(path string, unit units.LengthUnit, stderr io.Writer) ([]obsf
 	return sights, err
 }
 
-// meteorology is a sight's air at its two ends as the reduction takes it.
-func meteorology(atInstrument, atTarget obsfile.Weather) reduce.Meteorology {
-	air := func(w obsfile.Weather) reduce.Atmosphere {
-		return reduce.Atmosphere{TemperatureC: w.TemperatureC, PressureHPa: w.PressureHPa, HumidityPct: w.HumidityPct}
-	}
-	return reduce.Meteorology{Instrument: air(atInstrument), HaveInstrument: atInstrument.Has, Target: air(atTarget), HaveTarget: atTarget.Has}
-}
-
 // predictedSight is one sight's prediction with its line.
 type predictedSight struct {
 	sight   obsfile.Sight
@@ -217,7 +209,7 @@ func (w *jobWorld) predict(pairs string, sg obsfile.Sight) (predictedSight, erro
 		prism = sg.PrismConstant
 	}
 	obs := reduce.Observation{InstrumentHeight: sg.InstrumentHeight, TargetHeight: sg.TargetHeight, PrismConstant: prism,
-		Meteorology: meteorology(sg.AtInstrument, sg.AtTarget)}
+		Meteorology: job.Meteorology(sg.AtInstrument, sg.AtTarget)}
 	p, err := reduce.Predict(obs, prof.Chain, line.Line, markA, markB)
 	if err != nil {
 		return predictedSight{}, fmt.Errorf("%s: %s → %s: %w", at, sg.From, sg.To, err)

@@ -1,5 +1,6 @@
 // Package obsfile reads the job's CSV inputs: the points file (control
-// coordinates) and, in time, the observation files. It validates every
+// coordinates), the observation files (streamed row by row), the pairs
+// file of predict and the ground profile of sightline. It validates every
 // value at the edge, converts lengths to metres and angles to s1.Angle, and
 // reports each bad value with file, line, column, the value and what was
 // expected (a *FieldError), so nothing is dropped silently.

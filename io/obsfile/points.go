@@ -1,7 +1,6 @@
 package obsfile
 
 import (
-	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -50,7 +49,7 @@ type PointOptions struct {
 // Point file columns.
 var pointColumns = []string{"id", "lat", "lon", "ellipsoid_height", "easting", "northing", "elevation", "geoid_separation"}
 
-// maxErrors bounds how many bad rows ReadPoints reports before it stops.
+// maxErrors bounds how many bad rows a reader reports before it stops.
 const maxErrors = 50
 
 // ReadPoints reads a points file: a column id and, per row, either lat and
@@ -73,44 +72,22 @@ func ReadPoints(r io.Reader, file string, opt PointOptions) ([]Point, []Warning,
 	if !geo && !grid {
 		return nil, warnings, &HeaderError{File: file, Line: t.line, Reason: "want columns lat and lon, or easting and northing"}
 	}
-	var (
-		pts  []Point
-		errs []error
-		seen = map[string]int{}
-	)
-	for {
-		err := t.next()
-		if errors.Is(err, io.EOF) {
-			break
-		}
-		if err == nil {
-			var p Point
-			p, err = t.point(opt, geo, grid)
-			if err == nil {
-				if first, dup := seen[p.ID]; dup {
-					err = t.fieldError("id", fmt.Sprintf("a unique id; %q is already on line %d", p.ID, first), nil)
-				} else {
-					seen[p.ID] = p.Line
-					pts = append(pts, p)
-				}
-			}
-		}
+	var pts []Point
+	seen := map[string]int{}
+	err = t.eachRow("points", func() error {
+		p, err := t.point(opt, geo, grid)
 		if err != nil {
-			var fe *FieldError
-			if !errors.As(err, &fe) { // not a row error: the file cannot be read on
-				return nil, warnings, err
-			}
-			if errs = append(errs, err); len(errs) == maxErrors {
-				errs = append(errs, fmt.Errorf("%s: stopped after %d errors", file, maxErrors))
-				break
-			}
+			return err
 		}
-	}
-	if len(errs) > 0 {
-		return nil, warnings, errors.Join(errs...)
-	}
-	if len(pts) == 0 {
-		return nil, warnings, &HeaderError{File: file, Line: t.line, Reason: "no points after the header"}
+		if first, dup := seen[p.ID]; dup {
+			return t.fieldError("id", fmt.Sprintf("a unique id; %q is already on line %d", p.ID, first), nil)
+		}
+		seen[p.ID] = p.Line
+		pts = append(pts, p)
+		return nil
+	})
+	if err != nil {
+		return nil, warnings, err
 	}
 	return pts, warnings, nil
 }

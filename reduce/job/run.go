@@ -354,12 +354,7 @@ func reduceOne(plan *Plan, cache *lineCache, p *geodesic.Projector, r *Result, r
 		InstrumentHeight: o.InstrumentHeight,
 		TargetHeight:     o.TargetHeight,
 		PrismConstant:    prism,
-		Meteorology: reduce.Meteorology{
-			Instrument:     reduce.Atmosphere{TemperatureC: o.AtInstrument.TemperatureC, PressureHPa: o.AtInstrument.PressureHPa, HumidityPct: o.AtInstrument.HumidityPct},
-			HaveInstrument: o.AtInstrument.Has,
-			Target:         reduce.Atmosphere{TemperatureC: o.AtTarget.TemperatureC, PressureHPa: o.AtTarget.PressureHPa, HumidityPct: o.AtTarget.HumidityPct},
-			HaveTarget:     o.AtTarget.Has,
-		},
+		Meteorology:      Meteorology(o.AtInstrument, o.AtTarget),
 	}
 	if !o.AtInstrument.Has && !o.AtTarget.Has && !plan.Job.HasDefaultAtmosphere {
 		reject(where.String() + ": the row records no temperature, pressure and humidity, and the job has no default_atmosphere")
@@ -377,3 +372,11 @@ type fileLine struct {
 }
 
 func (f fileLine) String() string { return fmt.Sprintf("%s:%d", f.file, f.line) }
+
+// Meteorology is what a row recorded of the air at each end, for the chain.
+func Meteorology(atInstrument, atTarget obsfile.Weather) reduce.Meteorology {
+	air := func(w obsfile.Weather) reduce.Atmosphere {
+		return reduce.Atmosphere{TemperatureC: w.TemperatureC, PressureHPa: w.PressureHPa, HumidityPct: w.HumidityPct}
+	}
+	return reduce.Meteorology{Instrument: air(atInstrument), HaveInstrument: atInstrument.Has, Target: air(atTarget), HaveTarget: atTarget.Has}
+}
