@@ -5,6 +5,7 @@ import (
 	"sort"
 
 	"github.com/golang/geo/s1"
+	"gonum.org/v1/gonum/stat/distuv"
 
 	"github.com/geored/geored/reduce"
 	"github.com/geored/geored/reduce/job"
@@ -22,6 +23,7 @@ type Aggregator struct {
 	counts    Counts
 	ell, grid statsAcc
 	lines     []*lineAcc // by job.Result.LineID
+	chi2      map[int]float64
 	order     []*lineAcc
 }
 
@@ -191,9 +193,11 @@ func (a *Aggregator) line(l *lineAcc) Line {
 	if tolFlag {
 		out.Flags = append(out.Flags, FlagTolerance)
 	}
-	// Two observations of one line differ by more than critical·√2·σ
-	// only by chance α; the range of n behaves alike to first order.
-	if l.n > 1 && l.max-l.min > a.critical*math.Sqrt2*sigmaObs {
+	// The scatter of a line's observations against their σ: (n − 1)s²/σ²
+	// follows χ² with n − 1 degrees of freedom; the line is flagged above
+	// its upper quantile at the α of the job's critical value. For two
+	// observations this is |x₁ − x₂| > critical·√2·σ.
+	if l.n > 1 && sigmaObs > 0 && l.m2/(sigmaObs*sigmaObs) > a.spreadLimit(l.n-1) {
 		out.Flags = append(out.Flags, FlagSpread)
 	}
 	return out
@@ -202,6 +206,22 @@ func (a *Aggregator) line(l *lineAcc) Line {
 // MaxListedLines is the most lines a summary lists besides the flagged
 // ones; a larger job lists only its flagged lines (lines.csv has all).
 const MaxListedLines = 2000
+
+// spreadLimit is the upper quantile of χ² with dof degrees of freedom at
+// the α of the critical value, α = 2(1 − Φ(critical)) (0.001 for 3.29),
+// remembered per dof.
+func (a *Aggregator) spreadLimit(dof int) float64 {
+	if v, ok := a.chi2[dof]; ok {
+		return v
+	}
+	alpha := math.Erfc(a.critical / math.Sqrt2)
+	v := distuv.ChiSquared{K: float64(dof)}.Quantile(1 - alpha)
+	if a.chi2 == nil {
+		a.chi2 = map[int]float64{}
+	}
+	a.chi2[dof] = v
+	return v
+}
 
 // Finish completes the summary's counts, statistics, lines (flagged
 // first, then in the order first observed; see MaxListedLines) and fit.

@@ -6,6 +6,8 @@ import (
 
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
+
+	"github.com/geored/geored/reduce"
 )
 
 // lines makes n lines from 100 m to 10 km whose residuals follow
@@ -60,4 +62,15 @@ func TestFitWithManyBlundersIsQuick(t *testing.T) {
 	require.NotNil(t, f)
 	assert.InDelta(t, 80000, f.N, 200)
 	assert.InDelta(t, 1, f.ConstantMM, 3*f.ConstantSigma)
+}
+
+// The spread test: for two observations it is |x₁ − x₂| > c·√2·σ; for
+// many, (n − 1)s²/σ² against χ²(n − 1) at α = 2(1 − Φ(c)). Reference
+// quantiles: χ²(1) at 0.999 is c² exactly; common statistical tables give
+// 10.83 for χ²(1) and 90.57 for χ²(53) at 0.999 [memory].
+func TestSpreadLimit(t *testing.T) {
+	a := NewAggregator(3.2905267314919255, reduce.DistanceSpec{}, false)
+	assert.InDelta(t, 3.2905267314919255*3.2905267314919255, a.spreadLimit(1), 1e-9, "χ²(1) quantile is c²")
+	assert.InDelta(t, 10.83, a.spreadLimit(1), 0.01)
+	assert.InDelta(t, 90.57, a.spreadLimit(53), 0.05)
 }
