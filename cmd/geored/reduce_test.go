@@ -212,3 +212,40 @@ func TestReduceExitCodes(t *testing.T) {
 	assert.Equal(t, 2, code)
 	assert.Contains(t, stderr, "is geographic")
 }
+
+// A target without a height is reduced from its zenith angle and k (the
+// zenith route, DESIGN §4); a station without one cannot be, and its rows
+// are rejected with the reason.
+func TestReduceZenithRouteForUnknownTargetHeight(t *testing.T) {
+	bin := buildBinary(t)
+	job := writeJob(t, string(mustDemo(t, "demo/observations.csv")), "")
+	pts := strings.Replace(string(mustDemo(t, "demo/points.csv")), "WATERTOWER,508115.883,5757036.219,61.350", "WATERTOWER,508115.883,5757036.219,", 1)
+	require.NotEqual(t, string(mustDemo(t, "demo/points.csv")), pts)
+	require.NoError(t, os.WriteFile(filepath.Join(filepath.Dir(job), "points.csv"), []byte(pts), 0o644))
+	code, _, stderr := exitCode(t, bin, "reduce", "-config", job, "-quiet")
+	require.Equal(t, 1, code, stderr)
+	out := filepath.Join(filepath.Dir(job), "out")
+	reduced := readCSV(t, filepath.Join(out, "reduced.csv"))
+	col := map[string]int{}
+	for i, h := range reduced[0] {
+		col[h] = i
+	}
+	zenith := 0
+	for _, r := range reduced[1:] {
+		if r[col["to"]] == "WATERTOWER" {
+			assert.Equal(t, "zenith", r[col["route"]], "row %s", r[col["line"]])
+			zenith++
+		} else {
+			assert.Equal(t, "heights", r[col["route"]], "row %s", r[col["line"]])
+		}
+	}
+	assert.Equal(t, 4, zenith, "two sets each from SB-PILLAR2 and HILLTOP")
+	rejects := readCSV(t, filepath.Join(out, "rejects.csv"))
+	stationRejects := 0
+	for _, r := range rejects[1:] {
+		if strings.Contains(r[3], `station "WATERTOWER" has no height`) {
+			stationRejects++
+		}
+	}
+	assert.Equal(t, 4, stationRejects)
+}

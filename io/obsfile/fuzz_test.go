@@ -1,0 +1,69 @@
+package obsfile
+
+import (
+	"bytes"
+	"errors"
+	"io"
+	"testing"
+
+	"github.com/geored/geored/io/units"
+)
+
+// The readers return errors, never panic, whatever the bytes: `go test
+// ./io/obsfile -fuzz FuzzObsReader` explores further than the seeds.
+func FuzzObsReader(f *testing.F) {
+	for _, seed := range []string{
+		"from,to,slope_distance,zenith_angle\nA,B,100,90\n",
+		"\uFEFFfrom,to,slope_distance,zenith_angle,temperature_c,pressure_hpa,humidity_pct\r\nA,B,1e3,89.5,20,1000,50\r\n",
+		"from,to,slope_distance,zenith_angle\n\"A,\"\"x\",B,NaN,-1\n",
+		"# c\nfrom,to,slope_distance,zenith_angle,instrument_height,target_height,prism_constant_mm\nA,B,1,0,1e308,-1e308,inf\n",
+		"from,to\n",
+		"",
+	} {
+		f.Add([]byte(seed))
+	}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		r, _, err := NewObsReader(bytes.NewReader(data), "fuzz.csv", ObsOptions{LengthUnit: units.Metre, AngleUnit: units.PackedDMS})
+		if err != nil {
+			return
+		}
+		for range 10000 {
+			o, err := r.Next()
+			if errors.Is(err, io.EOF) {
+				return
+			}
+			var re *RowError
+			if errors.As(err, &re) {
+				continue
+			}
+			if err != nil {
+				return
+			}
+			if !(o.SlopeDistance > 0) || o.Zenith < 0 || o.From == "" || o.To == "" {
+				t.Fatalf("accepted a bad row: %+v", o)
+			}
+		}
+	})
+}
+
+func FuzzReadPoints(f *testing.F) {
+	for _, seed := range []string{
+		"id,lat,lon,ellipsoid_height\nA,52,9,100\n",
+		"id,easting,northing,elevation,geoid_separation\nA,1,2,3,4\nA,1,2,3,4\n",
+		"id,lat,lon\n,95,999\n",
+		"\uFEFFid,lat\r\n",
+	} {
+		f.Add([]byte(seed))
+	}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		pts, _, err := ReadPoints(bytes.NewReader(data), "fuzz.csv", PointOptions{GridUnit: units.Metre, HeightUnit: units.Metre})
+		if err != nil {
+			return
+		}
+		for _, p := range pts {
+			if p.ID == "" || (!p.HasLatLng && !p.HasGrid) {
+				t.Fatalf("accepted a bad point: %+v", p)
+			}
+		}
+	})
+}
