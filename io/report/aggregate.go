@@ -203,8 +203,10 @@ func (a *Aggregator) line(l *lineAcc) Line {
 	return out
 }
 
-// MaxListedLines is the most lines a summary lists besides the flagged
-// ones; a larger job lists only its flagged lines (lines.csv has all).
+// MaxListedLines bounds the lines a summary lists: a job of at most this
+// many lines lists them all, flagged first; a larger one lists its flagged
+// lines only, and of those at most this many, the worst by |w|. lines.csv
+// has every line.
 const MaxListedLines = 2000
 
 // spreadLimit is the upper quantile of χ² with dof degrees of freedom at
@@ -224,8 +226,8 @@ func (a *Aggregator) spreadLimit(dof int) float64 {
 }
 
 // Finish completes the summary's counts, statistics, lines (flagged
-// first, then in the order first observed; see MaxListedLines) and fit.
-// It keeps a few numbers per line, not the lines.
+// first, each group in the order first observed; see MaxListedLines) and
+// fit. It keeps a few numbers per line, not the lines.
 func (a *Aggregator) Finish(s *Summary) {
 	s.Counts = a.counts
 	s.Counts.Lines = len(a.order)
@@ -233,26 +235,42 @@ func (a *Aggregator) Finish(s *Summary) {
 	ell := make([]float64, 0, len(a.order))
 	grid := make([]float64, 0, len(a.order))
 	fit := make([]fitPoint, 0, len(a.order))
-	s.Lines = nil
-	var rest []Line
-	for _, acc := range a.order {
+	type flagged struct {
+		i int // position in a.order
+		w float64
+	}
+	var worst []flagged
+	for i, acc := range a.order {
 		l := a.line(acc)
 		ell = append(ell, l.ResidualMM)
 		grid = append(grid, l.gridResidualMM)
 		if l.SigmaMM > 0 {
 			fit = append(fit, fitPoint{x: l.Geodesic, y: l.ResidualMM, w: 1 / (l.SigmaMM * l.SigmaMM)})
 		}
-		switch {
-		case l.Flagged():
-			s.Counts.FlaggedLines++
-			s.Lines = append(s.Lines, l)
-		case len(a.order) <= MaxListedLines:
-			rest = append(rest, l)
-		default:
-			s.LinesNotListed++
+		if l.Flagged() {
+			worst = append(worst, flagged{i, l.MaxAbsW})
 		}
 	}
-	s.Lines = append(s.Lines, rest...)
+	s.Counts.FlaggedLines = len(worst)
+	// At most MaxListedLines flagged lines are listed: the worst by |w|,
+	// in the order first observed.
+	if len(worst) > MaxListedLines {
+		sort.SliceStable(worst, func(x, y int) bool { return worst[x].w > worst[y].w })
+		worst = worst[:MaxListedLines]
+		sort.Slice(worst, func(x, y int) bool { return worst[x].i < worst[y].i })
+	}
+	s.Lines = make([]Line, 0, len(worst))
+	for _, f := range worst {
+		s.Lines = append(s.Lines, a.line(a.order[f.i]))
+	}
+	if len(a.order) <= MaxListedLines {
+		for _, acc := range a.order {
+			if l := a.line(acc); !l.Flagged() {
+				s.Lines = append(s.Lines, l)
+			}
+		}
+	}
+	s.LinesNotListed = len(a.order) - len(s.Lines)
 	s.Residuals.Ellipsoid.MedianMM = median(ell)
 	s.Residuals.Grid.MedianMM = median(grid)
 	s.Fit = fitLine(fit, a.critical)

@@ -74,3 +74,29 @@ func TestSpreadLimit(t *testing.T) {
 	assert.InDelta(t, 10.83, a.spreadLimit(1), 0.01)
 	assert.InDelta(t, 90.57, a.spreadLimit(53), 0.05)
 }
+
+// A large job lists its flagged lines only, at most MaxListedLines of
+// them and the worst by |w|; the counts still say how many there are.
+func TestSummaryListsTheWorstFlaggedLines(t *testing.T) {
+	a := NewAggregator(3.29, reduce.DistanceSpec{}, false)
+	n := MaxListedLines * 3
+	for i := range n {
+		acc := &lineAcc{from: "A", to: "B", geodesic: 1000, grid: 1000, radius: 6.4e6, n: 1, mean: 1000, sumVar: 1e-6, maxAbsW: float64(i % 7)}
+		if i%2 == 0 {
+			acc.outliers, acc.maxAbsW = 1, 4+float64(i)
+		}
+		a.order = append(a.order, acc)
+	}
+	var s Summary
+	a.Finish(&s)
+	assert.Equal(t, n/2, s.Counts.FlaggedLines)
+	require.Len(t, s.Lines, MaxListedLines)
+	assert.Equal(t, n-MaxListedLines, s.LinesNotListed)
+	for i, l := range s.Lines {
+		assert.True(t, l.Flagged())
+		assert.GreaterOrEqual(t, l.MaxAbsW, 4+float64(n-2*MaxListedLines), "line %d is among the worst", i)
+		if i > 0 {
+			assert.Greater(t, l.MaxAbsW, s.Lines[i-1].MaxAbsW, "in the order first observed")
+		}
+	}
+}

@@ -213,7 +213,7 @@ A significant constant suggests a wrong prism constant or additive constant; a s
 </table>
 </div>
 {{- if .LinesNotListed}}
-<p id="lines-not-listed">{{.LinesNotListed}} lines within tolerance are not listed here nor plotted: lines.csv has every line.</p>
+<p id="lines-not-listed">{{.LinesNotListed}} of the {{.Counts.Lines}} lines are not listed here nor plotted (in a large job, the lines within tolerance and all but the worst flagged ones): lines.csv has every line.</p>
 {{- end}}
 {{- else}}
 <p>No lines were reduced.</p>

@@ -23,10 +23,10 @@ type Summary struct {
 	// wrong prism or additive constant, a scale at a wrong ppm setting.
 	Fit *Fit `json:"fit,omitempty"`
 
-	// Lines holds the flagged lines and then, in a job of at most
-	// MaxListedLines lines, every other line; each once whichever way it
-	// was observed. LinesNotListed counts the lines left out: lines.csv
-	// has every line.
+	// Lines holds the flagged lines (at most MaxListedLines of them, the
+	// worst by |w|) and then, in a job of at most MaxListedLines lines,
+	// every other line; each once whichever way it was observed.
+	// LinesNotListed counts the lines left out: lines.csv has every line.
 	Lines          []Line `json:"lines"`
 	LinesNotListed int    `json:"lines_not_listed"`
 
