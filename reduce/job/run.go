@@ -137,7 +137,8 @@ type batch struct {
 // the plan's workers, and hands every result to sink in input order: the
 // outputs do not depend on the number of workers. Observations are
 // streamed; only the batches in flight are held. Warnings from the files'
-// headers go to warn. An error that stops the run (a header without a
+// headers go to warn, called from the reading goroutine while the run
+// goes on. An error that stops the run (a header without a
 // required column, an unreadable file, the sink's error) is returned.
 func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Warning), sink Sink) error {
 	workers := plan.Workers
