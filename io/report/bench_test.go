@@ -1,0 +1,34 @@
+package report
+
+import (
+	"testing"
+
+	"github.com/geored/geored/io/obsfile"
+	"github.com/geored/geored/io/units"
+	"github.com/geored/geored/reduce"
+	"github.com/geored/geored/reduce/job"
+)
+
+// BenchmarkAppendReducedRow is the write stage: one row of reduced.csv,
+// 47 columns, into a reused buffer.
+func BenchmarkAppendReducedRow(b *testing.B) {
+	r := &job.Result{
+		Obs:     obsfile.Observation{File: "observations.csv", Line: 1234, ObsID: "1233", From: "P00017", To: "P00118", SlopeDistance: 2925.7522},
+		Profile: "ts",
+		Line:    reduce.Line{Inverse: reduce.Inverse{Distance: 2925.61234567}, GridDistance: 2924.4434343, Radius: 6380123.4},
+	}
+	red := &r.Reduction
+	red.Instrument = reduce.InstrumentResult{Raw: 2925.7522, Measured: 2925.7822, Distance: 2925.7522, PrismConstant: -0.03}
+	red.FirstVelocity = reduce.FirstVelocityResult{Atmosphere: reduce.Atmosphere{TemperatureC: 12.3, PressureHPa: 1003.4, HumidityPct: 66}, Line: 279.1234, Reference: 286.338, PPM: 7.2146, Distance: 2925.77331}
+	red.SecondVelocity = reduce.SecondVelocityResult{Input: 2925.77331, Distance: 2925.773309}
+	red.Geometry = reduce.GeometryResult{Route: reduce.RouteHeights, Radius: 6380123.4, Chord: 2925.60123, Arc: 2925.6123901}
+	red.Heights = reduce.LineHeights{HeightA: 251.234, HeightB: 249.87, MeanMarkHeight: 249.1}
+	red.Grid = reduce.GridResult{Scale: reduce.ScaleFactors{A: 0.99962341, Mid: 0.99962298, B: 0.99962255}, LineScale: 0.99962298, ElevationFactor: 0.99996095, CombinedFactor: 0.99958394, GridDistance: 2924.4441}
+	red.EllipsoidResidual = reduce.ResidualResult{Residual: 0.00041, PPM: 0.14, Sigma: 0.0047, Standardized: 0.087, Tolerance: 0.0237}
+	u := Units{Length: units.Metre, Angle: units.Degrees}
+	buf := make([]byte, 0, 1024)
+	for b.Loop() {
+		buf = AppendReducedRow(buf[:0], r, u)
+	}
+	b.SetBytes(int64(len(buf)))
+}
