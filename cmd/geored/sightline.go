@@ -58,7 +58,7 @@ func runSightline(args []string, stdout, stderr io.Writer) int {
 	fs.Float64Var(&f.eye, "eye-height", 0, "with -distance: eye height above the ground, in the length unit")
 	fs.Float64Var(&f.target, "target-height", 0, "with -distance: target height above the ground, in the length unit")
 	fs.Float64Var(&f.radius, "radius-m", meanEarthRadius, "with -distance: radius of the Earth, metres")
-	fs.StringVar(&f.profile, "profile", "", "CSV of distance,height: ground or obstacles under the line, distance from the eye along the line and height on the marks' datum (with -distance: above the ground at the ends), in the length unit")
+	fs.StringVar(&f.profile, "profile", "", "CSV of distance,height: ground or obstacles under the line, distance from the eye along the line and height above the geoid (orthometric, as on maps; with -distance: above the ground at the ends), in the length unit")
 	fs.Float64Var(&f.minClearance, "min-clearance", 0, "clearance over a profile point below which it is flagged, in the length unit")
 	fs.BoolVar(&f.csv, "csv", false, "print CSV of the ray along the line (samples, profile points and the lowest point) instead of a table")
 	fs.StringVar(&f.plot, "plot", "", "also write a profile plot with exaggerated vertical scale to this file: .svg or .html")
@@ -70,8 +70,9 @@ Whether a line of sight clears the curved Earth: the ray's clearance above the
 surface along the line with the coefficient of refraction k (a circular ray of
 curvature k/R), where it runs lowest and by how much, the horizon distance from
 each end, and how much of the target the Earth hides from the eye. With marks,
-heights are on the job's reduction datum and R is the ellipsoid's radius in the
-line's azimuth; with -distance, heights are above the ground at the ends.
+heights are above the geoid (orthometric: H = h − N, the heights of ground and
+water) and R is the ellipsoid's radius in the line's azimuth; with -distance,
+heights are above the ground at the ends.
 A profile CSV (distance,height) gives the clearance over each point.
 
 Exit status: 0 the line clears the surface and every profile point by the
@@ -180,9 +181,19 @@ func (f *sightlineFlags) sightline(fs *flag.FlagSet, jf *jobFlags, stderr io.Wri
 	if err != nil {
 		return reduce.Sightline{}, 0, "", fmt.Errorf("line %s → %s: %w", f.from, f.to, err)
 	}
+	// Clearance is wanted above the ground and water, whose heights are
+	// orthometric: the marks' heights above the geoid, whatever datum the
+	// job reduces distances to. Without a geoid they are ellipsoidal, and
+	// the title says so.
+	hA, hB := markA.Orthometric, markB.Orthometric
+	surface := "above the geoid (orthometric)"
+	if j.Datum == reduce.DatumEllipsoid && (markA.Separation.Source == reduce.SeparationNone || markB.Separation.Source == reduce.SeparationNone) {
+		hA, hB = markA.Ellipsoidal, markB.Ellipsoidal
+		surface = "above the ellipsoid: the job gives no geoid, so clearances are not above ground or water heights"
+	}
 	u := float64(j.LengthUnit)
-	s, err := reduce.NewSightline(line.Geodesic.Distance, markA.Height+f.hi*u, markB.Height+f.ht*u, line.Line.Radius, j.K)
-	title := fmt.Sprintf("line of sight %s → %s, heights on the %s datum", f.from, f.to, j.Datum)
+	s, err := reduce.NewSightline(line.Geodesic.Distance, hA+f.hi*u, hB+f.ht*u, line.Line.Radius, j.K)
+	title := fmt.Sprintf("line of sight %s → %s, heights %s", f.from, f.to, surface)
 	return s, j.LengthUnit, title, err
 }
 

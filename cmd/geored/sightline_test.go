@@ -82,8 +82,9 @@ func TestSightlineProfileAndPlot(t *testing.T) {
 	assert.Equal(t, sightlineSamples+1, samples)
 }
 
-// With marks, the heights are the marks' on the job's datum plus -hi and
-// -ht, and the length is the geodesic between them.
+// With marks, the heights are the marks' above the geoid (or, without
+// one, the ellipsoid) plus -hi and -ht, and the length is the geodesic
+// between them.
 func TestSightlineMarks(t *testing.T) {
 	dir := predictJob(t, "from,to,instrument_height,target_height\n")
 	// the flag wins over the job: heights read and written in metres
@@ -93,9 +94,18 @@ func TestSightlineMarks(t *testing.T) {
 
 	code, out, stderr = runCmd(t, "sightline", "-config", filepath.Join(dir, "job.toml"), "-from", "A", "-to", "C", "-hi", "5", "-ht", "5")
 	require.Equal(t, exitOK, code, stderr)
-	assert.Contains(t, out, "line of sight A → C, heights on the ellipsoid datum")
+	assert.Contains(t, out, "line of sight A → C, heights above the ellipsoid: the job gives no geoid")
 	// A is 328.0840 US ft (100 m) up, the eye 5 US ft above it
 	assert.Contains(t, out, "eye 333.0840 us-ft")
+
+	// With a geoid separation the clearance is above the geoid, as ground
+	// and water heights are: A's h, read as 328.0840 m with -length-unit m,
+	// is H = 298.0840 m for N = 30 m.
+	code, out, stderr = runCmd(t, "sightline", "-config", filepath.Join(dir, "job.toml"), "-from", "A", "-to", "C", "-hi", "5", "-ht", "5",
+		"-length-unit", "m", "-geoid-separation-m", "30")
+	require.Equal(t, exitOK, code, stderr)
+	assert.Contains(t, out, "line of sight A → C, heights above the geoid (orthometric)")
+	assert.Contains(t, out, "eye 303.0840 m")
 }
 
 func TestSightlineBadInput(t *testing.T) {

@@ -8,6 +8,7 @@ import (
 
 	"github.com/geored/geored/geodesic"
 	"github.com/geored/geored/io/obsfile"
+	"github.com/geored/geored/reduce"
 )
 
 // HeightSource says how a control point's ellipsoidal height was found.
@@ -49,14 +50,18 @@ type Control struct {
 	HasScale bool
 
 	// Ellipsoidal height h, orthometric height H and geoid separation N;
-	// HasOrthometric and HasSeparation say whether H and N are known.
-	Ellipsoidal    float64
-	HeightSource   HeightSource
-	Orthometric    float64
-	HasOrthometric bool
-	Separation     float64
-	HasSeparation  bool
+	// HasOrthometric says whether H is known, SeparationSource where N
+	// came from (reduce.SeparationNone: N is not known).
+	Ellipsoidal      float64
+	HeightSource     HeightSource
+	Orthometric      float64
+	HasOrthometric   bool
+	Separation       float64
+	SeparationSource reduce.SeparationSource
 }
+
+// HasSeparation reports whether the geoid separation N is known.
+func (c Control) HasSeparation() bool { return c.SeparationSource != reduce.SeparationNone }
 
 // HasHeight reports whether the ellipsoidal height is known.
 func (c Control) HasHeight() bool { return c.HeightSource != HeightUnknown }
@@ -121,31 +126,28 @@ func resolve(pt obsfile.Point, p *geodesic.Projector, seps Separations) (Control
 	}
 	switch {
 	case pt.HasGeoidSeparation:
-		c.Separation, c.HasSeparation = pt.GeoidSeparation, true
+		c.Separation, c.SeparationSource = pt.GeoidSeparation, reduce.SeparationPoint
 	case seps.Grid != nil && (pt.HasElevation || pt.HasEllipsoidHeight):
 		if c.Separation, err = seps.Grid.Separation(c.LatLng); err != nil {
 			return c, err
 		}
-		c.HasSeparation = true
+		c.SeparationSource = reduce.SeparationGrid
 	case seps.HasConstant:
-		c.Separation, c.HasSeparation = seps.Constant, true
+		c.Separation, c.SeparationSource = seps.Constant, reduce.SeparationConstant
 	}
 	switch {
 	case pt.HasEllipsoidHeight:
 		c.Ellipsoidal, c.HeightSource = pt.EllipsoidHeight, HeightGiven
-		if !c.HasOrthometric && c.HasSeparation {
+		if !c.HasOrthometric && c.HasSeparation() {
 			c.Orthometric, c.HasOrthometric = c.Ellipsoidal-c.Separation, true
 		}
-	case pt.HasElevation && c.HasSeparation:
+	case pt.HasElevation && c.HasSeparation():
 		c.Ellipsoidal = pt.Elevation + c.Separation
-		switch {
-		case pt.HasGeoidSeparation:
-			c.HeightSource = HeightFromPointN
-		case seps.Grid != nil:
-			c.HeightSource = HeightFromGeoidGrid
-		default:
-			c.HeightSource = HeightFromConstantN
-		}
+		c.HeightSource = map[reduce.SeparationSource]HeightSource{
+			reduce.SeparationPoint:    HeightFromPointN,
+			reduce.SeparationGrid:     HeightFromGeoidGrid,
+			reduce.SeparationConstant: HeightFromConstantN,
+		}[c.SeparationSource]
 	}
 	return c, nil
 }

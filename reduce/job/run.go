@@ -74,18 +74,7 @@ func NewPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, control 
 }
 
 func markHeight(c Control, datum reduce.Datum) (reduce.MarkHeight, bool, error) {
-	sep := reduce.Separation{}
-	if c.HasSeparation {
-		sep.N = c.Separation
-		switch c.HeightSource {
-		case HeightFromPointN:
-			sep.Source = reduce.SeparationPoint
-		case HeightFromConstantN:
-			sep.Source = reduce.SeparationConstant
-		default:
-			sep.Source = reduce.SeparationGrid
-		}
-	}
+	sep := reduce.Separation{N: c.Separation, Source: c.SeparationSource}
 	switch {
 	case datum == reduce.DatumSeaLevel && c.HasOrthometric:
 		m, err := reduce.HeightFromOrthometric(datum, c.Orthometric, sep)
