@@ -3,6 +3,7 @@ package report
 import (
 	"bytes"
 	"context"
+	"encoding/json"
 	"fmt"
 	"os"
 	"path/filepath"
@@ -76,6 +77,31 @@ func TestReportInChromium(t *testing.T) {
 		assert.Greater(t, plot[0], 300.0, "plot width, CSS px")
 		assert.Greater(t, plot[1], 150.0, "plot height, CSS px")
 		assert.Greater(t, plot[2], 10.0, "text elements in the plot")
+	})
+
+	// The demo's report as geored reduce wrote it (the golden file of
+	// cmd/geored's end-to-end test, refreshed from a real run): its
+	// rendered flagged-line table reads back as the run's summary.json.
+	t.Run("demo report", func(t *testing.T) {
+		golden := filepath.Join("..", "..", "cmd", "geored", "testdata", "demo")
+		var s Summary
+		b, err := os.ReadFile(filepath.Join(golden, "summary.json.golden"))
+		require.NoError(t, err)
+		require.NoError(t, json.Unmarshal(b, &s))
+		page, err := os.ReadFile(filepath.Join(golden, "report.html.golden"))
+		require.NoError(t, err)
+		path := filepath.Join(t.TempDir(), "report.html")
+		require.NoError(t, os.WriteFile(path, page, 0o644))
+		var flagged [][]string
+		ev := open(t, browser, path, read(&flagged, `Array.from(document.querySelectorAll('#flagged-lines tbody tr'),
+				tr => Array.from(tr.cells, td => td.innerText))`))
+		assert.Empty(t, ev.problems, "console errors, exceptions or error log entries")
+		assert.Equal(t, []string{"file://" + path}, ev.requests, "the page must request nothing but itself")
+		require.Len(t, flagged, s.Counts.FlaggedLines, "one row per flagged line of the run")
+		require.Equal(t, 3, s.Counts.FlaggedLines, "the demo's three blunders")
+		for i, l := range s.Lines[:s.Counts.FlaggedLines] {
+			checkFlaggedRow(t, l, flagged[i])
+		}
 	})
 
 	// The checks above can fail: a page with a console error, an
