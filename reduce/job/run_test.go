@@ -1,0 +1,164 @@
+package job
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"strings"
+	"testing"
+
+	"github.com/golang/geo/s2"
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+
+	"github.com/geored/geored/geodesic"
+	"github.com/geored/geored/io/jobconfig"
+	"github.com/geored/geored/io/obsfile"
+	"github.com/geored/geored/reduce"
+)
+
+const runJob = `
+crs = "EPSG:25832"
+default_instrument = "ts"
+[tolerance]
+constant_mm = 3
+ppm = 3
+[instrument.ts]
+wavelength_um = 0.658
+reference_atmosphere = { temperature_c = 12, pressure_hpa = 1013.25, humidity_pct = 60 }
+prism_constant_mm = -30
+spec_mm = 1
+spec_ppm = 1.5
+`
+
+// testPlan is a plan over a few invented points near 52°N 9°E.
+func testPlan(t *testing.T, workers int) (*Plan, *geodesic.Projector) {
+	t.Helper()
+	f, err := jobconfig.Parse([]byte(runJob), "job.toml")
+	require.NoError(t, err)
+	j, err := jobconfig.Resolve(f, "job.toml")
+	require.NoError(t, err)
+	j.Workers = workers
+	crs, err := geodesic.OpenCRS(j.CRS)
+	require.NoError(t, err)
+	g, err := geodesic.NewGeodesic(crs.Ellipsoid())
+	require.NoError(t, err)
+	p, err := crs.NewProjector()
+	require.NoError(t, err)
+	t.Cleanup(p.Close)
+	var pts []obsfile.Point
+	for i := range 6 {
+		pts = append(pts, obsfile.Point{ID: fmt.Sprintf("M%d", i), Line: i + 2,
+			LatLng: s2.LatLngFromDegrees(52+float64(i%3)*0.02, 9+float64(i/3)*0.03), HasLatLng: true,
+			EllipsoidHeight: 100 + float64(i)*25, HasEllipsoidHeight: true})
+	}
+	control, err := ResolveControl(pts, "points.csv", p, Separations{})
+	require.NoError(t, err)
+	plan, err := NewPlan(j, crs, g, control)
+	require.NoError(t, err)
+	return plan, p
+}
+
+// observations writes observations of every pair of marks, predicted
+// exactly from the control through the chain run backwards, and the rows
+// that must be rejected.
+func observations(t *testing.T, plan *Plan, p *geodesic.Projector) string {
+	t.Helper()
+	var b strings.Builder
+	b.WriteString("from,to,slope_distance,zenith_angle,instrument_height,target_height,temperature_c,pressure_hpa,humidity_pct,instrument\n")
+	prof := plan.Job.Profiles["ts"]
+	for i := range 6 {
+		for k := range 6 {
+			if i == k {
+				continue
+			}
+			a, c := plan.Control[fmt.Sprintf("M%d", i)], plan.Control[fmt.Sprintf("M%d", k)]
+			line, _, err := NewReduceLine(a, c, plan.Geodesic, p)
+			require.NoError(t, err)
+			obs := reduce.Observation{InstrumentHeight: 1.6, TargetHeight: 1.5, PrismConstant: prof.PrismConstant,
+				Meteorology: reduce.Meteorology{Instrument: reduce.Atmosphere{TemperatureC: 18, PressureHPa: 1001, HumidityPct: 70}, HaveInstrument: true}}
+			pr, err := reduce.Predict(obs, prof.Chain, line, plan.Marks[a.ID], plan.Marks[c.ID])
+			require.NoError(t, err)
+			fmt.Fprintf(&b, "%s,%s,%.9f,%.12f,1.6,1.5,18,1001,70,\n", a.ID, c.ID, pr.Displayed.Slope, pr.Observation.Zenith.Degrees())
+		}
+	}
+	b.WriteString("M0,M9,100,90,1.6,1.5,18,1001,70,\n")    // unknown target
+	b.WriteString("M0,M1,100,90,1.6,1.5,18,1001,70,ts2\n") // unknown instrument
+	b.WriteString("M0,M1,100,90,1.6,1.5,,,,\n")            // no air, no job default
+	b.WriteString("M0,M1,1,90,1.6,1.5,18,1001,70,\n")      // shorter than the height difference
+	return b.String()
+}
+
+// Run as a library: predicted observations reduce back to the control
+// geodesic (PROJ's, Karney) to 0.01 mm, results come in input order
+// whatever the number of workers, and every other row is a reject with
+// its reason.
+func TestRunReducesInInputOrder(t *testing.T) {
+	var first []Result
+	for _, workers := range []int{1, 3} {
+		plan, p := testPlan(t, workers)
+		data := observations(t, plan, p)
+		var got []Result
+		err := Run(context.Background(), plan, []Source{{Name: "obs.csv", Reader: strings.NewReader(data)}},
+			func(w obsfile.Warning) { t.Errorf("warning %s", w) },
+			func(r *Result) error { got = append(got, *r); return nil })
+		require.NoError(t, err)
+		require.Len(t, got, 30+4)
+		for i, r := range got {
+			require.Equal(t, int64(i), r.Seq, "input order")
+			if i < 30 {
+				require.False(t, r.Rejected, "row %d: %s", i, r.Reason)
+				e := r.Reduction.EllipsoidResidual
+				assert.InDelta(t, 0, e.Residual, 0.01e-3, "row %d %s→%s: reduced − control geodesic, metres", i, r.Obs.From, r.Obs.To)
+				assert.InDelta(t, 0, r.Reduction.GridResidual.Residual, 0.01e-3, "row %d: reduced − control grid distance, metres", i)
+			}
+		}
+		reasons := []string{`target "M9" is not in the points file`, `instrument "ts2" has no [instrument.ts2] profile`,
+			"records no temperature, pressure and humidity, and the job has no default_atmosphere", "slope distance"}
+		for k, want := range reasons {
+			r := got[30+k]
+			assert.True(t, r.Rejected)
+			assert.Contains(t, r.Reason, want)
+			assert.Equal(t, "obs.csv", r.File)
+			assert.Equal(t, 32+k, r.LineNo)
+			assert.NotEmpty(t, r.Raw)
+		}
+		if first == nil {
+			first = got
+			continue
+		}
+		for i := range got {
+			assert.Equal(t, first[i].Reduction, got[i].Reduction, "row %d the same with %d workers", i, workers)
+		}
+	}
+}
+
+// A sink's error stops the run and is returned; a file without a required
+// column stops it before any row.
+func TestRunStops(t *testing.T) {
+	plan, p := testPlan(t, 2)
+	data := observations(t, plan, p)
+	var many strings.Builder
+	many.WriteString(data)
+	for range 40 { // enough batches for the workers to be busy
+		for _, line := range strings.Split(strings.TrimSpace(data), "\n")[1:31] {
+			many.WriteString(line + "\n")
+		}
+	}
+	boom := errors.New("disk full")
+	n := 0
+	err := Run(context.Background(), plan, []Source{{Name: "obs.csv", Reader: strings.NewReader(many.String())}},
+		func(obsfile.Warning) {}, func(*Result) error {
+			if n++; n == 300 {
+				return boom
+			}
+			return nil
+		})
+	assert.ErrorIs(t, err, boom)
+	assert.Equal(t, 300, n, "no result after the sink's error")
+
+	err = Run(context.Background(), plan, []Source{{Name: "bad.csv", Reader: strings.NewReader("from,to,slope_distance\nM0,M1,100\n")}},
+		func(obsfile.Warning) {}, func(*Result) error { t.Error("no row may reach the sink"); return nil })
+	var he *obsfile.HeaderError
+	assert.True(t, errors.As(err, &he), "%v", err)
+}
