@@ -48,6 +48,9 @@ func openSession(crsDef, geoidGrid string, unit units.LengthUnit) (*session, err
 	if err != nil {
 		return nil, err
 	}
+	if !crs.Conformal() {
+		return nil, fmt.Errorf("CRS %s: its projection is not conformal, so a line's scale factor depends on its direction; geored reduces to conformal grids only (transverse Mercator, Lambert conformal conic, stereographic, oblique Mercator, …)", crs)
+	}
 	g, err := geodesic.NewGeodesic(crs.Ellipsoid())
 	if err != nil {
 		return nil, err

@@ -99,6 +99,7 @@ func TestBadInvocationsExit2(t *testing.T) {
 		{[]string{"nonsense"}, `unknown command "nonsense"`},
 		{[]string{"inverse", "-a", "1,2", "-b", "1,3"}, "-crs is required"},
 		{[]string{"inverse", "-crs", "EPSG:4326", "-a", "1,2", "-b", "1,3"}, "is geographic"},
+		{[]string{"inverse", "-crs", "+proj=cass +lat_0=52 +lon_0=10 +ellps=bessel", "-a", "52,10", "-b", "52.1,10.1"}, "not conformal"},
 		{[]string{"inverse", "-crs", "EPSG:25832", "-a", "1,2"}, "give -a and -b together"},
 		{[]string{"inverse", "-crs", "EPSG:25832", "-points", bad}, "bad.csv:3:2: lat \"95\""},
 		{[]string{"inverse", "-crs", "EPSG:25832", "-points", filepath.Join(dir, "missing.csv")}, "missing.csv"},
