@@ -180,14 +180,6 @@ static geored_inverse_mid geored_inverse_midpoint(const struct geod_geodesic *g,
 	return r;
 }
 
-static geored_position geored_midpoint(const struct geod_geodesic *g,
-		double lat1, double lon1, double lat2, double lon2) {
-	struct geod_geodesicline l;
-	geored_position p;
-	geod_inverseline(&l, g, lat1, lon1, lat2, lon2, GEOD_LATITUDE | GEOD_LONGITUDE | GEOD_AZIMUTH | GEOD_DISTANCE_IN);
-	geod_position(&l, l.s13 / 2, &p.lat, &p.lon, &p.azi);
-	return p;
-}
 */
 import "C"
 
@@ -346,10 +338,4 @@ func (c *geodCore) direct(lat1, lon1, azi1, s12 float64) (lat2, lon2, azi2 float
 func (c *geodCore) inverseMidpoint(lat1, lon1, lat2, lon2 float64) (s12, azi1, azi2, midLat, midLon float64) {
 	r := C.geored_inverse_midpoint(&c.g, C.double(lat1), C.double(lon1), C.double(lat2), C.double(lon2))
 	return float64(r.s12), float64(r.azi1), float64(r.azi2), float64(r.mid_lat), float64(r.mid_lon)
-}
-
-// midpoint returns the point halfway along the geodesic, in degrees.
-func (c *geodCore) midpoint(lat1, lon1, lat2, lon2 float64) (lat, lon float64) {
-	p := C.geored_midpoint(&c.g, C.double(lat1), C.double(lon1), C.double(lat2), C.double(lon2))
-	return float64(p.lat), float64(p.lon)
 }

@@ -99,14 +99,8 @@ func (g *Geodesic) Direct(a s2.LatLng, az s1.Angle, distance float64) (s2.LatLng
 // Midpoint is the point halfway along the geodesic from a to b (where the
 // geodesic is not unique, as between antipodes, the one PROJ chooses).
 func (g *Geodesic) Midpoint(a, b s2.LatLng) (s2.LatLng, error) {
-	if err := checkLatLng("first", a); err != nil {
-		return s2.LatLng{}, err
-	}
-	if err := checkLatLng("second", b); err != nil {
-		return s2.LatLng{}, err
-	}
-	lat, lon := g.core.midpoint(a.Lat.Degrees(), a.Lng.Degrees(), b.Lat.Degrees(), b.Lng.Degrees())
-	return s2.LatLngFromDegrees(lat, lon), nil
+	_, mid, err := g.InverseMidpoint(a, b)
+	return mid, err
 }
 
 // InverseMidpoint solves the inverse problem between a and b and gives the

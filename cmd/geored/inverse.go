@@ -230,8 +230,8 @@ func writeInverseTable(w io.Writer, s *session, lines []job.InverseLine, unit un
 		return err
 	}
 	fmt.Fprintln(w, "\nk line: Simpson's rule (kA + 4 k_mid + kB)/6; ground: horizontal distance at the mean mark height;")
-	fmt.Fprintln(w, "combined factor: grid / ground. Results support, and do not replace, the judgement of a")
-	fmt.Fprintln(w, "licensed surveyor; local regulations and standards govern.")
+	fmt.Fprintln(w, "combined factor: grid / ground.")
+	fmt.Fprintln(w, cautionText)
 	return nil
 }
 

@@ -65,9 +65,11 @@ func usage(w io.Writer) {
 		fmt.Fprintf(w, "  %-9s %s\n", c.name, c.summary)
 	}
 	fmt.Fprintln(w, "\nRun 'geored <command> --help' for the command's flags.")
-	fmt.Fprintln(w, "\nResults support, and do not replace, the judgement of a licensed surveyor;")
-	fmt.Fprintln(w, "local regulations and standards govern.")
+	fmt.Fprintln(w, "\n"+cautionText)
 }
+
+// cautionText is printed under every table and every usage text.
+const cautionText = "Results support, and do not replace, the judgement of a licensed surveyor;\nlocal regulations and standards govern."
 
 // parseFlags parses a subcommand's flags; it reports whether to go on and,
 // if not, the exit code.

@@ -92,9 +92,6 @@ Flags:
 	return exitOK
 }
 
-// cautionText is printed under every table.
-const cautionText = "Results support, and do not replace, the judgement of a licensed surveyor;\nlocal regulations and standards govern."
-
 // jobWorld is a job's CRS, geodesic, control and marks, opened once.
 type jobWorld struct {
 	job  *jobconfig.Job

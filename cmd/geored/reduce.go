@@ -87,7 +87,7 @@ Flags:
 `)
 		fs.PrintDefaults()
 		fmt.Fprint(stderr, configHelp)
-		fmt.Fprintln(stderr, "\nResults support, and do not replace, the judgement of a licensed surveyor;\nlocal regulations and standards govern.")
+		fmt.Fprintln(stderr, "\n"+cautionText)
 	}
 	if err := fs.Parse(args); err != nil {
 		if errors.Is(err, flag.ErrHelp) {
