@@ -17,8 +17,9 @@
 //
 // Reduce runs the whole chain for one observation of one line. Work that
 // depends only on the line (midpoint, radius, scale factors, inverse) is
-// gathered once per line by NewLine, through the small interfaces Radii,
-// Geodesics and ScaleFactorer that the geodesic package satisfies; reduce
+// gathered once per line by NewLine, from the caller's control geometry
+// and through the small interfaces Radii and ScaleFactorer that the
+// geodesic package satisfies; reduce
 // itself does no I/O and holds no PROJ handle.
 //
 // Units: lengths are float64 metres, angles s1.Angle (radians); the few

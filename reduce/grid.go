@@ -7,10 +7,12 @@ import "math"
 // of the geodesic's image on the grid.
 type ScaleFactors struct {
 	A, Mid, B float64
-	// Curvature of the geodesic's image on the grid at the midpoint, 1/m of
-	// grid: on a conformal map (1/k) ∂ln k/∂n across the line. Zero on the
-	// central meridian of a transverse Mercator or along a line of
-	// constant k; with zero the grid distance is the length of the image.
+	// Curvature of the geodesic's image on the grid, 1/m of grid, positive
+	// when it turns left from A to B: on a conformal map (1/k) ∂ln k/∂n
+	// with n across the line to the right, for the image turns towards
+	// smaller k. Zero on the central meridian of a transverse
+	// Mercator or along a line of constant k; with zero the grid distance
+	// is the length of the image.
 	Curvature float64
 }
 

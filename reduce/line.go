@@ -13,14 +13,6 @@ type Radii interface {
 	RadiusInAzimuth(lat, azimuth s1.Angle) float64
 }
 
-// Geodesics gives the midpoint of the geodesic between two points and
-// solves the direct problem (distance in metres). The geodesic package's
-// *Geodesic satisfies it.
-type Geodesics interface {
-	Midpoint(a, b s2.LatLng) (s2.LatLng, error)
-	Direct(a s2.LatLng, azimuth s1.Angle, distance float64) (s2.LatLng, s1.Angle, error)
-}
-
 // ScaleFactorer gives a map projection's point scale factor. The geodesic
 // package's *Projector satisfies it.
 type ScaleFactorer interface {
@@ -77,13 +69,17 @@ type Line struct {
 	Scale         ScaleFactors // point scale factors at A, the midpoint and B; curvature on the grid
 }
 
-// gridCurvatureStep is the offset across the line, metres, at which NewLine
-// samples the scale factor for the curvature of the line on the grid; ln k
-// is smooth on that scale, so the central difference is good to 1e-6 of κ.
-const gridCurvatureStep = 1000
+// LineControl is a line's control geometry as the caller computed it:
+// the ends and the geodesic midpoint, geodetic and projected, and the
+// geodesic between the ends.
+type LineControl struct {
+	A, Mid, B             s2.LatLng
+	GridA, GridMid, GridB GridPoint
+	Inverse               Inverse
+}
 
-// NewLine prepares a line from its control points, the caller's inverse
-// and projected coordinates, and the ellipsoid, geodesic and projection.
+// NewLine prepares a line from its control geometry, the ellipsoid and the
+// projection's scale factors.
 //
 // The radius is taken at the latitude of the geodesic midpoint in the mean
 // of the two end azimuths, averaged as doubled angles so that a forward or
@@ -91,16 +87,20 @@ const gridCurvatureStep = 1000
 // azimuth differs from the one at the midpoint by well under 0.01°, which
 // moves R_α by under 2e-6 of itself and the reduced distance by under a
 // micrometre. The curvature rate is the difference of 1/R_α at B (in
-// Azimuth2) and at A (in Azimuth1) over the distance. The curvature of the
-// line on the grid is (1/k) ∂ln k/∂n by a central difference of the point
-// scale factor 1 km either side of the midpoint, across the line.
-func NewLine(a, b s2.LatLng, inv Inverse, gridA, gridB GridPoint, e Radii, g Geodesics, p ScaleFactorer) (Line, error) {
+// Azimuth2) and at A (in Azimuth1) over the distance.
+//
+// The curvature of the geodesic's image on the grid is that of the circle
+// through the projected ends and midpoint (Menger curvature, four times
+// the triangle's area over the product of its sides). On a conformal map
+// it equals (1/k) ∂ln k/∂n, n across the line to the right (Schreiber's
+// formula for the curvature of a projected geodesic), which a test checks against PROJ's
+// scale factors; only κ² enters the grid distance, so the circle's
+// approximation of a slowly changing curvature, and the nanometre noise of
+// the coordinates on a short line, move it by far less than a micrometre.
+func NewLine(c LineControl, e Radii, p ScaleFactorer) (Line, error) {
 	const stage = "line"
+	inv := c.Inverse
 	if err := needPositive(stage, "control distance", inv.Distance, "m"); err != nil {
-		return Line{}, err
-	}
-	mid, err := g.Midpoint(a, b)
-	if err != nil {
 		return Line{}, err
 	}
 	s1a, c1a := math.Sincos(2 * float64(inv.Azimuth1))
@@ -109,13 +109,13 @@ func NewLine(a, b s2.LatLng, inv Inverse, gridA, gridB GridPoint, e Radii, g Geo
 	if az < 0 {
 		az += math.Pi
 	}
-	l := Line{A: a, B: b, Midpoint: mid, Inverse: inv, GridDistance: GridDistanceBetween(gridA, gridB), Azimuth: s1.Angle(az)}
-	l.Radius = e.RadiusInAzimuth(mid.Lat, l.Azimuth)
+	l := Line{A: c.A, B: c.B, Midpoint: c.Mid, Inverse: inv, GridDistance: GridDistanceBetween(c.GridA, c.GridB), Azimuth: s1.Angle(az)}
+	l.Radius = e.RadiusInAzimuth(c.Mid.Lat, l.Azimuth)
 	if err := needPositive(stage, "radius", l.Radius, "m"); err != nil {
 		return Line{}, err
 	}
-	ra := e.RadiusInAzimuth(a.Lat, inv.Azimuth1)
-	rb := e.RadiusInAzimuth(b.Lat, inv.Azimuth2)
+	ra := e.RadiusInAzimuth(c.A.Lat, inv.Azimuth1)
+	rb := e.RadiusInAzimuth(c.B.Lat, inv.Azimuth2)
 	if err := needPositive(stage, "radius at A", ra, "m"); err != nil {
 		return Line{}, err
 	}
@@ -123,44 +123,37 @@ func NewLine(a, b s2.LatLng, inv Inverse, gridA, gridB GridPoint, e Radii, g Geo
 		return Line{}, err
 	}
 	l.CurvatureRate = (1/rb - 1/ra) / inv.Distance
+	var err error
 	for _, q := range [...]struct {
 		p s2.LatLng
 		k *float64
-	}{{a, &l.Scale.A}, {mid, &l.Scale.Mid}, {b, &l.Scale.B}} {
+	}{{c.A, &l.Scale.A}, {c.Mid, &l.Scale.Mid}, {c.B, &l.Scale.B}} {
 		if *q.k, err = p.PointScaleFactor(q.p); err != nil {
 			return Line{}, err
 		}
 	}
-	across := l.Azimuth + math.Pi/2
-	left, _, err := g.Direct(mid, across, gridCurvatureStep)
-	if err != nil {
-		return Line{}, err
-	}
-	right, _, err := g.Direct(mid, across+math.Pi, gridCurvatureStep)
-	if err != nil {
-		return Line{}, err
-	}
-	kl, err := p.PointScaleFactor(left)
-	if err != nil {
-		return Line{}, err
-	}
-	kr, err := p.PointScaleFactor(right)
-	if err != nil {
-		return Line{}, err
-	}
-	if err := needRange(stage, "scale factor beside the midpoint", kl*kr, "", 0.25, 4); err != nil {
-		return Line{}, err
-	}
-	l.Scale.Curvature = math.Log(kl/kr) / (2 * gridCurvatureStep) / l.Scale.Mid
+	l.Scale.Curvature = MengerCurvature(c.GridA, c.GridMid, c.GridB)
 	return l, nil
+}
+
+// MengerCurvature is the curvature of the circle through a, m and b in
+// turn, 1/m: positive when the path turns left at m, zero when the points
+// are on a line or two of them coincide.
+func MengerCurvature(a, m, b GridPoint) float64 {
+	ux, uy := m.Easting-a.Easting, m.Northing-a.Northing
+	vx, vy := b.Easting-m.Easting, b.Northing-m.Northing
+	den := math.Hypot(ux, uy) * math.Hypot(vx, vy) * math.Hypot(ux+vx, uy+vy)
+	if den == 0 {
+		return 0
+	}
+	return 2 * (ux*vy - uy*vx) / den
 }
 
 // Reversed is the same line seen from B: the ends, their scale factors and
 // the end azimuths swap (each turned by π), and the rate of change of
-// curvature changes sign. The midpoint, the mean azimuth (taken modulo π),
-// the radius and the curvature on the grid (measured across Azimuth; only
-// κ² enters GridDistance) do not depend on the direction, so a job
-// computes each line once.
+// curvature and the curvature on the grid change sign. The midpoint, the
+// mean azimuth (taken modulo π) and the radius do not depend on the
+// direction, so a job computes each line once.
 func (l Line) Reversed() Line {
 	r := l
 	r.A, r.B = l.B, l.A
@@ -168,6 +161,7 @@ func (l Line) Reversed() Line {
 	r.Inverse.Azimuth2 = wrapPi(l.Inverse.Azimuth1 + math.Pi)
 	r.Scale.A, r.Scale.B = l.Scale.B, l.Scale.A
 	r.CurvatureRate = -l.CurvatureRate
+	r.Scale.Curvature = -l.Scale.Curvature
 	return r
 }
 

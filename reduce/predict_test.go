@@ -135,14 +135,7 @@ func openRoundTripCRS(t testing.TB, c roundTripCRS) (*geodesic.Projector, geodes
 
 func newLine(t testing.TB, geod *geodesic.Geodesic, proj *geodesic.Projector, ell geodesic.Ellipsoid, a, b s2.LatLng) reduce.Line {
 	t.Helper()
-	inv, err := geod.Inverse(a, b)
-	require.NoError(t, err)
-	ga, err := proj.Forward(a)
-	require.NoError(t, err)
-	gb, err := proj.Forward(b)
-	require.NoError(t, err)
-	line, err := reduce.NewLine(a, b, reduce.Inverse{Distance: inv.Distance, Azimuth1: inv.Azimuth1, Azimuth2: inv.Azimuth2},
-		reduce.GridPoint(ga), reduce.GridPoint(gb), ell, geod, proj)
+	line, err := reduce.NewLine(controlOf(t, geod, proj, a, b), ell, proj)
 	require.NoError(t, err)
 	return line
 }

@@ -13,39 +13,33 @@ import (
 // geodesic from control, the projected distance, the midpoint, Euler's
 // radius and the scale factors (reduce.NewLine). The geodesic and its
 // midpoint come from one pass, and the ends' scale factors from the
-// control points, where they were computed once per point.
+// control points, where they were computed once per point; the midpoint
+// costs one projection and one scale factor.
 func NewReduceLine(a, b Control, g *geodesic.Geodesic, p *geodesic.Projector) (reduce.Line, geodesic.Line, error) {
 	geo, mid, err := g.InverseMidpoint(a.LatLng, b.LatLng)
 	if err != nil {
 		return reduce.Line{}, geo, err
 	}
-	inv := reduce.Inverse{Distance: geo.Distance, Azimuth1: geo.Azimuth1, Azimuth2: geo.Azimuth2}
-	gridA := reduce.GridPoint{Easting: a.Grid.Easting, Northing: a.Grid.Northing}
-	gridB := reduce.GridPoint{Easting: b.Grid.Easting, Northing: b.Grid.Northing}
-	known := knownLine{Geodesic: g, p: p, a: a, b: b, mid: mid}
-	line, err := reduce.NewLine(a.LatLng, b.LatLng, inv, gridA, gridB, g.Ellipsoid(), known, known)
+	gridMid, err := p.Forward(mid)
+	if err != nil {
+		return reduce.Line{}, geo, err
+	}
+	c := reduce.LineControl{A: a.LatLng, Mid: mid, B: b.LatLng,
+		GridA: reduce.GridPoint(a.Grid), GridMid: reduce.GridPoint(gridMid), GridB: reduce.GridPoint(b.Grid),
+		Inverse: reduce.Inverse{Distance: geo.Distance, Azimuth1: geo.Azimuth1, Azimuth2: geo.Azimuth2}}
+	line, err := reduce.NewLine(c, g.Ellipsoid(), knownScale{p: p, a: a, b: b})
 	return line, geo, err
 }
 
-// knownLine answers reduce.NewLine's questions about one line from what
-// is already known — the midpoint from the inverse pass, the ends' scale
-// factors from the control points — and asks the geodesic and the
-// projection for the rest.
-type knownLine struct {
-	*geodesic.Geodesic
+// knownScale answers reduce.NewLine's questions about the scale factors of
+// one line: the ends' from the control points where they are known, the
+// rest from the projection.
+type knownScale struct {
 	p    *geodesic.Projector
 	a, b Control
-	mid  s2.LatLng
 }
 
-func (k knownLine) Midpoint(a, b s2.LatLng) (s2.LatLng, error) {
-	if a == k.a.LatLng && b == k.b.LatLng {
-		return k.mid, nil
-	}
-	return k.Geodesic.Midpoint(a, b)
-}
-
-func (k knownLine) PointScaleFactor(ll s2.LatLng) (float64, error) {
+func (k knownScale) PointScaleFactor(ll s2.LatLng) (float64, error) {
 	switch {
 	case k.a.HasScale && ll == k.a.LatLng:
 		return k.a.Scale, nil
