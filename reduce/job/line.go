@@ -1,7 +1,9 @@
 package job
 
 import (
+	"fmt"
 	"sync"
+	"sync/atomic"
 
 	"github.com/golang/geo/s2"
 
@@ -50,22 +52,50 @@ func (k knownScale) PointScaleFactor(ll s2.LatLng) (float64, error) {
 }
 
 // lineCache computes each line once per job, whichever way it is observed
-// and whichever worker asks first; the others wait for that result, which
-// does not depend on the worker. Lines are keyed by their end points'
-// positions in the plan.
+// and whichever worker asks first, and keeps of it only what the chain
+// needs beyond its end points: a few numbers in pointer-free chunks, so
+// that a job of millions of lines stays small and costs the garbage
+// collector nothing. Lines are keyed by their end points' positions in the
+// plan, in shards so that workers seldom wait for each other. Two workers
+// meeting a new line at once may both compute it; the first to store it
+// wins, and the result does not depend on which.
 type lineCache struct {
-	mu    sync.Mutex
-	lines map[uint64]*lineEntry
+	shards [lineShards]lineShard
+	next   atomic.Int32 // lines stored
+	chunks [maxLineChunks]atomic.Pointer[lineChunk]
+	grow   sync.Mutex // allocates chunks
+	errMu  sync.Mutex
+	errs   map[int32]error // lines that could not be computed
 }
 
-type lineEntry struct {
-	id   int32 // dense number of the line in this job, 0, 1, 2, …
-	once sync.Once
-	line reduce.Line // from the lower-numbered point to the higher
-	err  error
+const (
+	lineShards    = 64
+	lineChunkSize = 4096
+	maxLineChunks = 1 << 15 // 134 million lines
+)
+
+type lineShard struct {
+	mu  sync.Mutex
+	ids map[uint64]int32
+	_   [40]byte // one shard to a cache line
 }
 
-func newLineCache() *lineCache { return &lineCache{lines: map[uint64]*lineEntry{}} }
+type lineChunk [lineChunkSize]lineRec
+
+// lineRec is a line from its lower-numbered point to its higher, less
+// what the points hold (ends, grid positions, end scale factors). A zero
+// distance marks a line that could not be computed (see lineCache.errs).
+type lineRec struct {
+	distance, radius, curvatureRate, kMid, curvature float64
+}
+
+func newLineCache() *lineCache {
+	c := &lineCache{errs: map[int32]error{}}
+	for i := range c.shards {
+		c.shards[i].ids = map[uint64]int32{}
+	}
+	return c
+}
 
 // lineKey names the line between points a and b, either way.
 func lineKey(a, b int32) uint64 {
@@ -75,24 +105,76 @@ func lineKey(a, b int32) uint64 {
 	return uint64(a)<<32 | uint64(uint32(b))
 }
 
+func (c *lineCache) shard(key uint64) *lineShard {
+	return &c.shards[(key*0x9E3779B97F4A7C15)>>58] // Fibonacci hashing: 6 bits
+}
+
 // get returns the line from point a to point b of the plan and its
 // number. Numbers are dense but follow the order in which workers first
 // asked, so they identify a line within the job and say nothing of order.
+// The line's Midpoint, Azimuth and the azimuths of its Inverse are not
+// kept, and are zero: the chain does not use them.
 func (c *lineCache) get(a, b int32, plan *Plan, p *geodesic.Projector) (reduce.Line, int32, error) {
 	key := lineKey(a, b)
-	c.mu.Lock()
-	e, ok := c.lines[key]
-	if !ok {
-		e = &lineEntry{id: int32(len(c.lines))}
-		c.lines[key] = e
-	}
-	c.mu.Unlock()
+	sh := c.shard(key)
+	sh.mu.Lock()
+	id, ok := sh.ids[key]
+	sh.mu.Unlock()
 	lo, hi := min(a, b), max(a, b)
-	e.once.Do(func() {
-		e.line, _, e.err = NewReduceLine(plan.points[lo].control, plan.points[hi].control, plan.Geodesic, p)
-	})
-	if e.err != nil || a == lo {
-		return e.line, e.id, e.err
+	if !ok {
+		line, _, err := NewReduceLine(plan.points[lo].control, plan.points[hi].control, plan.Geodesic, p)
+		sh.mu.Lock()
+		if id, ok = sh.ids[key]; !ok {
+			if id, err = c.store(line, err); id >= 0 {
+				sh.ids[key] = id
+			}
+		}
+		sh.mu.Unlock()
+		if id < 0 {
+			return reduce.Line{}, id, err
+		}
 	}
-	return e.line.Reversed(), e.id, nil
+	rec := &c.chunks[id/lineChunkSize].Load()[id%lineChunkSize]
+	if rec.distance == 0 {
+		c.errMu.Lock()
+		defer c.errMu.Unlock()
+		return reduce.Line{}, id, c.errs[id]
+	}
+	pa, pb := &plan.points[a].control, &plan.points[b].control
+	l := reduce.Line{A: pa.LatLng, B: pb.LatLng, Inverse: reduce.Inverse{Distance: rec.distance},
+		GridDistance: reduce.GridDistanceBetween(reduce.GridPoint(pa.Grid), reduce.GridPoint(pb.Grid)),
+		Radius:       rec.radius, CurvatureRate: rec.curvatureRate,
+		Scale: reduce.ScaleFactors{A: pa.Scale, Mid: rec.kMid, B: pb.Scale, Curvature: rec.curvature}}
+	if a != lo {
+		l.CurvatureRate, l.Scale.Curvature = -l.CurvatureRate, -l.Scale.Curvature
+	}
+	return l, id, nil
+}
+
+// store keeps a computed line (or why it could not be) under the next
+// number; it returns -1 and an error when the job has too many lines.
+func (c *lineCache) store(l reduce.Line, lineErr error) (int32, error) {
+	id := c.next.Add(1) - 1
+	n := int(id) / lineChunkSize
+	if id < 0 || n >= maxLineChunks {
+		return -1, fmt.Errorf("the job has more than %d distinct lines", maxLineChunks*lineChunkSize)
+	}
+	ch := c.chunks[n].Load()
+	if ch == nil {
+		c.grow.Lock()
+		if ch = c.chunks[n].Load(); ch == nil {
+			ch = new(lineChunk)
+			c.chunks[n].Store(ch)
+		}
+		c.grow.Unlock()
+	}
+	if lineErr != nil {
+		c.errMu.Lock()
+		c.errs[id] = lineErr
+		c.errMu.Unlock()
+		return id, nil
+	}
+	ch[id%lineChunkSize] = lineRec{distance: l.Inverse.Distance, radius: l.Radius, curvatureRate: l.CurvatureRate,
+		kMid: l.Scale.Mid, curvature: l.Scale.Curvature}
+	return id, nil
 }

@@ -3,6 +3,7 @@ package job
 import (
 	"math"
 	"strconv"
+	"sync"
 	"testing"
 
 	"github.com/golang/geo/s1"
@@ -91,4 +92,62 @@ func BenchmarkNewReduceLine(b *testing.B) {
 		}
 		i++
 	}
+}
+
+// The line cache gives every pair of points one number, either way and
+// from any worker, and the line NewReduceLine gives from the lower-numbered
+// point, reversed where asked the other way (less the midpoint and
+// azimuths it does not keep); a line that cannot be computed (a point to
+// itself) gives its error each time. Four goroutines ask for every line
+// both ways in different orders; run under -race by make test.
+func TestLineCache(t *testing.T) {
+	plan, _ := testPlan(t, 1)
+	n := int32(len(plan.points))
+	cache := newLineCache()
+	var wg sync.WaitGroup
+	ids := make([]map[[2]int32]int32, 4)
+	for w := range 4 {
+		ids[w] = map[[2]int32]int32{}
+		wg.Go(func() {
+			p, err := plan.CRS.NewProjector()
+			if !assert.NoError(t, err) {
+				return
+			}
+			defer p.Close()
+			for k := range n * n {
+				a, b := (k+int32(w)*7)%n, (k/n+int32(w))%n
+				_, id, err := cache.get(a, b, plan, p)
+				if a == b {
+					assert.Error(t, err, "a line from a point to itself")
+					continue
+				}
+				assert.NoError(t, err)
+				ids[w][[2]int32{a, b}] = id
+			}
+		})
+	}
+	wg.Wait()
+	seen := map[int32]bool{}
+	p, err := plan.CRS.NewProjector()
+	require.NoError(t, err)
+	defer p.Close()
+	for ab, id := range ids[0] {
+		for w := 1; w < 4; w++ {
+			assert.Equal(t, id, ids[w][ab], "the same number from every worker")
+		}
+		assert.Equal(t, id, ids[0][[2]int32{ab[1], ab[0]}], "the same number either way")
+		seen[id] = true
+		got, _, err := cache.get(ab[0], ab[1], plan, p)
+		require.NoError(t, err)
+		lo, hi := min(ab[0], ab[1]), max(ab[0], ab[1])
+		want, _, err := NewReduceLine(plan.points[lo].control, plan.points[hi].control, plan.Geodesic, p)
+		require.NoError(t, err)
+		if ab[0] != lo {
+			want = want.Reversed()
+		}
+		want.Midpoint, want.Azimuth, want.Inverse.Azimuth1, want.Inverse.Azimuth2 = s2.LatLng{}, 0, 0, 0
+		assert.Equal(t, want, got, "line %v", ab)
+	}
+	assert.Len(t, seen, int(n*(n-1)/2), "one number for each line")
+	assert.Equal(t, int32(len(seen)+int(n)), cache.next.Load(), "lines and the failed ones, numbered densely")
 }

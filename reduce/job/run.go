@@ -92,9 +92,10 @@ type Result struct {
 	Seq     int64
 	Obs     obsfile.Observation
 	Profile string
-	// Line is the line's control data, from Obs.From to Obs.To; LineID
-	// numbers the line within the job, whichever way it was observed
-	// (0, 1, 2, … in no particular order).
+	// Line is the line's control data, from Obs.From to Obs.To, as the
+	// chain uses it: its Midpoint, Azimuth and Inverse azimuths are not
+	// kept per line and are zero. LineID numbers the line within the job,
+	// whichever way it was observed (0, 1, 2, … in no particular order).
 	Line      reduce.Line
 	LineID    int32
 	Reduction reduce.Reduction
