@@ -14,7 +14,8 @@ import (
 // An Aggregator gathers, in input order, what the summary and lines.csv
 // say about a run: counts, residual statistics, one record per line
 // (either direction) and the fit of residuals against distance. It holds
-// one record per line and a few sums, never the observations.
+// one small pointer-free record per line, in the order first observed,
+// and a few sums, never the observations.
 type Aggregator struct {
 	critical  float64
 	tolerance reduce.DistanceSpec
@@ -22,10 +23,31 @@ type Aggregator struct {
 
 	counts    Counts
 	ell, grid statsAcc
-	lines     []*lineAcc // by job.Result.LineID
+	pos       []int32 // by job.Result.LineID: 1 + position in lines, 0 if not seen
+	lines     lineAccs
+	names     []string  // by point number (job.Result.Points)
+	markA     []float64 // by point number: height of the mark as a station
 	chi2      map[int]float64
-	order     []*lineAcc
 }
+
+// lineAccs are the lines' records in chunks, so that growing never copies
+// them.
+type lineAccs struct {
+	chunks []*[lineAccChunk]lineAcc
+	n      int
+}
+
+const lineAccChunk = 4096
+
+func (s *lineAccs) add() *lineAcc {
+	if s.n%lineAccChunk == 0 {
+		s.chunks = append(s.chunks, new([lineAccChunk]lineAcc))
+	}
+	s.n++
+	return s.at(s.n - 1)
+}
+
+func (s *lineAccs) at(i int) *lineAcc { return &s.chunks[i/lineAccChunk][i%lineAccChunk] }
 
 // NewAggregator prepares for a job with the given critical value for |w|
 // and tolerance (hasTolerance false: no tolerance test).
@@ -35,25 +57,21 @@ func NewAggregator(critical float64, tolerance reduce.DistanceSpec, hasTolerance
 
 // lineAcc accumulates one line's observations.
 type lineAcc struct {
-	from, to string
-	geodesic float64
-	grid     float64
-	radius   float64
-	n        int
-	mean, m2 float64 // Welford: mean reduced arc and sum of squared deviations
-	gridMean float64 // mean reduced grid distance
-	min, max float64
-	sumVar   float64 // Σσ² of the observations
-	maxAbsW  float64
-	outliers int
-	outOfTol int
-	dir      [2]dirAcc // [0]: from → to as first seen; [1]: the other way
-}
-
-// dirAcc holds one direction's sums for reciprocal zenith angles.
-type dirAcc struct {
-	n                  int
-	zenith, slope, hgt float64 // sums of mark-to-mark zenith (rad), chord S3 and height of mark A
+	from, to           int32 // point numbers, in the direction first observed
+	n                  int32
+	outliers, outOfTol int32
+	dirN               [2]int32 // observations from → to as first seen, and the other way
+	geodesic           float64
+	grid               float64
+	radius             float64
+	mean, m2           float64 // Welford: mean reduced arc and sum of squared deviations
+	gridMean           float64 // mean reduced grid distance
+	min, max           float64
+	sumVar             float64 // Σσ² of the observations
+	maxAbsW            float64
+	// Each direction's sums for reciprocal zenith angles: mark-to-mark
+	// zenith angle (rad) and chord S3 (m).
+	zenith, slope [2]float64
 }
 
 // statsAcc accumulates residual statistics.
@@ -109,16 +127,23 @@ func (a *Aggregator) Add(r *job.Result) {
 	a.ell.add(e.Residual*1e3, e.PPM, e.Standardized)
 	a.grid.add(red.GridResidual.Residual*1e3, red.GridResidual.PPM, red.GridResidual.Standardized)
 
-	for int(r.LineID) >= len(a.lines) {
-		a.lines = append(a.lines, nil)
+	for int(r.LineID) >= len(a.pos) {
+		a.pos = append(a.pos, 0)
 	}
-	l, dir := a.lines[r.LineID], 0
-	switch {
-	case l == nil:
-		l = &lineAcc{from: r.Obs.From, to: r.Obs.To, geodesic: r.Line.Inverse.Distance, grid: r.Line.GridDistance, radius: r.Line.Radius}
-		a.lines[r.LineID] = l
-		a.order = append(a.order, l)
-	case l.from != r.Obs.From:
+	from, to := r.Points[0], r.Points[1]
+	for int(max(from, to)) >= len(a.names) {
+		a.names = append(a.names, "")
+		a.markA = append(a.markA, 0)
+	}
+	a.names[from], a.names[to] = r.Obs.From, r.Obs.To
+	a.markA[from] = red.Heights.MarkA.Height
+	var l *lineAcc
+	dir := 0
+	if p := a.pos[r.LineID]; p == 0 {
+		l = a.lines.add()
+		*l = lineAcc{from: from, to: to, geodesic: r.Line.Inverse.Distance, grid: r.Line.GridDistance, radius: r.Line.Radius}
+		a.pos[r.LineID] = int32(a.lines.n)
+	} else if l = a.lines.at(int(p) - 1); l.from != from {
 		dir = 1
 	}
 	arc := red.Geometry.Arc
@@ -145,12 +170,10 @@ func (a *Aggregator) Add(r *job.Result) {
 	// to the chord between the marks, z_m = z + (HT − HI) sin z / S
 	// (raising the target by HT lowers z by HT sin z / S; raising the
 	// instrument by HI raises it alike).
-	dd := &l.dir[dir]
 	z, slope := float64(r.Obs.Zenith), red.SecondVelocity.Distance
-	dd.n++
-	dd.zenith += z + (r.Obs.TargetHeight-r.Obs.InstrumentHeight)*math.Sin(z)/slope
-	dd.slope += slope
-	dd.hgt += red.Heights.MarkA.Height
+	l.dirN[dir]++
+	l.zenith[dir] += z + (r.Obs.TargetHeight-r.Obs.InstrumentHeight)*math.Sin(z)/slope
+	l.slope[dir] += slope
 }
 
 // Line flags.
@@ -161,7 +184,7 @@ const (
 )
 
 func (a *Aggregator) line(l *lineAcc) Line {
-	out := Line{From: l.from, To: l.to, Count: l.n, Reciprocal: l.dir[0].n > 0 && l.dir[1].n > 0,
+	out := Line{From: a.names[l.from], To: a.names[l.to], Count: int(l.n), Reciprocal: l.dirN[0] > 0 && l.dirN[1] > 0,
 		Geodesic: l.geodesic, Grid: l.grid, MeanArc: l.mean, SpreadMM: (l.max - l.min) * 1e3,
 		MaxAbsW: l.maxAbsW}
 	if l.n > 1 {
@@ -173,9 +196,9 @@ func (a *Aggregator) line(l *lineAcc) Line {
 	out.ResidualMM, out.ResidualPPM, out.SigmaMM = res*1e3, res/l.geodesic*1e6, sigmaMean*1e3
 	out.gridResidualMM = (l.gridMean - l.grid) * 1e3
 	if out.Reciprocal {
-		f, b := l.dir[0], l.dir[1]
-		slope := (f.slope/float64(f.n) + b.slope/float64(b.n)) / 2
-		rr, err := reduce.Reciprocal(slope, s1.Angle(f.zenith/float64(f.n)), s1.Angle(b.zenith/float64(b.n)), f.hgt/float64(f.n), l.radius)
+		nf, nb := float64(l.dirN[0]), float64(l.dirN[1])
+		slope := (l.slope[0]/nf + l.slope[1]/nb) / 2
+		rr, err := reduce.Reciprocal(slope, s1.Angle(l.zenith[0]/nf), s1.Angle(l.zenith[1]/nb), a.markA[l.from], l.radius)
 		if err == nil {
 			k := rr.K
 			out.K = &k
@@ -197,7 +220,7 @@ func (a *Aggregator) line(l *lineAcc) Line {
 	// follows χ² with n − 1 degrees of freedom; the line is flagged above
 	// its upper quantile at the α of the job's critical value. For two
 	// observations this is |x₁ − x₂| > critical·√2·σ.
-	if l.n > 1 && sigmaObs > 0 && l.m2/(sigmaObs*sigmaObs) > a.spreadLimit(l.n-1) {
+	if l.n > 1 && sigmaObs > 0 && l.m2/(sigmaObs*sigmaObs) > a.spreadLimit(int(l.n)-1) {
 		out.Flags = append(out.Flags, FlagSpread)
 	}
 	return out
@@ -230,18 +253,18 @@ func (a *Aggregator) spreadLimit(dof int) float64 {
 // fit. It keeps a few numbers per line, not the lines.
 func (a *Aggregator) Finish(s *Summary) {
 	s.Counts = a.counts
-	s.Counts.Lines = len(a.order)
+	s.Counts.Lines = a.lines.n
 	s.Residuals = ResidualStats{Ellipsoid: a.ell.stats(), Grid: a.grid.stats()}
-	ell := make([]float64, 0, len(a.order))
-	grid := make([]float64, 0, len(a.order))
-	fit := make([]fitPoint, 0, len(a.order))
+	ell := make([]float64, 0, a.lines.n)
+	grid := make([]float64, 0, a.lines.n)
+	fit := make([]fitPoint, 0, a.lines.n)
 	type flagged struct {
-		i int // position in a.order
+		i int // position in a.lines
 		w float64
 	}
 	var worst []flagged
-	for i, acc := range a.order {
-		l := a.line(acc)
+	for i := range a.lines.n {
+		l := a.line(a.lines.at(i))
 		ell = append(ell, l.ResidualMM)
 		grid = append(grid, l.gridResidualMM)
 		if l.SigmaMM > 0 {
@@ -261,16 +284,16 @@ func (a *Aggregator) Finish(s *Summary) {
 	}
 	s.Lines = make([]Line, 0, len(worst))
 	for _, f := range worst {
-		s.Lines = append(s.Lines, a.line(a.order[f.i]))
+		s.Lines = append(s.Lines, a.line(a.lines.at(f.i)))
 	}
-	if len(a.order) <= MaxListedLines {
-		for _, acc := range a.order {
-			if l := a.line(acc); !l.Flagged() {
+	if a.lines.n <= MaxListedLines {
+		for i := range a.lines.n {
+			if l := a.line(a.lines.at(i)); !l.Flagged() {
 				s.Lines = append(s.Lines, l)
 			}
 		}
 	}
-	s.LinesNotListed = len(a.order) - len(s.Lines)
+	s.LinesNotListed = a.lines.n - len(s.Lines)
 	s.Residuals.Ellipsoid.MedianMM = median(ell)
 	s.Residuals.Grid.MedianMM = median(grid)
 	s.Fit = fitLine(fit, a.critical)
@@ -280,8 +303,8 @@ func (a *Aggregator) Finish(s *Summary) {
 // order first observed: the rows of lines.csv.
 func (a *Aggregator) EachLine(write func(*Line) error) error {
 	for pass := 0; pass < 2; pass++ {
-		for _, acc := range a.order {
-			l := a.line(acc)
+		for i := range a.lines.n {
+			l := a.line(a.lines.at(i))
 			if l.Flagged() != (pass == 0) {
 				continue
 			}

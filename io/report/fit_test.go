@@ -80,12 +80,13 @@ func TestSpreadLimit(t *testing.T) {
 func TestSummaryListsTheWorstFlaggedLines(t *testing.T) {
 	a := NewAggregator(3.29, reduce.DistanceSpec{}, false)
 	n := MaxListedLines * 3
+	a.names = []string{"A", "B"}
 	for i := range n {
-		acc := &lineAcc{from: "A", to: "B", geodesic: 1000, grid: 1000, radius: 6.4e6, n: 1, mean: 1000, sumVar: 1e-6, maxAbsW: float64(i % 7)}
+		acc := a.lines.add()
+		*acc = lineAcc{from: 0, to: 1, geodesic: 1000, grid: 1000, radius: 6.4e6, n: 1, mean: 1000, sumVar: 1e-6, maxAbsW: float64(i % 7)}
 		if i%2 == 0 {
 			acc.outliers, acc.maxAbsW = 1, 4+float64(i)
 		}
-		a.order = append(a.order, acc)
 	}
 	var s Summary
 	a.Finish(&s)

@@ -41,6 +41,9 @@ type Plan struct {
 	points []planPoint
 }
 
+// PointID is the id of the plan's point number i (Result.Points).
+func (p *Plan) PointID(i int32) string { return p.points[i].id }
+
 // planPoint is one control point as the per-row path needs it.
 type planPoint struct {
 	id      string
@@ -96,8 +99,10 @@ type Result struct {
 	// chain uses it: its Midpoint, Azimuth and Inverse azimuths are not
 	// kept per line and are zero. LineID numbers the line within the job,
 	// whichever way it was observed (0, 1, 2, … in no particular order).
-	Line      reduce.Line
-	LineID    int32
+	Line   reduce.Line
+	LineID int32
+	// Points are the plan's numbers of Obs.From and Obs.To (Plan.PointID).
+	Points    [2]int32
 	Reduction reduce.Reduction
 	// Rejected rows: File and LineNo say where, Raw is the row as written
 	// and Reason why it could not be reduced.
@@ -325,6 +330,7 @@ func reduceOne(plan *Plan, cache *lineCache, p *geodesic.Projector, r *Result, r
 	}
 	a, b := &plan.points[ia], &plan.points[ib]
 	o.From, o.To = a.id, b.id // the plan's strings: the row's may go
+	r.Points = [2]int32{ia, ib}
 	if !a.hasMark {
 		reject(fmt.Sprintf("%s: station %q has no height on the reduction datum (%s)", where, o.From, plan.Job.Datum))
 		return
