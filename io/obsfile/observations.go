@@ -131,18 +131,28 @@ func NewObsReader(r io.Reader, file string, opt ObsOptions) (*ObsReader, []Warni
 // row gives a *RowError and the reader can go on; any other error (an
 // unreadable file, broken CSV quoting) ends the file.
 func (o *ObsReader) Next() (Observation, error) {
+	obs, _, err := o.NextAppend(nil)
+	return obs, err
+}
+
+// NextAppend is Next that keeps the row's fields (Observation.Fields) in
+// fields, appended, and returns it extended: a caller that reads many rows
+// into one buffer it reuses makes no garbage per row.
+func (o *ObsReader) NextAppend(fields []string) (Observation, []string, error) {
 	if err := o.t.next(); err != nil {
 		var fe *FieldError
 		if errors.As(err, &fe) && fe.Field == "" && o.t.row != nil && fe.Err == nil {
-			return Observation{}, &RowError{Raw: o.t.raw(), Err: fe}
+			return Observation{}, fields, &RowError{Raw: o.t.raw(), Err: fe}
 		}
-		return Observation{}, err
+		return Observation{}, fields, err
 	}
-	obs, fe := o.parse()
+	n := len(fields)
+	fields = append(fields, o.t.row...)
+	obs, fe := o.parse(fields[n:len(fields):len(fields)])
 	if fe != nil {
-		return Observation{}, &RowError{Raw: o.t.raw(), Err: fe}
+		return Observation{}, fields[:n], &RowError{Raw: o.t.raw(), Err: fe}
 	}
-	return obs, nil
+	return obs, fields, nil
 }
 
 func (o *ObsReader) field(i int) string {
@@ -181,11 +191,11 @@ func (o *ObsReader) number(i int, want func() string) (float64, *FieldError) {
 // wants is a fixed description of an expected value.
 func wants(s string) func() string { return func() string { return s } }
 
-func (o *ObsReader) parse() (Observation, *FieldError) {
+func (o *ObsReader) parse(fields []string) (Observation, *FieldError) {
 	t := o.t
 	ob := Observation{File: t.file, Line: t.line,
 		From: o.field(o.from), To: o.field(o.to), Instrument: o.field(o.instr), ObsID: o.field(o.obsID),
-		Fields: append([]string(nil), t.row...)}
+		Fields: fields}
 	if ob.From == "" {
 		return ob, o.bad(o.from, "the id of the instrument station")
 	}

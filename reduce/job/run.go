@@ -111,8 +111,8 @@ type Result struct {
 	LineNo   int
 	Raw      string
 	Reason   string
-	// Row is Plan.Format's output for this result; it is reused after the
-	// sink returns.
+	// Row is Plan.Format's output for this result. It, and Obs.Fields,
+	// are reused after the sink returns.
 	Row []byte
 }
 
@@ -126,6 +126,7 @@ type batch struct {
 	results []Result
 	errs    []error  // per row: read error (a *obsfile.RowError) or nil
 	rows    [][]byte // formatted rows, reused with the batch
+	fields  []string // the rows' fields (Observation.Fields), reused with the batch
 }
 
 // Run reduces the observation sources in order, spreading the work over
@@ -143,9 +144,16 @@ func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Wa
 	ctx, cancel := context.WithCancelCause(ctx)
 	defer cancel(nil)
 
-	todo := make(chan *batch, workers*2)
-	done := make(chan *batch, workers*2)
-	free := make(chan *batch, workers*4+2)
+	// A fixed pool of batches bounds the memory in flight: one being
+	// read, one per worker, and the rest queued or waiting for their turn
+	// at the sink.
+	pool := 2*workers + 2
+	todo := make(chan *batch, pool)
+	done := make(chan *batch, pool)
+	free := make(chan *batch, pool)
+	for range pool {
+		free <- &batch{results: make([]Result, 0, batchSize), errs: make([]error, 0, batchSize)}
+	}
 	cache := newLineCache()
 
 	var readErr error
@@ -210,10 +218,7 @@ func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Wa
 					}
 				}
 			}
-			select {
-			case free <- nb:
-			default:
-			}
+			free <- nb // never blocks: the pool fits
 		}
 	}
 	if sinkErr != nil {
@@ -232,7 +237,10 @@ func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Wa
 func readAll(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Warning), todo chan<- *batch, free <-chan *batch) error {
 	opt := obsfile.ObsOptions{LengthUnit: plan.Job.LengthUnit, AngleUnit: plan.Job.AngleUnit}
 	var bseq, rowSeq int64
-	b := newBatch(free, bseq)
+	b := newBatch(ctx, free, bseq)
+	if b == nil {
+		return context.Cause(ctx)
+	}
 	flush := func() bool {
 		if len(b.results) == 0 {
 			return true
@@ -243,8 +251,8 @@ func readAll(ctx context.Context, plan *Plan, sources []Source, warn func(obsfil
 			return false
 		}
 		bseq++
-		b = newBatch(free, bseq)
-		return true
+		b = newBatch(ctx, free, bseq)
+		return b != nil
 	}
 	for _, src := range sources {
 		r, warnings, err := obsfile.NewObsReader(src.Reader, src.Name, opt)
@@ -255,7 +263,8 @@ func readAll(ctx context.Context, plan *Plan, sources []Source, warn func(obsfil
 			return err
 		}
 		for {
-			obs, err := r.Next()
+			obs, fields, err := r.NextAppend(b.fields)
+			b.fields = fields
 			if errors.Is(err, io.EOF) {
 				break
 			}
@@ -277,13 +286,14 @@ func readAll(ctx context.Context, plan *Plan, sources []Source, warn func(obsfil
 	return nil
 }
 
-func newBatch(free <-chan *batch, seq int64) *batch {
+// newBatch waits for a free batch from the pool; nil if the run stops.
+func newBatch(ctx context.Context, free <-chan *batch, seq int64) *batch {
 	select {
 	case b := <-free:
-		b.seq, b.results, b.errs = seq, b.results[:0], b.errs[:0]
+		b.seq, b.results, b.errs, b.fields = seq, b.results[:0], b.errs[:0], b.fields[:0]
 		return b
-	default:
-		return &batch{seq: seq, results: make([]Result, 0, batchSize), errs: make([]error, 0, batchSize)}
+	case <-ctx.Done():
+		return nil
 	}
 }
 
