@@ -16,7 +16,11 @@ import (
 // positions.
 type table struct {
 	file   string
+	br     *bufio.Reader // under r, positioned after the rows read
 	r      *csv.Reader
+	// lineOffset is added to r's line numbers: the line before the first
+	// row r reads, when r reads a chunk of the file (ObsChunker).
+	lineOffset int
 	col    map[string]int // header name → field index
 	header []string
 	row    []string
@@ -34,11 +38,8 @@ func openTable(r io.Reader, file string, known []string) (*table, []Warning, err
 	if b, err := br.Peek(len(bom)); err == nil && string(b) == bom {
 		br.Discard(len(bom))
 	}
-	cr := csv.NewReader(br)
-	cr.Comment = '#'
-	cr.FieldsPerRecord = -1
-	cr.ReuseRecord = true
-	t := &table{file: file, r: cr, col: map[string]int{}}
+	cr := newCSVReader(br)
+	t := &table{file: file, br: br, r: cr, col: map[string]int{}}
 	header, err := cr.Read()
 	if errors.Is(err, io.EOF) {
 		return nil, nil, &HeaderError{File: file, Line: 1, Reason: "the file is empty: want a header row"}
@@ -65,6 +66,23 @@ func openTable(r io.Reader, file string, known []string) (*table, []Warning, err
 		}
 	}
 	return t, warnings, nil
+}
+
+// newCSVReader reads the files' CSV: # comments, rows checked against the
+// header by the caller, one record reused.
+func newCSVReader(r io.Reader) *csv.Reader {
+	cr := csv.NewReader(r)
+	cr.Comment = '#'
+	cr.FieldsPerRecord = -1
+	cr.ReuseRecord = true
+	return cr
+}
+
+// fieldPos is the line and column of field i of the current row in the
+// file.
+func (t *table) fieldPos(i int) (line, column int) {
+	line, column = t.r.FieldPos(i)
+	return line + t.lineOffset, column
 }
 
 // require checks that every name is a column.
@@ -145,7 +163,7 @@ func (t *table) next() error {
 			}
 			return t.csvError(err)
 		}
-		t.line, _ = t.r.FieldPos(0)
+		t.line, _ = t.fieldPos(0)
 		blank := true
 		for _, f := range row {
 			if strings.TrimSpace(f) != "" {
@@ -198,7 +216,7 @@ func (t *table) optionalNumber(name, want string, lo, hi float64) (float64, bool
 // current row.
 func (t *table) fieldError(name, want string, cause error) *FieldError {
 	i := t.col[name]
-	line, _ := t.r.FieldPos(i)
+	line, _ := t.fieldPos(i)
 	return &FieldError{File: t.file, Line: line, Column: i + 1, Field: name, Value: t.row[i], Want: want, Err: cause}
 }
 
@@ -217,7 +235,7 @@ func joinCSV(fields []string) string {
 func (t *table) csvError(err error) error {
 	var pe *csv.ParseError
 	if errors.As(err, &pe) {
-		return &FieldError{File: t.file, Line: pe.Line, Column: pe.Column, Want: "well-formed CSV: " + pe.Err.Error(), Err: err}
+		return &FieldError{File: t.file, Line: pe.Line + t.lineOffset, Column: pe.Column, Want: "well-formed CSV: " + pe.Err.Error(), Err: err}
 	}
 	return fmt.Errorf("%s: %w", t.file, err)
 }

@@ -174,7 +174,7 @@ func trim(s string) string {
 }
 
 func (o *ObsReader) bad(i int, want string) *FieldError {
-	line, _ := o.t.r.FieldPos(i)
+	line, _ := o.t.fieldPos(i)
 	return &FieldError{File: o.t.file, Line: line, Column: i + 1, Field: o.t.header[i], Value: o.t.row[i], Want: want}
 }
 
