@@ -15,16 +15,16 @@ import (
 // table reads a CSV file with a header row, mapping column names to field
 // positions.
 type table struct {
-	file   string
-	br     *bufio.Reader // under r, positioned after the rows read
-	r      *csv.Reader
+	file string
+	br   *bufio.Reader // under r, positioned after the rows read
+	r    *csv.Reader
 	// lineOffset is added to r's line numbers: the line before the first
 	// row r reads, when r reads a chunk of the file (ObsChunker).
 	lineOffset int
-	col    map[string]int // header name → field index
-	header []string
-	row    []string
-	line   int // line of the current row
+	col        map[string]int // header name → field index
+	header     []string
+	row        []string
+	line       int // line of the current row
 	// headerLine is the line of the header row.
 	headerLine int
 }
