@@ -234,7 +234,7 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 		return report.AppendReducedRow(dst, r, u)
 	}
 	agg := report.NewAggregator(j.Critical, j.Tolerance, j.HasTolerance)
-	rowsPerSource := make(map[string]int)
+	var perSource sourceCounter
 	var buf []byte
 	var rows atomic.Int64
 	stop := startProgress(opt.progress, &read, &rows, total)
@@ -242,11 +242,11 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 		agg.Add(r)
 		rows.Add(1)
 		if r.Rejected {
-			rowsPerSource[r.File]++
+			perSource.add(r.File)
 			_, err := rejects.Write(r.Row)
 			return err
 		}
-		rowsPerSource[r.Obs.File]++
+		perSource.add(r.Obs.File)
 		_, err := reduced.Write(r.Row)
 		return err
 	})
@@ -254,8 +254,11 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 	if err != nil {
 		return nil, err
 	}
+	// The big files are written: they go to disk while the summary is made.
+	reduced.StartSync()
+	rejects.StartSync()
 	for i, src := range sources {
-		sum.Inputs = append(sum.Inputs, report.InputFile{Role: "observations", Path: src.Name, SHA256: hex.EncodeToString(hashes[i].Sum(nil)), Rows: rowsPerSource[src.Name]})
+		sum.Inputs = append(sum.Inputs, report.InputFile{Role: "observations", Path: src.Name, SHA256: hex.EncodeToString(hashes[i].Sum(nil)), Rows: perSource.count(src.Name)})
 	}
 	sum.Settings = settings(j, s.crs, s.geoidGrid, opt.strict)
 	sum.InputHash = inputHash(sum)
@@ -368,6 +371,36 @@ func (o *outputs) abort() {
 	for _, f := range o.files {
 		f.Abort()
 	}
+}
+
+// sourceCounter counts rows by file name; rows come in runs from one
+// file, so it looks the name up only when it changes.
+type sourceCounter struct {
+	rows     map[string]*int
+	last     string
+	lastRows *int
+}
+
+func (c *sourceCounter) add(name string) {
+	if c.lastRows == nil || name != c.last {
+		if c.rows == nil {
+			c.rows = map[string]*int{}
+		}
+		n, ok := c.rows[name]
+		if !ok {
+			n = new(int)
+			c.rows[name] = n
+		}
+		c.last, c.lastRows = name, n
+	}
+	*c.lastRows++
+}
+
+func (c *sourceCounter) count(name string) int {
+	if n, ok := c.rows[name]; ok {
+		return *n
+	}
+	return 0
 }
 
 type countingReader struct {

@@ -28,6 +28,7 @@ type Aggregator struct {
 	names     []string  // by point number (job.Result.Points)
 	markA     []float64 // by point number: height of the mark as a station
 	chi2      map[int]float64
+	flagged   []uint64 // bit i: line i is flagged, once Finish has run
 }
 
 // lineAccs are the lines' records in chunks, so that growing never copies
@@ -263,8 +264,12 @@ func (a *Aggregator) Finish(s *Summary) {
 		w float64
 	}
 	var worst []flagged
+	a.flagged = make([]uint64, (a.lines.n+63)/64)
 	for i := range a.lines.n {
 		l := a.line(a.lines.at(i))
+		if l.Flagged() {
+			a.flagged[i/64] |= 1 << (i % 64)
+		}
 		ell = append(ell, l.ResidualMM)
 		grid = append(grid, l.gridResidualMM)
 		if l.SigmaMM > 0 {
@@ -300,12 +305,18 @@ func (a *Aggregator) Finish(s *Summary) {
 }
 
 // EachLine calls write for every line, flagged ones first, then in the
-// order first observed: the rows of lines.csv.
+// order first observed: the rows of lines.csv. After Finish it computes
+// each line once.
 func (a *Aggregator) EachLine(write func(*Line) error) error {
 	for pass := 0; pass < 2; pass++ {
 		for i := range a.lines.n {
-			l := a.line(a.lines.at(i))
-			if l.Flagged() != (pass == 0) {
+			var l Line
+			if a.flagged != nil {
+				if (a.flagged[i/64]&(1<<(i%64)) != 0) != (pass == 0) {
+					continue
+				}
+				l = a.line(a.lines.at(i))
+			} else if l = a.line(a.lines.at(i)); l.Flagged() != (pass == 0) {
 				continue
 			}
 			if err := write(&l); err != nil {

@@ -12,9 +12,10 @@ import (
 // half-written file under the final name.
 type AtomicFile struct {
 	*bufio.Writer
-	f     *os.File
-	final string
-	done  bool
+	f      *os.File
+	final  string
+	done   bool
+	synced chan error // set by StartSync
 }
 
 // CreateAtomic starts writing path.
@@ -30,14 +31,33 @@ func CreateAtomic(path string) (*AtomicFile, error) {
 	return &AtomicFile{Writer: bufio.NewWriterSize(f, 256<<10), f: f, final: path}, nil
 }
 
+// StartSync ends the writing: it flushes the file and syncs it to disk in
+// the background, while the caller goes on with other work; Commit then
+// waits for it.
+func (a *AtomicFile) StartSync() {
+	if a.synced != nil || a.done {
+		return
+	}
+	a.synced = make(chan error, 1)
+	err := a.Flush()
+	go func() {
+		if err == nil {
+			err = a.f.Sync()
+		}
+		a.synced <- err
+	}()
+}
+
 // Commit flushes, syncs and renames the file into place.
 func (a *AtomicFile) Commit() error {
 	if a.done {
 		return fmt.Errorf("%s: already closed", a.final)
 	}
 	a.done = true
-	err := a.Flush()
-	if err == nil {
+	var err error
+	if a.synced != nil {
+		err = <-a.synced
+	} else if err = a.Flush(); err == nil {
 		err = a.f.Sync()
 	}
 	if cerr := a.f.Close(); err == nil {
@@ -59,6 +79,9 @@ func (a *AtomicFile) Abort() {
 		return
 	}
 	a.done = true
+	if a.synced != nil {
+		<-a.synced
+	}
 	a.f.Close()
 	os.Remove(a.f.Name())
 }

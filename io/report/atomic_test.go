@@ -46,3 +46,27 @@ func TestAtomicFile(t *testing.T) {
 	_, err = CreateAtomic(filepath.Join(dir, "no such folder", "x.csv"))
 	assert.Error(t, err)
 }
+
+// StartSync flushes and syncs in the background: Commit waits for it and
+// puts the whole file in place; Abort after it still leaves nothing.
+func TestAtomicFileStartSync(t *testing.T) {
+	dir := t.TempDir()
+	f, err := CreateAtomic(filepath.Join(dir, "reduced.csv"))
+	require.NoError(t, err)
+	_, err = f.WriteString("all rows\n")
+	require.NoError(t, err)
+	f.StartSync()
+	f.StartSync() // once is enough
+	require.NoError(t, f.Commit())
+	got, err := os.ReadFile(filepath.Join(dir, "reduced.csv"))
+	require.NoError(t, err)
+	assert.Equal(t, "all rows\n", string(got))
+
+	g, err := CreateAtomic(filepath.Join(dir, "rejects.csv"))
+	require.NoError(t, err)
+	g.WriteString("a half file")
+	g.StartSync()
+	g.Abort()
+	entries, _ := os.ReadDir(dir)
+	assert.Len(t, entries, 1, "an aborted file leaves nothing")
+}

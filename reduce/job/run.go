@@ -119,23 +119,36 @@ type Result struct {
 // A Sink receives every result in input order, from one goroutine.
 type Sink func(*Result) error
 
-const batchSize = 256
+// chunkBytes is the size of the chunks of rows the reader hands to the
+// workers, which parse them: about 250 rows of a 12-column file.
+const chunkBytes = 16 << 10
 
+// A batch is one chunk of an observation file, parsed, reduced and
+// formatted by one worker; its buffers are reused.
 type batch struct {
 	seq     int64 // batch number
+	src     *obsfile.ObsChunker
+	data    []byte // the chunk's rows as read
+	first   int    // line of the file where data starts
 	results []Result
 	errs    []error  // per row: read error (a *obsfile.RowError) or nil
-	rows    [][]byte // formatted rows, reused with the batch
-	fields  []string // the rows' fields (Observation.Fields), reused with the batch
+	rows    [][]byte // formatted rows
+	fields  []string // the rows' fields (Observation.Fields)
+	// fatal ends the run after the batch's results: broken CSV quoting or
+	// an unreadable file.
+	fatal error
 }
 
 // Run reduces the observation sources in order, spreading the work over
 // the plan's workers, and hands every result to sink in input order: the
 // outputs do not depend on the number of workers. Observations are
-// streamed; only the batches in flight are held. Warnings from the files'
-// headers go to warn, called from the reading goroutine while the run
-// goes on. An error that stops the run (a header without a
-// required column, an unreadable file, the sink's error) is returned.
+// streamed: one goroutine reads the files in chunks of whole rows, which
+// the workers parse, reduce and format, and only the chunks in flight are
+// held. Warnings from the files' headers go to warn, called from the
+// reading goroutine while the run goes on. An error that stops the run (a
+// header without a required column, an unreadable file, broken CSV
+// quoting, the sink's error) is returned; the results before it have
+// reached the sink.
 func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Warning), sink Sink) error {
 	workers := plan.Workers
 	if workers <= 0 {
@@ -152,14 +165,14 @@ func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Wa
 	done := make(chan *batch, pool)
 	free := make(chan *batch, pool)
 	for range pool {
-		free <- &batch{results: make([]Result, 0, batchSize), errs: make([]error, 0, batchSize)}
+		free <- &batch{}
 	}
 	cache := newLineCache()
 
 	var readErr error
 	go func() { // reader
 		defer close(todo)
-		readErr = readAll(ctx, plan, sources, warn, todo, free)
+		readErr = readAll(ctx, sources, plan, warn, todo, free)
 		if readErr != nil {
 			cancel(readErr)
 		}
@@ -177,6 +190,7 @@ func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Wa
 			}
 			defer p.Close()
 			for b := range todo {
+				b.parse()
 				for i := range b.results {
 					r := &b.results[i]
 					reduceOne(plan, cache, p, r, b.errs[i])
@@ -197,10 +211,11 @@ func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Wa
 	}
 	go func() { wg.Wait(); close(done) }()
 
-	// Collector: put the batches back in order and feed the sink.
+	// Collector: put the batches back in order and feed the sink, until a
+	// batch ends the run.
 	pending := map[int64]*batch{}
-	var next int64
-	var sinkErr error
+	var next, seq int64
+	var stopErr error
 	for b := range done {
 		pending[b.seq] = b
 		for {
@@ -210,19 +225,26 @@ func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Wa
 			}
 			delete(pending, next)
 			next++
-			if sinkErr == nil && ctx.Err() == nil {
-				for i := range nb.results {
-					if sinkErr = sink(&nb.results[i]); sinkErr != nil {
-						cancel(sinkErr)
-						break
-					}
+			for i := range nb.results {
+				if stopErr != nil || ctx.Err() != nil {
+					break
 				}
+				nb.results[i].Seq = seq
+				seq++
+				if err := sink(&nb.results[i]); err != nil {
+					stopErr = err
+					cancel(err)
+				}
+			}
+			if nb.fatal != nil && stopErr == nil && ctx.Err() == nil {
+				stopErr = nb.fatal
+				cancel(nb.fatal)
 			}
 			free <- nb // never blocks: the pool fits
 		}
 	}
-	if sinkErr != nil {
-		return sinkErr
+	if stopErr != nil {
+		return stopErr
 	}
 	if err := context.Cause(ctx); err != nil && !errors.Is(err, context.Canceled) {
 		return err
@@ -233,29 +255,14 @@ func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Wa
 	return ctx.Err()
 }
 
-// readAll reads every source into numbered batches.
-func readAll(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Warning), todo chan<- *batch, free <-chan *batch) error {
+// readAll reads every source into numbered chunks of rows. An error in
+// reading a source's rows travels with its chunk, in order; an error in
+// its header stops here.
+func readAll(ctx context.Context, sources []Source, plan *Plan, warn func(obsfile.Warning), todo chan<- *batch, free chan *batch) error {
 	opt := obsfile.ObsOptions{LengthUnit: plan.Job.LengthUnit, AngleUnit: plan.Job.AngleUnit}
-	var bseq, rowSeq int64
-	b := newBatch(ctx, free, bseq)
-	if b == nil {
-		return context.Cause(ctx)
-	}
-	flush := func() bool {
-		if len(b.results) == 0 {
-			return true
-		}
-		select {
-		case todo <- b:
-		case <-ctx.Done():
-			return false
-		}
-		bseq++
-		b = newBatch(ctx, free, bseq)
-		return b != nil
-	}
+	var seq int64
 	for _, src := range sources {
-		r, warnings, err := obsfile.NewObsReader(src.Reader, src.Name, opt)
+		c, warnings, err := obsfile.NewObsChunker(src.Reader, src.Name, opt)
 		for _, w := range warnings {
 			warn(w)
 		}
@@ -263,37 +270,54 @@ func readAll(ctx context.Context, plan *Plan, sources []Source, warn func(obsfil
 			return err
 		}
 		for {
-			obs, fields, err := r.NextAppend(b.fields)
-			b.fields = fields
-			if errors.Is(err, io.EOF) {
-				break
-			}
-			var re *obsfile.RowError
-			if err != nil && !errors.As(err, &re) {
-				return err
-			}
-			b.results = append(b.results, Result{Seq: rowSeq, Obs: obs})
-			b.errs = append(b.errs, err)
-			rowSeq++
-			if len(b.results) == batchSize && !flush() {
+			var b *batch
+			select {
+			case b = <-free:
+			case <-ctx.Done():
 				return context.Cause(ctx)
 			}
+			data, first, err := c.Next(b.data, chunkBytes)
+			if errors.Is(err, io.EOF) {
+				b.data = data
+				free <- b // never blocks: it came from the pool
+				break
+			}
+			b.seq, b.src, b.data, b.first, b.fatal = seq, c, data, first, err
+			seq++
+			select {
+			case todo <- b:
+			case <-ctx.Done():
+				return context.Cause(ctx)
+			}
+			if err != nil {
+				return nil // the collector stops at this batch
+			}
 		}
-	}
-	if !flush() {
-		return context.Cause(ctx)
 	}
 	return nil
 }
 
-// newBatch waits for a free batch from the pool; nil if the run stops.
-func newBatch(ctx context.Context, free <-chan *batch, seq int64) *batch {
-	select {
-	case b := <-free:
-		b.seq, b.results, b.errs, b.fields = seq, b.results[:0], b.errs[:0], b.fields[:0]
-		return b
-	case <-ctx.Done():
-		return nil
+// parse reads the batch's rows; an error that ends the file is kept for
+// after them.
+func (b *batch) parse() {
+	b.results, b.errs, b.fields = b.results[:0], b.errs[:0], b.fields[:0]
+	if b.fatal != nil {
+		return
+	}
+	r := b.src.Reader(b.data, b.first)
+	for {
+		obs, fields, err := r.NextAppend(b.fields)
+		b.fields = fields
+		if errors.Is(err, io.EOF) {
+			return
+		}
+		var re *obsfile.RowError
+		if err != nil && !errors.As(err, &re) {
+			b.fatal = err
+			return
+		}
+		b.results = append(b.results, Result{Obs: obs})
+		b.errs = append(b.errs, err)
 	}
 }
 
