@@ -49,16 +49,25 @@ func runBench(args []string) error {
 		return err
 	}
 	job := filepath.Join(*dir, "job.toml")
-	cmds := []struct {
+	type command struct {
 		name  string
 		argv  []string
 		stdin string
-	}{
-		{"parse floor (encoding/csv + strconv)", []string{self, "floor", obsFile}, ""},
-		{"geod -I (inverses only)", []string{*geod, "+ellps=GRS80", "-I", "-f", "%.4f"}, filepath.Join(*dir, "geod.txt")},
-		{"geored reduce, 1 worker", []string{*geored, "reduce", "-config", job, "-quiet", "-workers", "1", "-out", filepath.Join(*dir, "out1")}, ""},
-		{fmt.Sprintf("geored reduce, all cores (%d)", runtime.NumCPU()), []string{*geored, "reduce", "-config", job, "-quiet", "-workers", "0", "-out", filepath.Join(*dir, "outN")}, ""},
+		out   string // output folder, removed before each run (untimed)
 	}
+	reduce := func(workers, out string) []string {
+		return []string{*geored, "reduce", "-config", job, "-quiet", "-workers", workers, "-out", filepath.Join(*dir, out)}
+	}
+	cmds := []command{
+		{"parse floor (encoding/csv + strconv)", []string{self, "floor", obsFile}, "", ""},
+		{"geod -I (inverses only)", []string{*geod, "+ellps=GRS80", "-I", "-f", "%.4f"}, filepath.Join(*dir, "geod.txt"), ""},
+	}
+	if _, err := exec.LookPath("taskset"); err == nil {
+		cmds = append(cmds, command{"geored reduce, one core (taskset -c 0)", append([]string{"taskset", "-c", "0"}, reduce("1", "out0")...), "", filepath.Join(*dir, "out0")})
+	}
+	cmds = append(cmds,
+		command{"geored reduce, 1 worker", reduce("1", "out1"), "", filepath.Join(*dir, "out1")},
+		command{fmt.Sprintf("geored reduce, all cores (%d)", runtime.NumCPU()), reduce("0", "outN"), "", filepath.Join(*dir, "outN")})
 	var ms []measurement
 	for _, c := range cmds {
 		if c.argv[0] == "" {
@@ -71,6 +80,11 @@ func runBench(args []string) error {
 		var walls []time.Duration
 		var rss int64
 		for range *repeat {
+			if c.out != "" {
+				if err := os.RemoveAll(c.out); err != nil {
+					return err
+				}
+			}
 			w, r, err := timeCommand(c.argv, c.stdin)
 			if err != nil {
 				return fmt.Errorf("%s: %w", c.name, err)

@@ -5,7 +5,6 @@ import (
 	"bytes"
 	"errors"
 	"io"
-	"strings"
 )
 
 // An ObsChunker splits an observation file, after its header, into chunks
@@ -19,10 +18,10 @@ type ObsChunker struct {
 	eof  bool
 }
 
-// maxChunkFactor bounds a chunk at this many times the size asked for,
-// in case a broken quote makes the rest of the file look like one field:
-// the chunk's reader then reports the broken quote.
-const maxChunkFactor = 64
+// maxChunk bounds a chunk, in case a broken quote makes the rest of the
+// file look like one field: the chunk's reader then reports the broken
+// quote. No row of an observation file comes near it.
+const maxChunk = 64 << 20
 
 // NewObsChunker reads the header as NewObsReader does, with its warnings
 // and errors.
@@ -31,13 +30,8 @@ func NewObsChunker(r io.Reader, file string, opt ObsOptions) (*ObsChunker, []War
 	if err != nil {
 		return nil, warnings, err
 	}
-	// The header has been read through its last line break: the next
-	// line follows it, and any line breaks quoted inside its names.
-	line := o.t.headerLine + 1
-	for _, h := range o.t.header {
-		line += strings.Count(h, "\n")
-	}
-	return &ObsChunker{head: o, line: line}, warnings, nil
+	// The header has been read through its last line break.
+	return &ObsChunker{head: o, line: o.t.afterHeader}, warnings, nil
 }
 
 // File is the name the chunker reports in errors.
@@ -53,13 +47,22 @@ func (c *ObsChunker) Next(buf []byte, size int) (data []byte, firstLine int, err
 		return data, firstLine, io.EOF
 	}
 	br := c.head.t.br
-	inQuote := false
+	inQuote := false // inside a quoted field
+	lineStart := true
+	comment := false // the line being read is a comment
 	for {
 		line, err := br.ReadSlice('\n')
 		data = append(data, line...)
-		if bytes.Count(line, []byte{'"'})%2 == 1 {
+		// A row ends at a line break outside quotes; quotes pair up
+		// (a doubled one inside a quoted field counts twice), and a
+		// comment line's quotes do not count.
+		if lineStart {
+			comment = !inQuote && len(line) > 0 && line[0] == '#'
+		}
+		if !comment && bytes.Count(line, []byte{'"'})%2 == 1 {
 			inQuote = !inQuote
 		}
+		lineStart = err == nil
 		switch {
 		case err == nil:
 			c.line++
@@ -74,7 +77,7 @@ func (c *ObsChunker) Next(buf []byte, size int) (data []byte, firstLine int, err
 		default:
 			return data, firstLine, c.head.t.csvError(err)
 		}
-		if len(data) >= size && (!inQuote || len(data) >= maxChunkFactor*size) {
+		if len(data) >= size && (!inQuote || len(data) >= maxChunk) {
 			return data, firstLine, nil
 		}
 	}

@@ -25,8 +25,9 @@ type table struct {
 	header     []string
 	row        []string
 	line       int // line of the current row
-	// headerLine is the line of the header row.
-	headerLine int
+	// headerLine is the line of the header row, afterHeader the line
+	// after it (further on if quoted names hold line breaks).
+	headerLine, afterHeader int
 }
 
 const bom = "\uFEFF"
@@ -48,7 +49,10 @@ func openTable(r io.Reader, file string, known []string) (*table, []Warning, err
 		return nil, nil, t.csvError(err)
 	}
 	t.line, _ = cr.FieldPos(0)
-	t.headerLine = t.line
+	t.headerLine, t.afterHeader = t.line, t.line+1
+	for _, h := range header {
+		t.afterHeader += strings.Count(h, "\n")
+	}
 	t.header = slices.Clone(header)
 	var warnings []Warning
 	for i, h := range t.header {

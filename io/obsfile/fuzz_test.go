@@ -3,7 +3,9 @@ package obsfile
 import (
 	"bytes"
 	"errors"
+	"fmt"
 	"io"
+	"slices"
 	"testing"
 
 	"github.com/geored/geored/io/units"
@@ -64,6 +66,30 @@ func FuzzReadPoints(f *testing.F) {
 			if p.ID == "" || (!p.HasLatLng && !p.HasGrid) {
 				t.Fatalf("accepted a bad point: %+v", p)
 			}
+		}
+	})
+}
+
+// Split into chunks of any size, a file reads as it does whole: the same
+// rows, rejects, line numbers and errors (chunk_test.go). `go test
+// ./io/obsfile -fuzz FuzzObsChunker` explores further than the seeds.
+func FuzzObsChunker(f *testing.F) {
+	for _, seed := range []string{
+		"from,to,slope_distance,zenith_angle\nA,B,100,90\nB,A,100,90\n",
+		"# \"odd\n\"from\",to,slope_distance,zenith_angle\r\n\"A\nB\",B,100,90\r\n#x\"\nA,\"B\"\"\",1,2\n",
+		"from,to,slope_distance,zenith_angle\nA,B\"x,100,90\nA,B,1,1\n",
+		"from,to,slope_distance,zenith_angle\n\"A,B,100,90\nA,B,1,1\n",
+	} {
+		f.Add([]byte(seed), uint8(3))
+	}
+	f.Fuzz(func(t *testing.T, data []byte, size uint8) {
+		want, _, wantErr := readWhole(t, string(data))
+		got, _, err := readChunked(t, string(data), int(size)+1)
+		if fmt.Sprint(wantErr) != fmt.Sprint(err) {
+			t.Fatalf("chunks of %d bytes: error %v, whole file: %v", int(size)+1, err, wantErr)
+		}
+		if !slices.Equal(want, got) {
+			t.Fatalf("chunks of %d bytes:\n%q\nwhole file:\n%q", int(size)+1, got, want)
 		}
 	})
 }
