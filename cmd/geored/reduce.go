@@ -233,7 +233,7 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 		}
 		return report.AppendReducedRow(dst, r, u)
 	}
-	agg := report.NewAggregator(j.Critical, j.Tolerance, j.HasTolerance)
+	agg := report.NewAggregator(j.Critical, j.Tolerance, j.HasTolerance, plan)
 	var perSource sourceCounter
 	var buf []byte
 	var rows atomic.Int64

@@ -20,6 +20,7 @@ type Aggregator struct {
 	critical  float64
 	tolerance reduce.DistanceSpec
 	hasTol    bool
+	control   LineSource
 
 	counts    Counts
 	ell, grid statsAcc
@@ -50,22 +51,27 @@ func (s *lineAccs) add() *lineAcc {
 
 func (s *lineAccs) at(i int) *lineAcc { return &s.chunks[i/lineAccChunk][i%lineAccChunk] }
 
+// A LineSource gives the control geometry of a line a run reduced, by its
+// number and end points (job.Result's LineID and Points); *job.Plan is one.
+type LineSource interface {
+	KnownLine(id, from, to int32) (reduce.Line, bool)
+}
+
 // NewAggregator prepares for a job with the given critical value for |w|
-// and tolerance (hasTolerance false: no tolerance test).
-func NewAggregator(critical float64, tolerance reduce.DistanceSpec, hasTolerance bool) *Aggregator {
-	return &Aggregator{critical: critical, tolerance: tolerance, hasTol: hasTolerance}
+// and tolerance (hasTolerance false: no tolerance test); the lines' control
+// geometry comes from control, when the summary is made.
+func NewAggregator(critical float64, tolerance reduce.DistanceSpec, hasTolerance bool, control LineSource) *Aggregator {
+	return &Aggregator{critical: critical, tolerance: tolerance, hasTol: hasTolerance, control: control}
 }
 
 // lineAcc accumulates one line's observations.
 type lineAcc struct {
 	from, to           int32 // point numbers, in the direction first observed
+	id                 int32 // job.Result.LineID
 	n                  int32
 	outliers, outOfTol int32
 	dirN               [2]int32 // observations from → to as first seen, and the other way
-	geodesic           float64
-	grid               float64
-	radius             float64
-	mean, m2           float64 // Welford: mean reduced arc and sum of squared deviations
+	mean, m2           float64  // Welford: mean reduced arc and sum of squared deviations
 	gridMean           float64 // mean reduced grid distance
 	min, max           float64
 	sumVar             float64 // Σσ² of the observations
@@ -142,7 +148,7 @@ func (a *Aggregator) Add(r *job.Result) {
 	dir := 0
 	if p := a.pos[r.LineID]; p == 0 {
 		l = a.lines.add()
-		*l = lineAcc{from: from, to: to, geodesic: r.Line.Inverse.Distance, grid: r.Line.GridDistance, radius: r.Line.Radius}
+		*l = lineAcc{from: from, to: to, id: r.LineID}
 		a.pos[r.LineID] = int32(a.lines.n)
 	} else if l = a.lines.at(int(p) - 1); l.from != from {
 		dir = 1
@@ -185,21 +191,22 @@ const (
 )
 
 func (a *Aggregator) line(l *lineAcc) Line {
+	ctl, _ := a.control.KnownLine(l.id, l.from, l.to) // every line reduced is known
 	out := Line{From: a.names[l.from], To: a.names[l.to], Count: int(l.n), Reciprocal: l.dirN[0] > 0 && l.dirN[1] > 0,
-		Geodesic: l.geodesic, Grid: l.grid, MeanArc: l.mean, SpreadMM: (l.max - l.min) * 1e3,
+		Geodesic: ctl.Inverse.Distance, Grid: ctl.GridDistance, MeanArc: l.mean, SpreadMM: (l.max - l.min) * 1e3,
 		MaxAbsW: l.maxAbsW}
 	if l.n > 1 {
 		out.StdDevMM = math.Sqrt(l.m2/float64(l.n-1)) * 1e3
 	}
-	res := l.mean - l.geodesic
+	res := l.mean - out.Geodesic
 	sigmaObs := math.Sqrt(l.sumVar / float64(l.n)) // typical σ of one observation
 	sigmaMean := math.Sqrt(l.sumVar) / float64(l.n)
-	out.ResidualMM, out.ResidualPPM, out.SigmaMM = res*1e3, res/l.geodesic*1e6, sigmaMean*1e3
-	out.gridResidualMM = (l.gridMean - l.grid) * 1e3
+	out.ResidualMM, out.ResidualPPM, out.SigmaMM = res*1e3, res/out.Geodesic*1e6, sigmaMean*1e3
+	out.gridResidualMM = (l.gridMean - out.Grid) * 1e3
 	if out.Reciprocal {
 		nf, nb := float64(l.dirN[0]), float64(l.dirN[1])
 		slope := (l.slope[0]/nf + l.slope[1]/nb) / 2
-		rr, err := reduce.Reciprocal(slope, s1.Angle(l.zenith[0]/nf), s1.Angle(l.zenith[1]/nb), a.markA[l.from], l.radius)
+		rr, err := reduce.Reciprocal(slope, s1.Angle(l.zenith[0]/nf), s1.Angle(l.zenith[1]/nb), a.markA[l.from], ctl.Radius)
 		if err == nil {
 			k := rr.K
 			out.K = &k
@@ -210,7 +217,7 @@ func (a *Aggregator) line(l *lineAcc) Line {
 	}
 	tolFlag := l.outOfTol > 0
 	if a.hasTol && !tolFlag {
-		if t, err := a.tolerance.At(l.geodesic); err == nil && math.Abs(res) > t {
+		if t, err := a.tolerance.At(out.Geodesic); err == nil && math.Abs(res) > t {
 			tolFlag = true
 		}
 	}

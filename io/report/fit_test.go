@@ -69,7 +69,7 @@ func TestFitWithManyBlundersIsQuick(t *testing.T) {
 // quantiles: χ²(1) at 0.999 is c² exactly; common statistical tables give
 // 10.83 for χ²(1) and 90.57 for χ²(53) at 0.999 [memory].
 func TestSpreadLimit(t *testing.T) {
-	a := NewAggregator(3.2905267314919255, reduce.DistanceSpec{}, false)
+	a := NewAggregator(3.2905267314919255, reduce.DistanceSpec{}, false, nil)
 	assert.InDelta(t, 3.2905267314919255*3.2905267314919255, a.spreadLimit(1), 1e-9, "χ²(1) quantile is c²")
 	assert.InDelta(t, 10.83, a.spreadLimit(1), 0.01)
 	assert.InDelta(t, 90.57, a.spreadLimit(53), 0.05)
@@ -78,12 +78,12 @@ func TestSpreadLimit(t *testing.T) {
 // A large job lists its flagged lines only, at most MaxListedLines of
 // them and the worst by |w|; the counts still say how many there are.
 func TestSummaryListsTheWorstFlaggedLines(t *testing.T) {
-	a := NewAggregator(3.29, reduce.DistanceSpec{}, false)
+	a := NewAggregator(3.29, reduce.DistanceSpec{}, false, sameLine{Inverse: reduce.Inverse{Distance: 1000}, GridDistance: 1000, Radius: 6.4e6})
 	n := MaxListedLines * 3
 	a.names = []string{"A", "B"}
 	for i := range n {
 		acc := a.lines.add()
-		*acc = lineAcc{from: 0, to: 1, geodesic: 1000, grid: 1000, radius: 6.4e6, n: 1, mean: 1000, sumVar: 1e-6, maxAbsW: float64(i % 7)}
+		*acc = lineAcc{from: 0, to: 1, id: int32(i), n: 1, mean: 1000, sumVar: 1e-6, maxAbsW: float64(i % 7)}
 		if i%2 == 0 {
 			acc.outliers, acc.maxAbsW = 1, 4+float64(i)
 		}
@@ -101,3 +101,8 @@ func TestSummaryListsTheWorstFlaggedLines(t *testing.T) {
 		}
 	}
 }
+
+// sameLine is a LineSource whose every line is the same.
+type sameLine reduce.Line
+
+func (s sameLine) KnownLine(id, from, to int32) (reduce.Line, bool) { return reduce.Line(s), true }

@@ -134,21 +134,32 @@ func (c *lineCache) get(a, b int32, plan *Plan, p *geodesic.Projector) (reduce.L
 			return reduce.Line{}, id, err
 		}
 	}
-	rec := &c.chunks[id/lineChunkSize].Load()[id%lineChunkSize]
+	l, err := c.line(id, a, b, plan)
+	return l, id, err
+}
+
+// line rebuilds line number id, from point a to point b, from its record
+// and the points.
+func (c *lineCache) line(id, a, b int32, plan *Plan) (reduce.Line, error) {
+	ch := c.chunks[id/lineChunkSize].Load()
+	if ch == nil {
+		return reduce.Line{}, fmt.Errorf("line %d is not in the cache", id)
+	}
+	rec := &ch[id%lineChunkSize]
 	if rec.distance == 0 {
 		c.errMu.Lock()
 		defer c.errMu.Unlock()
-		return reduce.Line{}, id, c.errs[id]
+		return reduce.Line{}, c.errs[id]
 	}
 	pa, pb := &plan.points[a].control, &plan.points[b].control
 	l := reduce.Line{A: pa.LatLng, B: pb.LatLng, Inverse: reduce.Inverse{Distance: rec.distance},
 		GridDistance: reduce.GridDistanceBetween(reduce.GridPoint(pa.Grid), reduce.GridPoint(pb.Grid)),
 		Radius:       rec.radius, CurvatureRate: rec.curvatureRate,
 		Scale: reduce.ScaleFactors{A: pa.Scale, Mid: rec.kMid, B: pb.Scale, Curvature: rec.curvature}}
-	if a != lo {
+	if a > b {
 		l.CurvatureRate, l.Scale.Curvature = -l.CurvatureRate, -l.Scale.Curvature
 	}
-	return l, id, nil
+	return l, nil
 }
 
 // store keeps a computed line (or why it could not be) under the next

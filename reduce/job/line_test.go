@@ -94,7 +94,7 @@ func BenchmarkNewReduceLine(b *testing.B) {
 	}
 }
 
-// The line cache gives every pair of points one number, either way and
+// The plan's line cache gives every pair of points one number, either way and
 // from any worker, and the line NewReduceLine gives from the lower-numbered
 // point, reversed where asked the other way (less the midpoint and
 // azimuths it does not keep); a line that cannot be computed (a point to
@@ -103,7 +103,7 @@ func BenchmarkNewReduceLine(b *testing.B) {
 func TestLineCache(t *testing.T) {
 	plan, _ := testPlan(t, 1)
 	n := int32(len(plan.points))
-	cache := newLineCache()
+	cache := plan.lines
 	var wg sync.WaitGroup
 	ids := make([]map[[2]int32]int32, 4)
 	for w := range 4 {
@@ -147,7 +147,14 @@ func TestLineCache(t *testing.T) {
 		}
 		want.Midpoint, want.Azimuth, want.Inverse.Azimuth1, want.Inverse.Azimuth2 = s2.LatLng{}, 0, 0, 0
 		assert.Equal(t, want, got, "line %v", ab)
+		known, ok := plan.KnownLine(id, ab[0], ab[1])
+		assert.True(t, ok)
+		assert.Equal(t, want, known, "the plan's known line %v", ab)
 	}
+	_, ok := plan.KnownLine(-1, 0, 1)
+	assert.False(t, ok, "no line -1")
+	_, ok = plan.KnownLine(cache.next.Load(), 0, 1)
+	assert.False(t, ok, "no line beyond the last")
 	assert.Len(t, seen, int(n*(n-1)/2), "one number for each line")
 	assert.Equal(t, int32(len(seen)+int(n)), cache.next.Load(), "lines and the failed ones, numbered densely")
 }

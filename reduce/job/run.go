@@ -39,10 +39,24 @@ type Plan struct {
 
 	index  map[string]int32 // point id → position in points
 	points []planPoint
+	// lines holds each line the plan's runs have met, computed once:
+	// it depends only on the plan.
+	lines *lineCache
 }
 
 // PointID is the id of the plan's point number i (Result.Points).
 func (p *Plan) PointID(i int32) string { return p.points[i].id }
+
+// KnownLine is the line numbered id (Result.LineID) from point number a to
+// point number b, as a run of the plan computed it and Result.Line has
+// it; ok is false if no run has computed it, or it could not be.
+func (p *Plan) KnownLine(id, a, b int32) (l reduce.Line, ok bool) {
+	if id < 0 || id >= p.lines.next.Load() {
+		return reduce.Line{}, false
+	}
+	l, err := p.lines.line(id, a, b, p)
+	return l, err == nil
+}
 
 // planPoint is one control point as the per-row path needs it.
 type planPoint struct {
@@ -55,7 +69,7 @@ type planPoint struct {
 // NewPlan completes a plan: the marks' heights on the job's datum.
 func NewPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, control map[string]Control) (*Plan, error) {
 	p := &Plan{Job: j, CRS: crs, Geodesic: g, Control: control, Marks: map[string]reduce.MarkHeight{}, Workers: j.Workers,
-		index: make(map[string]int32, len(control))}
+		index: make(map[string]int32, len(control)), lines: newLineCache()}
 	ids := make([]string, 0, len(control))
 	for id := range control {
 		ids = append(ids, id)
@@ -167,7 +181,6 @@ func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Wa
 	for range pool {
 		free <- &batch{}
 	}
-	cache := newLineCache()
 
 	var readErr error
 	go func() { // reader
@@ -193,7 +206,7 @@ func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Wa
 				b.parse()
 				for i := range b.results {
 					r := &b.results[i]
-					reduceOne(plan, cache, p, r, b.errs[i])
+					reduceOne(plan, p, r, b.errs[i])
 					if plan.Format != nil {
 						if i == len(b.rows) {
 							b.rows = append(b.rows, nil)
@@ -322,7 +335,7 @@ func (b *batch) parse() {
 }
 
 // reduceOne reduces one observation in place, or marks it rejected.
-func reduceOne(plan *Plan, cache *lineCache, p *geodesic.Projector, r *Result, readErr error) {
+func reduceOne(plan *Plan, p *geodesic.Projector, r *Result, readErr error) {
 	reject := func(reason string) {
 		r.Rejected, r.Reason = true, reason
 		if r.File == "" {
@@ -371,7 +384,7 @@ func reduceOne(plan *Plan, cache *lineCache, p *geodesic.Projector, r *Result, r
 	}
 	markA, markB := a.mark, b.mark // markB zero: the target's height comes from the zenith angle
 	var err error
-	if r.Line, r.LineID, err = cache.get(ia, ib, plan, p); err != nil {
+	if r.Line, r.LineID, err = plan.lines.get(ia, ib, plan, p); err != nil {
 		reject(fmt.Sprintf("%s: line %s → %s: %v", where, o.From, o.To, err))
 		return
 	}
