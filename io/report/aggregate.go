@@ -72,7 +72,7 @@ type lineAcc struct {
 	outliers, outOfTol int32
 	dirN               [2]int32 // observations from → to as first seen, and the other way
 	mean, m2           float64  // Welford: mean reduced arc and sum of squared deviations
-	gridMean           float64 // mean reduced grid distance
+	gridMean           float64  // mean reduced grid distance
 	min, max           float64
 	sumVar             float64 // Σσ² of the observations
 	maxAbsW            float64
