@@ -83,10 +83,10 @@ type lineShard struct {
 type lineChunk [lineChunkSize]lineRec
 
 // lineRec is a line from its lower-numbered point to its higher, less
-// what the points hold (ends, grid positions, end scale factors). A zero
-// distance marks a line that could not be computed (see lineCache.errs).
+// what the points hold (ends and their scale factors). A zero distance
+// marks a line that could not be computed (see lineCache.errs).
 type lineRec struct {
-	distance, radius, curvatureRate, kMid, curvature float64
+	distance, grid, radius, curvatureRate, kMid, curvature float64
 }
 
 func newLineCache() *lineCache {
@@ -151,11 +151,10 @@ func (c *lineCache) line(id, a, b int32, plan *Plan) (reduce.Line, error) {
 		defer c.errMu.Unlock()
 		return reduce.Line{}, c.errs[id]
 	}
-	pa, pb := &plan.points[a].control, &plan.points[b].control
-	l := reduce.Line{A: pa.LatLng, B: pb.LatLng, Inverse: reduce.Inverse{Distance: rec.distance},
-		GridDistance: reduce.GridDistanceBetween(reduce.GridPoint(pa.Grid), reduce.GridPoint(pb.Grid)),
-		Radius:       rec.radius, CurvatureRate: rec.curvatureRate,
-		Scale: reduce.ScaleFactors{A: pa.Scale, Mid: rec.kMid, B: pb.Scale, Curvature: rec.curvature}}
+	pa, pb := &plan.ends[a], &plan.ends[b]
+	l := reduce.Line{A: pa.ll, B: pb.ll, Inverse: reduce.Inverse{Distance: rec.distance}, GridDistance: rec.grid,
+		Radius: rec.radius, CurvatureRate: rec.curvatureRate,
+		Scale: reduce.ScaleFactors{A: pa.scale, Mid: rec.kMid, B: pb.scale, Curvature: rec.curvature}}
 	if a > b {
 		l.CurvatureRate, l.Scale.Curvature = -l.CurvatureRate, -l.Scale.Curvature
 	}
@@ -185,7 +184,7 @@ func (c *lineCache) store(l reduce.Line, lineErr error) (int32, error) {
 		c.errMu.Unlock()
 		return id, nil
 	}
-	ch[id%lineChunkSize] = lineRec{distance: l.Inverse.Distance, radius: l.Radius, curvatureRate: l.CurvatureRate,
-		kMid: l.Scale.Mid, curvature: l.Scale.Curvature}
+	ch[id%lineChunkSize] = lineRec{distance: l.Inverse.Distance, grid: l.GridDistance, radius: l.Radius,
+		curvatureRate: l.CurvatureRate, kMid: l.Scale.Mid, curvature: l.Scale.Curvature}
 	return id, nil
 }

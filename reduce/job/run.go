@@ -9,6 +9,8 @@ import (
 	"slices"
 	"sync"
 
+	"github.com/golang/geo/s2"
+
 	"github.com/geored/geored/geodesic"
 	"github.com/geored/geored/io/jobconfig"
 	"github.com/geored/geored/io/obsfile"
@@ -39,6 +41,7 @@ type Plan struct {
 
 	index  map[string]int32 // point id → position in points
 	points []planPoint
+	ends   []lineEnd // by position in points: what every row's line needs
 	// lines holds each line the plan's runs have met, computed once:
 	// it depends only on the plan.
 	lines *lineCache
@@ -58,12 +61,19 @@ func (p *Plan) KnownLine(id, a, b int32) (l reduce.Line, ok bool) {
 	return l, err == nil
 }
 
+// lineEnd is what a line needs of its end point, kept apart from the rest
+// of the point so that the per-row path reads a small array.
+type lineEnd struct {
+	ll    s2.LatLng
+	scale float64
+}
+
 // planPoint is one control point as the per-row path needs it.
 type planPoint struct {
 	id      string
-	control Control
-	mark    reduce.MarkHeight
 	hasMark bool
+	mark    reduce.MarkHeight // beside id: what every row reads
+	control Control
 }
 
 // NewPlan completes a plan: the marks' heights on the job's datum.
@@ -86,6 +96,7 @@ func NewPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, control 
 		}
 		p.index[id] = int32(len(p.points))
 		p.points = append(p.points, planPoint{id: id, control: c, mark: m, hasMark: ok})
+		p.ends = append(p.ends, lineEnd{ll: c.LatLng, scale: c.Scale})
 	}
 	return p, nil
 }
