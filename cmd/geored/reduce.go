@@ -15,6 +15,7 @@ import (
 	"path/filepath"
 	"runtime/pprof"
 	"strings"
+	"sync"
 	"sync/atomic"
 	"time"
 
@@ -235,7 +236,6 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 	}
 	agg := report.NewAggregator(j.Critical, j.Tolerance, j.HasTolerance, plan)
 	var perSource sourceCounter
-	var buf []byte
 	var rows atomic.Int64
 	stop := startProgress(opt.progress, &read, &rows, total)
 	err = job.Run(context.Background(), plan, sources, warn, func(r *job.Result) error {
@@ -274,14 +274,21 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 	if err != nil {
 		return nil, err
 	}
-	lines.Write(report.AppendHeader(nil, report.LinesHeader(u)))
-	if err := agg.EachLine(func(l *report.Line) error {
-		buf = report.AppendLineRow(buf[:0], l, u)
-		_, err := lines.Write(buf)
-		return err
-	}); err != nil {
-		return nil, err
-	}
+	// lines.csv is written beside the summary and the report; an early
+	// return waits for it before the outputs are discarded.
+	var linesErr error
+	var linesWG sync.WaitGroup
+	linesWG.Go(func() {
+		lines.Write(report.AppendHeader(nil, report.LinesHeader(u)))
+		var buf []byte
+		linesErr = agg.EachLine(func(l *report.Line) error {
+			buf = report.AppendLineRow(buf[:0], l, u)
+			_, err := lines.Write(buf)
+			return err
+		})
+		lines.StartSync()
+	})
+	defer linesWG.Wait()
 	js, err := out.create("summary.json")
 	if err != nil {
 		return nil, err
@@ -295,6 +302,9 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 	}
 	if err := report.WriteHTML(html, sum); err != nil {
 		return nil, err
+	}
+	if linesWG.Wait(); linesErr != nil {
+		return nil, linesErr
 	}
 	if err := out.commit(); err != nil {
 		return nil, err
