@@ -57,7 +57,7 @@ func StandardGroupRefractivity(wavelengthUM float64) (float64, error) {
 // 0.4 %, which moves the refractivity by under 0.005 ppm at 20 °C, 60 %
 // (under 0.01 mm per km).
 func MagnusSaturationVapourPressure(tC float64) float64 {
-	return 6.1078 * math.Pow(10, 7.5*tC/(237.3+tC))
+	return 6.1078 * math.Exp(7.5*math.Ln10*tC/(237.3+tC)) // 10^x as e^(x ln 10): twice as fast as Pow
 }
 
 // Refractivity keeps the values of one evaluation of the IAG 1999 ambient
