@@ -8,6 +8,7 @@ PROJ_DATA_FILE := /usr/share/proj/egm96_15.gtx
 APT_PACKAGES   := pkg-config libproj-dev proj-data
 BENCH_OBS      ?= 1000000
 BENCH_DIR      ?= /tmp/geored-bench-$(BENCH_OBS)
+BENCH_REPEAT   ?= 5
 
 .PHONY: all deps chromium bench-tools build test demo bench profile vet clean
 
@@ -65,7 +66,7 @@ bench: deps bench-tools build
 	$(GO) test -run '^$$' -bench . -benchmem -count 3 -benchtime 200ms ./...
 	$(GO) build -o bin/georedbench ./cmd/georedbench
 	[ -f $(BENCH_DIR)/observations.csv ] || ./bin/georedbench gen -dir $(BENCH_DIR) -obs $(BENCH_OBS)
-	./bin/georedbench run -dir $(BENCH_DIR) -geored $(BIN)
+	./bin/georedbench run -dir $(BENCH_DIR) -geored $(BIN) -repeat $(BENCH_REPEAT)
 
 # profile: a CPU profile of geored reduce on the synthetic job, and where
 # the time goes.
