@@ -178,13 +178,7 @@ func TestGridCurvatureAgainstScaleFactors(t *testing.T) {
 	rng := reduce.NewRand(t)
 	const step = 1000.0 // m
 	for _, c := range roundTripCRSs {
-		crs, err := geodesic.OpenCRS(c.definition)
-		require.NoErrorf(t, err, "%s", c.name)
-		proj, err := crs.NewProjector()
-		require.NoErrorf(t, err, "%s", c.name)
-		defer proj.Close()
-		geod, err := geodesic.NewGeodesic(crs.Ellipsoid())
-		require.NoErrorf(t, err, "%s", c.name)
+		proj, ell, geod := openRoundTripCRS(t, c)
 		var worst float64
 		for i := 0; i < 300; i++ {
 			a := s2.LatLngFromDegrees(c.latMin+rng.Float64()*(c.latMax-c.latMin), c.lngMin+rng.Float64()*(c.lngMax-c.lngMin))
@@ -192,7 +186,7 @@ func TestGridCurvatureAgainstScaleFactors(t *testing.T) {
 			b, _, err := geod.Direct(a, s1.Angle(rng.Float64()*2*math.Pi), dist)
 			require.NoError(t, err)
 			ctl := controlOf(t, geod, proj, a, b)
-			line, err := reduce.NewLine(ctl, crs.Ellipsoid(), proj)
+			line, err := reduce.NewLine(ctl, ell, proj)
 			require.NoError(t, err)
 
 			along, err := geod.Inverse(ctl.Mid, b)

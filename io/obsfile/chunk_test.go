@@ -31,21 +31,8 @@ func readChunked(t *testing.T, in string, size int) ([]string, []Warning, error)
 			return out, warns, err
 		}
 		buf = data
-		r := c.Reader(data, first)
-		for {
-			o, err := r.Next()
-			if errors.Is(err, io.EOF) {
-				break
-			}
-			var re *RowError
-			switch {
-			case errors.As(err, &re):
-				out = append(out, "reject "+re.Error()+" raw "+re.Raw)
-			case err != nil:
-				return out, warns, err
-			default:
-				out = append(out, fmt.Sprintf("%+v raw %s", o, o.Raw()))
-			}
+		if out, err = rowTexts(c.Reader(data, first), out); err != nil {
+			return out, warns, err
 		}
 	}
 }
@@ -57,18 +44,24 @@ func readWhole(t *testing.T, in string) ([]string, []Warning, error) {
 	if err != nil {
 		return nil, warns, err
 	}
-	var out []string
+	out, err := rowTexts(r, nil)
+	return out, warns, err
+}
+
+// rowTexts appends the text of each row r reads, an observation or a
+// reject, until the end or an error that ends the file.
+func rowTexts(r *ObsReader, out []string) ([]string, error) {
 	for {
 		o, err := r.Next()
 		if errors.Is(err, io.EOF) {
-			return out, warns, nil
+			return out, nil
 		}
 		var re *RowError
 		switch {
 		case errors.As(err, &re):
 			out = append(out, "reject "+re.Error()+" raw "+re.Raw)
 		case err != nil:
-			return out, warns, err
+			return out, err
 		default:
 			out = append(out, fmt.Sprintf("%+v raw %s", o, o.Raw()))
 		}
