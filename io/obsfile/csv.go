@@ -17,7 +17,7 @@ import (
 type table struct {
 	file string
 	br   *bufio.Reader // under r, positioned after the rows read
-	r    *csv.Reader
+	r    rowReader
 	// lineOffset is added to r's line numbers: the line before the first
 	// row r reads, when r reads a chunk of the file (ObsChunker).
 	lineOffset int
@@ -70,6 +70,13 @@ func openTable(r io.Reader, file string, known []string) (*table, []Warning, err
 		}
 	}
 	return t, warnings, nil
+}
+
+// A rowReader gives a table its rows: encoding/csv's Reader, or
+// plainRows for a chunk without quotes.
+type rowReader interface {
+	Read() ([]string, error)
+	FieldPos(field int) (line, column int)
 }
 
 // newCSVReader reads the files' CSV: # comments, rows checked against the
