@@ -172,8 +172,9 @@ type batch struct {
 // held. Warnings from the files' headers go to warn, called from the
 // reading goroutine while the run goes on. An error that stops the run (a
 // header without a required column, an unreadable file, broken CSV
-// quoting, the sink's error) is returned; the results before it have
-// reached the sink.
+// quoting, the sink's error) is returned, after the results of the rows
+// before it have reached the sink (for a file that cannot be read on, the
+// rows of the chunks before the one that failed).
 func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Warning), sink Sink) error {
 	workers := plan.Workers
 	if workers <= 0 {
