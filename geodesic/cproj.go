@@ -264,7 +264,8 @@ func inspectCRS(def string) (crsInfo, error) {
 // factorHandle owns a PROJ context and one projection operation for
 // proj_factors. It must be used by one goroutine at a time.
 type factorHandle struct {
-	h C.geored_factors_handle
+	h  C.geored_factors_handle
+	pf C.PJ_FACTORS // the answer's place: a local passed to C would be a heap allocation a call
 }
 
 func openFactorHandle(def string) (*factorHandle, error) {
@@ -291,8 +292,8 @@ type rawFactors struct {
 
 // factors calls proj_factors at (lam, phi) in radians.
 func (f *factorHandle) factors(lam, phi float64) (rawFactors, int) {
-	var pf C.PJ_FACTORS
-	errno := C.geored_factors(&f.h, C.double(lam), C.double(phi), &pf)
+	errno := C.geored_factors(&f.h, C.double(lam), C.double(phi), &f.pf)
+	pf := &f.pf
 	return rawFactors{
 		meridionalScale:       float64(pf.meridional_scale),
 		parallelScale:         float64(pf.parallel_scale),

@@ -70,12 +70,14 @@ type Line struct {
 }
 
 // LineControl is a line's control geometry as the caller computed it:
-// the ends and the geodesic midpoint, geodetic and projected, and the
-// geodesic between the ends.
+// the ends and the geodesic midpoint, geodetic and projected, the geodesic
+// between the ends, and the ends' point scale factors where the caller
+// knows them (zero: NewLine asks the projection).
 type LineControl struct {
 	A, Mid, B             s2.LatLng
 	GridA, GridMid, GridB GridPoint
 	Inverse               Inverse
+	ScaleA, ScaleB        float64
 }
 
 // NewLine prepares a line from its control geometry, the ellipsoid and the
@@ -124,10 +126,14 @@ func NewLine(c LineControl, e Radii, p ScaleFactorer) (Line, error) {
 	}
 	l.CurvatureRate = (1/rb - 1/ra) / inv.Distance
 	var err error
+	l.Scale.A, l.Scale.B = c.ScaleA, c.ScaleB
 	for _, q := range [...]struct {
 		p s2.LatLng
 		k *float64
 	}{{c.A, &l.Scale.A}, {c.Mid, &l.Scale.Mid}, {c.B, &l.Scale.B}} {
+		if *q.k != 0 {
+			continue // given
+		}
 		if *q.k, err = p.PointScaleFactor(q.p); err != nil {
 			return Line{}, err
 		}

@@ -79,6 +79,13 @@ func TestNewLine(t *testing.T) {
 	assert.InDeltaf(t, 0, math.Sin(float64(l3.Azimuth)), 1e-12, "mean azimuth across north")
 	assert.InDeltaf(t, grs80At45.m, l3.Radius, 1e-3, "radius of a north-south line is M (m)")
 
+	// Scale factors the caller knows are taken as given.
+	known := lineControl(a, b, inv, ga, gm, gb)
+	known.ScaleA, known.ScaleB = 0.9995, 1.0005
+	l4, err := NewLine(known, grs80At45, fakeScale{})
+	require.NoError(t, err)
+	assert.Equal(t, ScaleFactors{A: 0.9995, Mid: l.Scale.Mid, B: 1.0005, Curvature: l.Scale.Curvature}, l4.Scale)
+
 	boom := errors.New("no scale factor")
 	_, err = NewLine(lineControl(a, b, inv, ga, gm, gb), grs80At45, fakeScale{err: boom})
 	assert.ErrorIs(t, err, boom)

@@ -312,12 +312,12 @@ func (a *Aggregator) Finish(s *Summary) {
 }
 
 // EachLine calls write for every line, flagged ones first, then in the
-// order first observed: the rows of lines.csv. After Finish it computes
-// each line once.
+// order first observed: the rows of lines.csv. The Line is reused after
+// write returns. After Finish it computes each line once.
 func (a *Aggregator) EachLine(write func(*Line) error) error {
+	var l Line // one for all: write may keep a pointer, so l lives on the heap
 	for pass := 0; pass < 2; pass++ {
 		for i := range a.lines.n {
-			var l Line
 			if a.flagged != nil {
 				if (a.flagged[i/64]&(1<<(i%64)) != 0) != (pass == 0) {
 					continue

@@ -5,8 +5,6 @@ import (
 	"sync"
 	"sync/atomic"
 
-	"github.com/golang/geo/s2"
-
 	"github.com/geored/geored/geodesic"
 	"github.com/geored/geored/reduce"
 )
@@ -29,26 +27,14 @@ func NewReduceLine(a, b Control, g *geodesic.Geodesic, p *geodesic.Projector) (r
 	c := reduce.LineControl{A: a.LatLng, Mid: mid, B: b.LatLng,
 		GridA: reduce.GridPoint(a.Grid), GridMid: reduce.GridPoint(gridMid), GridB: reduce.GridPoint(b.Grid),
 		Inverse: reduce.Inverse{Distance: geo.Distance, Azimuth1: geo.Azimuth1, Azimuth2: geo.Azimuth2}}
-	line, err := reduce.NewLine(c, g.Ellipsoid(), knownScale{p: p, a: a, b: b})
-	return line, geo, err
-}
-
-// knownScale answers reduce.NewLine's questions about the scale factors of
-// one line: the ends' from the control points where they are known, the
-// rest from the projection.
-type knownScale struct {
-	p    *geodesic.Projector
-	a, b Control
-}
-
-func (k knownScale) PointScaleFactor(ll s2.LatLng) (float64, error) {
-	switch {
-	case k.a.HasScale && ll == k.a.LatLng:
-		return k.a.Scale, nil
-	case k.b.HasScale && ll == k.b.LatLng:
-		return k.b.Scale, nil
+	if a.HasScale {
+		c.ScaleA = a.Scale
 	}
-	return k.p.PointScaleFactor(ll)
+	if b.HasScale {
+		c.ScaleB = b.Scale
+	}
+	line, err := reduce.NewLine(c, g.Ellipsoid(), p)
+	return line, geo, err
 }
 
 // lineCache computes each line once per job, whichever way it is observed
