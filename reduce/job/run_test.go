@@ -89,25 +89,50 @@ func observations(t *testing.T, plan *Plan, p *geodesic.Projector) string {
 	return b.String()
 }
 
+// repeated is data with its 30 predicted rows repeated n times before its
+// rejects, some with the instrument's name quoted, so that a run reads
+// many chunks of both kinds.
+func repeated(data string, n int) string {
+	lines := strings.Split(strings.TrimSpace(data), "\n")
+	var b strings.Builder
+	b.WriteString(lines[0] + "\n")
+	for k := range n {
+		for _, l := range lines[1:31] {
+			if k%7 == 3 {
+				l += `""` // an empty quoted instrument: the default
+			}
+			b.WriteString(l + "\n")
+		}
+	}
+	for _, l := range lines[31:] {
+		b.WriteString(l + "\n")
+	}
+	return b.String()
+}
+
 // Run as a library: predicted observations reduce back to the control
 // geodesic (PROJ's, Karney) to 0.01 mm, results come in input order
-// whatever the number of workers, and every other row is a reject with
-// its reason.
+// whatever the number of workers, over many chunks, and every other row
+// is a reject with its reason and its line in the file.
 func TestRunReducesInInputOrder(t *testing.T) {
+	const reps = 40
 	var first []Result
 	for _, workers := range []int{1, 3} {
 		plan, p := testPlan(t, workers)
-		data := observations(t, plan, p)
+		data := repeated(observations(t, plan, p), reps)
 		var got []Result
 		err := Run(context.Background(), plan, []Source{{Name: "obs.csv", Reader: strings.NewReader(data)}},
 			func(w obsfile.Warning) { t.Errorf("warning %s", w) },
 			func(r *Result) error { got = append(got, *r); return nil })
 		require.NoError(t, err)
-		require.Len(t, got, 30+4)
+		require.Greater(t, len(data), 4*chunkBytes, "several chunks")
+		require.Len(t, got, 30*reps+4)
+		good := 30 * reps
 		for i, r := range got {
 			require.Equal(t, int64(i), r.Seq, "input order")
-			if i < 30 {
+			if i < good {
 				require.False(t, r.Rejected, "row %d: %s", i, r.Reason)
+				require.Equal(t, i+2, r.Obs.Line, "row %d's line in the file", i)
 				e := r.Reduction.EllipsoidResidual
 				assert.InDelta(t, 0, e.Residual, 0.01e-3, "row %d %s→%s: reduced − control geodesic, metres", i, r.Obs.From, r.Obs.To)
 				assert.InDelta(t, 0, r.Reduction.GridResidual.Residual, 0.01e-3, "row %d: reduced − control grid distance, metres", i)
@@ -116,11 +141,11 @@ func TestRunReducesInInputOrder(t *testing.T) {
 		reasons := []string{`target "M9" is not in the points file`, `instrument "ts2" has no [instrument.ts2] profile`,
 			"records no temperature, pressure and humidity, and the job has no default_atmosphere", "slope distance"}
 		for k, want := range reasons {
-			r := got[30+k]
+			r := got[good+k]
 			assert.True(t, r.Rejected)
 			assert.Contains(t, r.Reason, want)
 			assert.Equal(t, "obs.csv", r.File)
-			assert.Equal(t, 32+k, r.LineNo)
+			assert.Equal(t, good+2+k, r.LineNo)
 			assert.NotEmpty(t, r.Raw)
 		}
 		if first == nil {
@@ -131,6 +156,23 @@ func TestRunReducesInInputOrder(t *testing.T) {
 			assert.Equal(t, first[i].Reduction, got[i].Reduction, "row %d the same with %d workers", i, workers)
 		}
 	}
+}
+
+// Broken quoting in a later chunk ends the run with the reader's error,
+// after every row before it.
+func TestRunStopsAtBrokenQuoting(t *testing.T) {
+	plan, p := testPlan(t, 2)
+	data := repeated(observations(t, plan, p), 40)
+	cut := strings.Index(data[3*chunkBytes:], "\n") + 3*chunkBytes + 1
+	bad := data[:cut] + "M0,\"M1,100,90,1.6,1.5,18,1001,70,\n" + data[cut:]
+	rows := 0
+	err := Run(context.Background(), plan, []Source{{Name: "obs.csv", Reader: strings.NewReader(bad)}},
+		func(obsfile.Warning) {}, func(r *Result) error { rows++; return nil })
+	var fe *obsfile.FieldError
+	require.True(t, errors.As(err, &fe), "%v", err)
+	assert.Contains(t, fe.Want, "well-formed CSV")
+	assert.Equal(t, "obs.csv", fe.File)
+	assert.Equal(t, strings.Count(data[:cut], "\n")-1, rows, "the rows before it, and none after")
 }
 
 // A sink's error stops the run and is returned; a file without a required
