@@ -2,6 +2,7 @@ package job
 
 import (
 	"fmt"
+	"slices"
 	"sync"
 	"sync/atomic"
 
@@ -41,12 +42,16 @@ func NewReduceLine(a, b Control, g *geodesic.Geodesic, p *geodesic.Projector) (r
 // and whichever worker asks first, and keeps of it only what the chain
 // needs beyond its end points: a few numbers in pointer-free chunks, so
 // that a job of millions of lines stays small and costs the garbage
-// collector nothing. Lines are keyed by their end points' positions in the
-// plan, in shards so that workers seldom wait for each other. Two workers
-// meeting a new line at once may both compute it; the first to store it
-// wins, and the result does not depend on which.
+// collector nothing. A line is found from its lower-numbered point, in
+// that point's list of lines sorted by the other point (8 bytes a line,
+// and a short binary search in one place rather than a hash table's
+// scattered probes); the points are shared out among locks so that
+// workers seldom wait for each other. Two workers meeting a new line at
+// once may both compute it; the first to store it wins, and the result
+// does not depend on which.
 type lineCache struct {
 	shards [lineShards]lineShard
+	adj    [][]lineRef // by lower point: its lines, sorted by the higher point
 	next   atomic.Int32 // lines stored
 	chunks [maxLineChunks]atomic.Pointer[lineChunk]
 	grow   sync.Mutex // allocates chunks
@@ -60,11 +65,15 @@ const (
 	maxLineChunks = 1 << 15 // 134 million lines
 )
 
+// lineShard guards the lists of the points p with p % lineShards equal to
+// its position.
 type lineShard struct {
-	mu  sync.Mutex
-	ids map[uint64]int32
-	_   [40]byte // one shard to a cache line
+	mu sync.Mutex
+	_  [56]byte // one shard to a cache line
 }
+
+// lineRef is one line in its lower point's list.
+type lineRef struct{ hi, id int32 }
 
 type lineChunk [lineChunkSize]lineRec
 
@@ -75,24 +84,27 @@ type lineRec struct {
 	distance, grid, radius, curvatureRate, kMid, curvature float64
 }
 
-func newLineCache() *lineCache {
-	c := &lineCache{errs: map[int32]error{}}
-	for i := range c.shards {
-		c.shards[i].ids = map[uint64]int32{}
-	}
-	return c
+func newLineCache(points int) *lineCache {
+	return &lineCache{adj: make([][]lineRef, points), errs: map[int32]error{}}
 }
 
-// lineKey names the line between points a and b, either way.
-func lineKey(a, b int32) uint64 {
-	if a > b {
-		a, b = b, a
+// find looks the line from lo to hi up in lo's list (under lo's shard
+// lock): its number, or where to insert it.
+func (c *lineCache) find(lo, hi int32) (id int32, at int, ok bool) {
+	refs := c.adj[lo]
+	i, j := 0, len(refs)
+	for i < j {
+		m := int(uint(i+j) >> 1)
+		if refs[m].hi < hi {
+			i = m + 1
+		} else {
+			j = m
+		}
 	}
-	return uint64(a)<<32 | uint64(uint32(b))
-}
-
-func (c *lineCache) shard(key uint64) *lineShard {
-	return &c.shards[(key*0x9E3779B97F4A7C15)>>58] // Fibonacci hashing: 6 bits
+	if i < len(refs) && refs[i].hi == hi {
+		return refs[i].id, i, true
+	}
+	return 0, i, false
 }
 
 // get returns the line from point a to point b of the plan and its
@@ -101,18 +113,18 @@ func (c *lineCache) shard(key uint64) *lineShard {
 // The line's Midpoint, Azimuth and the azimuths of its Inverse are not
 // kept, and are zero: the chain does not use them.
 func (c *lineCache) get(a, b int32, plan *Plan, p *geodesic.Projector) (reduce.Line, int32, error) {
-	key := lineKey(a, b)
-	sh := c.shard(key)
-	sh.mu.Lock()
-	id, ok := sh.ids[key]
-	sh.mu.Unlock()
 	lo, hi := min(a, b), max(a, b)
+	sh := &c.shards[lo%lineShards]
+	sh.mu.Lock()
+	id, _, ok := c.find(lo, hi)
+	sh.mu.Unlock()
 	if !ok {
 		line, _, err := NewReduceLine(plan.points[lo].control, plan.points[hi].control, plan.Geodesic, p)
 		sh.mu.Lock()
-		if id, ok = sh.ids[key]; !ok {
+		var at int
+		if id, at, ok = c.find(lo, hi); !ok {
 			if id, err = c.store(line, err); id >= 0 {
-				sh.ids[key] = id
+				c.adj[lo] = slices.Insert(c.adj[lo], at, lineRef{hi: hi, id: id})
 			}
 		}
 		sh.mu.Unlock()

@@ -79,7 +79,7 @@ type planPoint struct {
 // NewPlan completes a plan: the marks' heights on the job's datum.
 func NewPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, control map[string]Control) (*Plan, error) {
 	p := &Plan{Job: j, CRS: crs, Geodesic: g, Control: control, Marks: map[string]reduce.MarkHeight{}, Workers: j.Workers,
-		index: make(map[string]int32, len(control)), lines: newLineCache(),
+		index: make(map[string]int32, len(control)), lines: newLineCache(len(control)),
 		points: make([]planPoint, 0, len(control)), ends: make([]lineEnd, 0, len(control))}
 	ids := make([]string, 0, len(control))
 	for id := range control {
