@@ -51,7 +51,7 @@ func NewReduceLine(a, b Control, g *geodesic.Geodesic, p *geodesic.Projector) (r
 // does not depend on which.
 type lineCache struct {
 	shards [lineShards]lineShard
-	adj    [][]lineRef // by lower point: its lines, sorted by the higher point
+	adj    [][]lineRef  // by lower point: its lines, sorted by the higher point
 	next   atomic.Int32 // lines stored
 	chunks [maxLineChunks]atomic.Pointer[lineChunk]
 	grow   sync.Mutex // allocates chunks
