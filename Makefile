@@ -8,7 +8,7 @@ PROJ_DATA_FILE := /usr/share/proj/egm96_15.gtx
 APT_PACKAGES   := pkg-config libproj-dev proj-data
 BENCH_OBS      ?= 1000000
 BENCH_DIR      ?= /tmp/geored-bench-$(BENCH_OBS)
-BENCH_REPEAT   ?= 5
+BENCH_REPEAT   ?= 7
 
 .PHONY: all deps chromium bench-tools build test demo bench profile vet clean
 

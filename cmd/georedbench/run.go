@@ -9,7 +9,7 @@ import (
 	"os/exec"
 	"path/filepath"
 	"runtime"
-	"sort"
+	"slices"
 	"syscall"
 	"text/tabwriter"
 	"time"
@@ -23,9 +23,9 @@ type measurement struct {
 	rssKB int64
 }
 
-// runBench times the parse floor, geod -I and geored reduce on 1 worker
-// and on all cores over a job made by gen, each -repeat times, and prints
-// medians, rates and ratios.
+// runBench times the parse floor, geod -I and geored reduce on one core,
+// on 1 worker and on all cores over a job made by gen, in -repeat rounds
+// of all of them, and prints medians, rates and ratios.
 func runBench(args []string) error {
 	fs := flag.NewFlagSet("run", flag.ContinueOnError)
 	dir := fs.String("dir", "", "folder made by georedbench gen")
@@ -68,7 +68,9 @@ func runBench(args []string) error {
 	cmds = append(cmds,
 		command{"geored reduce, 1 worker", reduce("1", "out1"), "", filepath.Join(*dir, "out1")},
 		command{fmt.Sprintf("geored reduce, all cores (%d)", runtime.NumCPU()), reduce("0", "outN"), "", filepath.Join(*dir, "outN")})
-	var ms []measurement
+	// Rounds of every command in turn, so that the machine's slow and
+	// fast spells fall on all of them alike; each command's median.
+	var run []command
 	for _, c := range cmds {
 		if c.argv[0] == "" {
 			continue
@@ -77,9 +79,12 @@ func runBench(args []string) error {
 			fmt.Fprintf(os.Stderr, "skipping %s: %v\n", c.name, err)
 			continue
 		}
-		var walls []time.Duration
-		var rss int64
-		for range *repeat {
+		run = append(run, c)
+	}
+	walls := make([][]time.Duration, len(run))
+	rss := make([]int64, len(run))
+	for range *repeat {
+		for i, c := range run {
 			if c.out != "" {
 				if err := os.RemoveAll(c.out); err != nil {
 					return err
@@ -89,11 +94,14 @@ func runBench(args []string) error {
 			if err != nil {
 				return fmt.Errorf("%s: %w", c.name, err)
 			}
-			walls = append(walls, w)
-			rss = max(rss, r)
+			walls[i] = append(walls[i], w)
+			rss[i] = max(rss[i], r)
 		}
-		sort.Slice(walls, func(i, j int) bool { return walls[i] < walls[j] })
-		ms = append(ms, measurement{c.name, walls[len(walls)/2], rss})
+	}
+	var ms []measurement
+	for i, c := range run {
+		slices.Sort(walls[i])
+		ms = append(ms, measurement{c.name, walls[i][len(walls[i])/2], rss[i]})
 	}
 	if *profile != "" {
 		argv := []string{*geored, "reduce", "-config", job, "-quiet", "-out", filepath.Join(*dir, "outP"), "-cpuprofile", *profile}
