@@ -35,9 +35,6 @@ func NewObsChunker(r io.Reader, file string, opt ObsOptions) (*ObsChunker, []War
 	return &ObsChunker{head: o, line: o.t.afterHeader}, warnings, nil
 }
 
-// File is the name the chunker reports in errors.
-func (c *ObsChunker) File() string { return c.head.t.file }
-
 // Next reads the next rows, about size bytes of them and always whole
 // rows (a line break inside a quoted field does not end a row), into buf,
 // which it reuses; firstLine is the file's line number of the chunk's
