@@ -15,11 +15,12 @@ import (
 	"time"
 )
 
-// measurement is the median wall time and the largest peak RSS of
-// repeated runs of one command.
+// measurement is the median wall time and CPU time (user + system) and
+// the largest peak RSS of repeated runs of one command.
 type measurement struct {
 	name  string
 	wall  time.Duration
+	cpu   time.Duration
 	rssKB int64
 }
 
@@ -82,6 +83,7 @@ func runBench(args []string) error {
 		run = append(run, c)
 	}
 	walls := make([][]time.Duration, len(run))
+	cpus := make([][]time.Duration, len(run))
 	rss := make([]int64, len(run))
 	for range *repeat {
 		for i, c := range run {
@@ -90,22 +92,24 @@ func runBench(args []string) error {
 					return err
 				}
 			}
-			w, r, err := timeCommand(c.argv, c.stdin)
+			w, cpu, r, err := timeCommand(c.argv, c.stdin)
 			if err != nil {
 				return fmt.Errorf("%s: %w", c.name, err)
 			}
 			walls[i] = append(walls[i], w)
+			cpus[i] = append(cpus[i], cpu)
 			rss[i] = max(rss[i], r)
 		}
 	}
 	var ms []measurement
 	for i, c := range run {
 		slices.Sort(walls[i])
-		ms = append(ms, measurement{c.name, walls[i][len(walls[i])/2], rss[i]})
+		slices.Sort(cpus[i])
+		ms = append(ms, measurement{c.name, walls[i][len(walls[i])/2], cpus[i][len(cpus[i])/2], rss[i]})
 	}
 	if *profile != "" {
 		argv := []string{*geored, "reduce", "-config", job, "-quiet", "-out", filepath.Join(*dir, "outP"), "-cpuprofile", *profile}
-		if _, _, err := timeCommand(argv, ""); err != nil {
+		if _, _, _, err := timeCommand(argv, ""); err != nil {
 			return fmt.Errorf("profile run: %w", err)
 		}
 	}
@@ -125,7 +129,7 @@ func report(w io.Writer, ms []measurement, rows int64, repeat int) {
 	}
 	fmt.Fprintf(w, "%d observations; median of %d runs; %s, %d cores\n\n", rows, repeat, runtime.GOOS+"/"+runtime.GOARCH, runtime.NumCPU())
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
-	fmt.Fprintln(tw, "command\twall s\tobs/s\t× parse floor\t× geod -I\tpeak RSS MB\t")
+	fmt.Fprintln(tw, "command\twall s\tcpu s\tobs/s\t× parse floor\t× geod -I\tpeak RSS MB\t")
 	for _, m := range ms {
 		ratio := func(base time.Duration) string {
 			if base == 0 {
@@ -133,37 +137,39 @@ func report(w io.Writer, ms []measurement, rows int64, repeat int) {
 			}
 			return fmt.Sprintf("%.2f", m.wall.Seconds()/base.Seconds())
 		}
-		fmt.Fprintf(tw, "%s\t%.2f\t%.0f\t%s\t%s\t%.1f\t\n", m.name, m.wall.Seconds(), float64(rows)/m.wall.Seconds(), ratio(floor), ratio(geod), float64(m.rssKB)/1024)
+		fmt.Fprintf(tw, "%s\t%.2f\t%.2f\t%.0f\t%s\t%s\t%.1f\t\n", m.name, m.wall.Seconds(), m.cpu.Seconds(), float64(rows)/m.wall.Seconds(), ratio(floor), ratio(geod), float64(m.rssKB)/1024)
 	}
 	tw.Flush()
 }
 
 // timeCommand runs argv (stdin from a file if given, stdout discarded)
-// and returns its wall time and peak resident set size in KiB.
-func timeCommand(argv []string, stdin string) (time.Duration, int64, error) {
+// and returns its wall time, its CPU time (user and system, which the
+// machine's other load disturbs less than the wall time) and its peak
+// resident set size in KiB.
+func timeCommand(argv []string, stdin string) (wall, cpu time.Duration, rssKB int64, err error) {
 	cmd := exec.Command(argv[0], argv[1:]...)
 	cmd.Stderr = os.Stderr
 	if stdin != "" {
 		f, err := os.Open(stdin)
 		if err != nil {
-			return 0, 0, err
+			return 0, 0, 0, err
 		}
 		defer f.Close()
 		cmd.Stdin = f
 	}
 	start := time.Now()
-	err := cmd.Run()
-	wall := time.Since(start)
+	err = cmd.Run()
+	wall = time.Since(start)
 	if err != nil {
 		if ee, ok := err.(*exec.ExitError); !ok || ee.ExitCode() > 1 { // geored exits 1 for flagged results
-			return 0, 0, err
+			return 0, 0, 0, err
 		}
 	}
-	var rss int64
+	cpu = cmd.ProcessState.UserTime() + cmd.ProcessState.SystemTime()
 	if ru, ok := cmd.ProcessState.SysUsage().(*syscall.Rusage); ok {
-		rss = ru.Maxrss
+		rssKB = ru.Maxrss
 	}
-	return wall, rss, nil
+	return wall, cpu, rssKB, nil
 }
 
 func countRows(path string) (int64, error) {
