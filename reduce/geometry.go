@@ -174,7 +174,8 @@ func RefractionAngle(slope float64, chordZenith s1.Angle, k, radius float64) (s1
 //
 // δ depends on the chord's zenith at its midpoint, z' − ψ/2, so δ and ψ are
 // found together by fixed-point iteration, which contracts by about kS/2R
-// per step (three steps reach a picoradian on 30 km).
+// per step (three steps reach a picoradian on 30 km); it stops when a step
+// moves δ by at most a femtoradian.
 //
 // exact on the sphere of radius R for a circular ray. S sin z' is the
 // horizontal distance at the target's height, not at the instrument's or
@@ -207,10 +208,12 @@ func EllipsoidDistanceFromZenith(slope float64, zenith s1.Angle, heightA, k, rad
 		if err != nil {
 			return GeometryResult{}, err
 		}
-		if next == delta {
+		// 1e-15 rad moves the target across the line by 3e-11 m on 30 km
+		settled := math.Abs(float64(next-delta)) <= 1e-15
+		delta = next
+		if settled {
 			break
 		}
-		delta = next
 	}
 	sz, cz = math.Sincos(float64(zenith + delta))
 	psi = math.Atan2(slope*sz, rhoA+slope*cz)
