@@ -26,8 +26,6 @@ type Aggregator struct {
 	ell, grid statsAcc
 	pos       []int32 // by job.Result.LineID: 1 + position in lines, 0 if not seen
 	lines     lineAccs
-	names     []string  // by point number (job.Result.Points)
-	markA     []float64 // by point number: height of the mark as a station
 	chi2      map[int]float64
 	flagged   []uint64 // bit i: line i is flagged, once Finish has run
 }
@@ -51,10 +49,14 @@ func (s *lineAccs) add() *lineAcc {
 
 func (s *lineAccs) at(i int) *lineAcc { return &s.chunks[i/lineAccChunk][i%lineAccChunk] }
 
-// A LineSource gives the control geometry of a line a run reduced, by its
-// number and end points (job.Result's LineID and Points); *job.Plan is one.
+// A LineSource gives the control a run reduced against: a line's
+// geometry by its number and end points (job.Result's LineID and Points),
+// and a point's id and mark height on the reduction datum by its number;
+// *job.Plan is one.
 type LineSource interface {
 	KnownLine(id, from, to int32) (reduce.Line, bool)
+	PointID(i int32) string
+	MarkHeight(i int32) float64
 }
 
 // NewAggregator prepares for a job with the given critical value for |w|
@@ -138,12 +140,6 @@ func (a *Aggregator) Add(r *job.Result) {
 		a.pos = append(a.pos, 0)
 	}
 	from, to := r.Points[0], r.Points[1]
-	for int(max(from, to)) >= len(a.names) {
-		a.names = append(a.names, "")
-		a.markA = append(a.markA, 0)
-	}
-	a.names[from], a.names[to] = r.Obs.From, r.Obs.To
-	a.markA[from] = red.Heights.MarkA.Height
 	var l *lineAcc
 	dir := 0
 	if p := a.pos[r.LineID]; p == 0 {
@@ -192,7 +188,7 @@ const (
 
 func (a *Aggregator) line(l *lineAcc) Line {
 	ctl, _ := a.control.KnownLine(l.id, l.from, l.to) // every line reduced is known
-	out := Line{From: a.names[l.from], To: a.names[l.to], Count: int(l.n), Reciprocal: l.dirN[0] > 0 && l.dirN[1] > 0,
+	out := Line{From: a.control.PointID(l.from), To: a.control.PointID(l.to), Count: int(l.n), Reciprocal: l.dirN[0] > 0 && l.dirN[1] > 0,
 		Geodesic: ctl.Inverse.Distance, Grid: ctl.GridDistance, MeanArc: l.mean, SpreadMM: (l.max - l.min) * 1e3,
 		MaxAbsW: l.maxAbsW}
 	if l.n > 1 {
@@ -206,7 +202,7 @@ func (a *Aggregator) line(l *lineAcc) Line {
 	if out.Reciprocal {
 		nf, nb := float64(l.dirN[0]), float64(l.dirN[1])
 		slope := (l.slope[0]/nf + l.slope[1]/nb) / 2
-		rr, err := reduce.Reciprocal(slope, s1.Angle(l.zenith[0]/nf), s1.Angle(l.zenith[1]/nb), a.markA[l.from], ctl.Radius)
+		rr, err := reduce.Reciprocal(slope, s1.Angle(l.zenith[0]/nf), s1.Angle(l.zenith[1]/nb), a.control.MarkHeight(l.from), ctl.Radius)
 		if err == nil {
 			k := rr.K
 			out.K = &k

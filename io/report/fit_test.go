@@ -80,7 +80,6 @@ func TestSpreadLimit(t *testing.T) {
 func TestSummaryListsTheWorstFlaggedLines(t *testing.T) {
 	a := NewAggregator(3.29, reduce.DistanceSpec{}, false, sameLine{Inverse: reduce.Inverse{Distance: 1000}, GridDistance: 1000, Radius: 6.4e6})
 	n := MaxListedLines * 3
-	a.names = []string{"A", "B"}
 	for i := range n {
 		acc := a.lines.add()
 		*acc = lineAcc{from: 0, to: 1, id: int32(i), n: 1, mean: 1000, sumVar: 1e-6, maxAbsW: float64(i % 7)}
@@ -102,7 +101,10 @@ func TestSummaryListsTheWorstFlaggedLines(t *testing.T) {
 	}
 }
 
-// sameLine is a LineSource whose every line is the same.
+// sameLine is a LineSource whose every line is the same, between points
+// A (0) and B (1) with marks at 0 m.
 type sameLine reduce.Line
 
 func (s sameLine) KnownLine(id, from, to int32) (reduce.Line, bool) { return reduce.Line(s), true }
+func (sameLine) PointID(i int32) string                             { return string(rune('A' + i)) }
+func (sameLine) MarkHeight(int32) float64                           { return 0 }

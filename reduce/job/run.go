@@ -50,6 +50,11 @@ type Plan struct {
 // PointID is the id of the plan's point number i (Result.Points).
 func (p *Plan) PointID(i int32) string { return p.points[i].id }
 
+// MarkHeight is the height of point number i's mark on the job's
+// reduction datum, as the chain takes it (reduce.LineHeights.MarkA and
+// MarkB); 0 for a point without one.
+func (p *Plan) MarkHeight(i int32) float64 { return p.points[i].mark.Height }
+
 // KnownLine is the line numbered id (Result.LineID) from point number a to
 // point number b, as a run of the plan computed it and Result.Line has
 // it; ok is false if no run has computed it, or it could not be.
