@@ -8,8 +8,9 @@ import (
 	"io"
 	"math"
 	"slices"
-	"strconv"
 	"strings"
+
+	"github.com/geored/geored/io/units"
 )
 
 // table reads a CSV file with a header row, mapping column names to field
@@ -206,7 +207,7 @@ func (t *table) get(name string) string {
 // number parses a finite decimal number in column name and checks it lies
 // in [lo, hi]; want says what was expected. A blank is a bad value.
 func (t *table) number(name, want string, lo, hi float64) (float64, error) {
-	v, err := strconv.ParseFloat(t.get(name), 64)
+	v, err := units.ParseFloat(t.get(name))
 	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) || v < lo || v > hi {
 		return 0, t.fieldError(name, want, err)
 	}

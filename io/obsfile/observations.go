@@ -181,7 +181,7 @@ func (o *ObsReader) bad(i int, want string) *FieldError {
 // number parses a finite decimal number in column i; want says what was
 // expected, built only when the value is bad.
 func (o *ObsReader) number(i int, want func() string) (float64, *FieldError) {
-	v, err := strconv.ParseFloat(o.field(i), 64)
+	v, err := units.ParseFloat(o.field(i))
 	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
 		return 0, o.bad(i, want())
 	}

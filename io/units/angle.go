@@ -102,7 +102,7 @@ func unitValue(quantity, s string, u AngleUnit) (float64, error) {
 	if u == PackedDMS {
 		return parsePackedDegrees(quantity, s)
 	}
-	v, err := strconv.ParseFloat(strings.TrimSpace(s), 64)
+	v, err := ParseFloat(strings.TrimSpace(s))
 	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
 		return 0, &SyntaxError{Quantity: quantity, Value: s, Unit: u.String(), Want: "a finite decimal number", Err: err}
 	}

@@ -96,7 +96,7 @@ func ParseLength(quantity, s string, u LengthUnit) (float64, error) {
 	if !u.valid() {
 		return 0, &UnitError{Kind: "length", Name: u.String(), Want: lengthUnitWant}
 	}
-	v, err := strconv.ParseFloat(strings.TrimSpace(s), 64)
+	v, err := ParseFloat(strings.TrimSpace(s))
 	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
 		return 0, &SyntaxError{Quantity: quantity, Value: s, Unit: u.String(), Want: "a finite decimal number", Err: err}
 	}

@@ -1,0 +1,57 @@
+package units
+
+import "strconv"
+
+// ParseFloat is strconv.ParseFloat(s, 64), bit for bit and error for
+// error, with a short road for what observation files hold: an optional
+// sign, at most 19 digits and an optional decimal point. When the digits
+// make an integer m ≤ 2^53 and there are f ≤ 22 of them after the point,
+// m and 10^f are exact doubles and the one division m / 10^f is
+// correctly rounded, as strconv's own exact case is (Clinger, "How to
+// read floating point numbers accurately", PLDI 1990). Anything else
+// (exponents, more digits, spaces, words) goes to strconv.
+func ParseFloat(s string) (float64, error) {
+	if v, ok := parseShortDecimal(s); ok {
+		return v, nil
+	}
+	return strconv.ParseFloat(s, 64)
+}
+
+// exactPow10 are the powers of ten that a double holds exactly.
+var exactPow10 = [...]float64{1, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10,
+	1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22}
+
+func parseShortDecimal(s string) (float64, bool) {
+	i, neg := 0, false
+	if len(s) > 0 && (s[0] == '-' || s[0] == '+') {
+		neg, i = s[0] == '-', 1
+	}
+	var m uint64
+	digits, frac, point := 0, 0, false
+	for ; i < len(s); i++ {
+		c := s[i]
+		switch {
+		case c >= '0' && c <= '9':
+			if digits == 19 {
+				return 0, false // m could overflow
+			}
+			m = m*10 + uint64(c-'0')
+			digits++
+			if point {
+				frac++
+			}
+		case c == '.' && !point:
+			point = true
+		default:
+			return 0, false
+		}
+	}
+	if digits == 0 || m > 1<<53 || frac >= len(exactPow10) {
+		return 0, false
+	}
+	v := float64(m) / exactPow10[frac]
+	if neg {
+		v = -v
+	}
+	return v, true
+}
