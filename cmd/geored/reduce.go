@@ -68,6 +68,7 @@ func runReduce(args []string, stdout, stderr io.Writer) int {
 	quiet := fs.Bool("quiet", false, "print nothing but errors")
 	jsonOut := fs.Bool("json", false, "print a one-line machine summary (JSON) on stdout")
 	cpuProfile := fs.String("cpuprofile", "", "write a CPU profile (pprof) of the run to this file")
+	memProfile := fs.String("memprofile", "", "write a heap profile (pprof) to this file when the run ends: what it allocated, and what it held at the last collection")
 	fs.Usage = func() {
 		fmt.Fprint(stderr, `Usage: geored reduce [flags] [observations.csv ...]
 
@@ -110,6 +111,13 @@ Flags:
 			return fail(stderr, "reduce", err)
 		}
 		defer stop()
+	}
+	if *memProfile != "" {
+		defer func() {
+			if err := writeHeapProfile(*memProfile); err != nil {
+				fmt.Fprintf(stderr, "geored reduce: %v\n", err)
+			}
+		}()
 	}
 	opts := reduceOptions{strict: *strict, progress: !*quiet && isTerminal(stderr)}
 	if !*quiet {
@@ -506,4 +514,17 @@ func startCPUProfile(path string) (func(), error) {
 		return nil, err
 	}
 	return func() { pprof.StopCPUProfile(); f.Close() }, nil
+}
+
+// writeHeapProfile writes the heap profile as of the last collection.
+func writeHeapProfile(path string) error {
+	f, err := os.Create(path)
+	if err != nil {
+		return err
+	}
+	if err := pprof.Lookup("heap").WriteTo(f, 0); err != nil {
+		f.Close()
+		return err
+	}
+	return f.Close()
 }
