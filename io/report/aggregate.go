@@ -5,7 +5,7 @@ import (
 	"sort"
 
 	"github.com/golang/geo/s1"
-	"gonum.org/v1/gonum/stat/distuv"
+	"gonum.org/v1/gonum/mathext"
 
 	"github.com/geored/geored/reduce"
 	"github.com/geored/geored/reduce/job"
@@ -238,13 +238,15 @@ const MaxListedLines = 2000
 
 // spreadLimit is the upper quantile of χ² with dof degrees of freedom at
 // the α of the critical value, α = 2(1 − Φ(critical)) (0.001 for 3.29),
-// remembered per dof.
+// remembered per dof: 2·P⁻¹(dof/2, 1 − α), with P the regularised lower
+// incomplete gamma function (mathext, without the matrix code that
+// gonum's distuv brings into the binary).
 func (a *Aggregator) spreadLimit(dof int) float64 {
 	if v, ok := a.chi2[dof]; ok {
 		return v
 	}
 	alpha := math.Erfc(a.critical / math.Sqrt2)
-	v := distuv.ChiSquared{K: float64(dof)}.Quantile(1 - alpha)
+	v := 2 * mathext.GammaIncRegInv(float64(dof)/2, 1-alpha)
 	if a.chi2 == nil {
 		a.chi2 = map[int]float64{}
 	}
