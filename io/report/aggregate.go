@@ -2,7 +2,10 @@ package report
 
 import (
 	"math"
+	"runtime"
+	"slices"
 	"sort"
+	"sync"
 
 	"github.com/golang/geo/s1"
 	"gonum.org/v1/gonum/mathext"
@@ -26,6 +29,7 @@ type Aggregator struct {
 	ell, grid statsAcc
 	pos       []int32 // by job.Result.LineID: 1 + position in lines, 0 if not seen
 	lines     lineAccs
+	chi2mu    sync.Mutex // Finish asks from several goroutines
 	chi2      map[int]float64
 	flagged   []uint64 // bit i: line i is flagged, once Finish has run
 }
@@ -242,6 +246,8 @@ const MaxListedLines = 2000
 // incomplete gamma function (mathext, without the matrix code that
 // gonum's distuv brings into the binary).
 func (a *Aggregator) spreadLimit(dof int) float64 {
+	a.chi2mu.Lock()
+	defer a.chi2mu.Unlock()
 	if v, ok := a.chi2[dof]; ok {
 		return v
 	}
@@ -256,34 +262,53 @@ func (a *Aggregator) spreadLimit(dof int) float64 {
 
 // Finish completes the summary's counts, statistics, lines (flagged
 // first, each group in the order first observed; see MaxListedLines) and
-// fit. It keeps a few numbers per line, not the lines.
+// fit. It keeps a few numbers per line, not the lines. The lines are
+// summed up on every core, in ranges whose results are joined in order,
+// so the summary does not depend on the number of cores.
 func (a *Aggregator) Finish(s *Summary) {
 	s.Counts = a.counts
 	s.Counts.Lines = a.lines.n
 	s.Residuals = ResidualStats{Ellipsoid: a.ell.stats(), Grid: a.grid.stats()}
-	ell := make([]float64, 0, a.lines.n)
-	grid := make([]float64, 0, a.lines.n)
-	fit := make([]fitPoint, 0, a.lines.n)
-	type flagged struct {
-		i int // position in a.lines
-		w float64
+	n := a.lines.n
+	ell := make([]float64, n)
+	grid := make([]float64, n)
+	a.flagged = make([]uint64, (n+63)/64)
+	// Ranges of whole words of the flagged bitset, one per part.
+	parts := min(runtime.GOMAXPROCS(0), (n+finishGrain-1)/finishGrain)
+	words := (len(a.flagged) + max(parts, 1) - 1) / max(parts, 1)
+	fit := make([]fitPoint, n) // each part's lines from its first place on
+	nfit := make([]int, parts)
+	worsts := make([][]flaggedLine, parts)
+	var wg sync.WaitGroup
+	for p := range parts {
+		lo, hi := min(p*words*64, n), min((p+1)*words*64, n)
+		wg.Go(func() {
+			k := lo
+			var worst []flaggedLine
+			for i := lo; i < hi; i++ {
+				l := a.line(a.lines.at(i))
+				ell[i], grid[i] = l.ResidualMM, l.gridResidualMM
+				if l.SigmaMM > 0 {
+					fit[k] = fitPoint{x: l.Geodesic, y: l.ResidualMM, w: 1 / (l.SigmaMM * l.SigmaMM)}
+					k++
+				}
+				if l.Flagged() {
+					a.flagged[i/64] |= 1 << (i % 64)
+					worst = append(worst, flaggedLine{i, l.MaxAbsW})
+				}
+			}
+			nfit[p], worsts[p] = k-lo, worst
+		})
 	}
-	var worst []flagged
-	a.flagged = make([]uint64, (a.lines.n+63)/64)
-	for i := range a.lines.n {
-		l := a.line(a.lines.at(i))
-		if l.Flagged() {
-			a.flagged[i/64] |= 1 << (i % 64)
-		}
-		ell = append(ell, l.ResidualMM)
-		grid = append(grid, l.gridResidualMM)
-		if l.SigmaMM > 0 {
-			fit = append(fit, fitPoint{x: l.Geodesic, y: l.ResidualMM, w: 1 / (l.SigmaMM * l.SigmaMM)})
-		}
-		if l.Flagged() {
-			worst = append(worst, flagged{i, l.MaxAbsW})
-		}
+	wg.Wait()
+	// The parts' fit points close up, in order.
+	m := 0
+	for p := range parts {
+		lo := p * words * 64
+		m += copy(fit[m:], fit[lo:lo+nfit[p]])
 	}
+	fit = fit[:m]
+	worst := slices.Concat(worsts...)
 	s.Counts.FlaggedLines = len(worst)
 	// At most MaxListedLines flagged lines are listed: the worst by |w|,
 	// in the order first observed.
@@ -296,17 +321,28 @@ func (a *Aggregator) Finish(s *Summary) {
 	for _, f := range worst {
 		s.Lines = append(s.Lines, a.line(a.lines.at(f.i)))
 	}
-	if a.lines.n <= MaxListedLines {
-		for i := range a.lines.n {
-			if l := a.line(a.lines.at(i)); !l.Flagged() {
-				s.Lines = append(s.Lines, l)
+	if n <= MaxListedLines {
+		for i := range n {
+			if a.flagged[i/64]&(1<<(i%64)) == 0 {
+				s.Lines = append(s.Lines, a.line(a.lines.at(i)))
 			}
 		}
 	}
-	s.LinesNotListed = a.lines.n - len(s.Lines)
-	s.Residuals.Ellipsoid.MedianMM = median(ell)
+	s.LinesNotListed = n - len(s.Lines)
+	wg.Go(func() { s.Residuals.Ellipsoid.MedianMM = median(ell) })
 	s.Residuals.Grid.MedianMM = median(grid)
 	s.Fit = fitLine(fit, a.critical)
+	wg.Wait()
+}
+
+// finishGrain is the fewest lines worth a goroutine of Finish.
+const finishGrain = 4096
+
+// flaggedLine is a flagged line's position in the aggregator and its
+// worst |w|.
+type flaggedLine struct {
+	i int
+	w float64
 }
 
 // EachLine calls write for every line, flagged ones first, then in the
