@@ -32,19 +32,25 @@ func needFinite(stage, quantity string, v float64, unit string) error {
 }
 
 // needPositive returns an *InputError unless v is finite and above zero.
+// The test is inlined where it is called; the error is built elsewhere.
 func needPositive(stage, quantity string, v float64, unit string) error {
-	if !finite(v) || v <= 0 {
-		return &InputError{Stage: stage, Quantity: quantity, Got: v, Unit: unit, Want: "a finite value above zero"}
+	if v > 0 && !math.IsInf(v, 1) { // NaN fails v > 0
+		return nil
 	}
-	return nil
+	return &InputError{Stage: stage, Quantity: quantity, Got: v, Unit: unit, Want: "a finite value above zero"}
 }
 
 // needRange returns an *InputError unless v is finite and in [lo, hi].
+// The test is inlined where it is called; the error is built elsewhere.
 func needRange(stage, quantity string, v float64, unit string, lo, hi float64) error {
-	if !finite(v) || v < lo || v > hi {
-		return &InputError{Stage: stage, Quantity: quantity, Got: v, Unit: unit, Want: fmt.Sprintf("a value in [%g, %g] %s", lo, hi, unit)}
+	if v >= lo && v <= hi && !math.IsInf(v, 0) { // NaN fails v >= lo
+		return nil
 	}
-	return nil
+	return rangeError(stage, quantity, v, unit, lo, hi)
+}
+
+func rangeError(stage, quantity string, v float64, unit string, lo, hi float64) error {
+	return &InputError{Stage: stage, Quantity: quantity, Got: v, Unit: unit, Want: fmt.Sprintf("a value in [%g, %g] %s", lo, hi, unit)}
 }
 
 // formatMetres writes a length for an error message, to 0.1 mm.
