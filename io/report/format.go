@@ -95,12 +95,15 @@ func needsQuotes(s string) bool {
 		return true
 	}
 	for i := 0; i < len(s); i++ {
-		if c := s[i]; c == ',' || c == '"' || c == '\r' || c == '\n' {
+		if quoted[s[i]] {
 			return true
 		}
 	}
 	return false
 }
+
+// quoted marks the bytes that make a CSV field need quotes.
+var quoted = [256]bool{',': true, '"': true, '\r': true, '\n': true}
 
 func appendBool(b []byte, v bool) []byte {
 	if v {

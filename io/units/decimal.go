@@ -22,31 +22,39 @@ var exactPow10 = [...]float64{1, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e
 	1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22}
 
 func parseShortDecimal(s string) (float64, bool) {
+	// A sign, digits and a point, 21 bytes at most; m wraps only for
+	// 20 digits, which go to strconv.
+	if len(s) == 0 || len(s) > 21 {
+		return 0, false
+	}
 	i, neg := 0, false
-	if len(s) > 0 && (s[0] == '-' || s[0] == '+') {
+	if s[0] == '-' || s[0] == '+' {
 		neg, i = s[0] == '-', 1
 	}
 	var m uint64
-	digits, frac, point := 0, 0, false
+	start := i
 	for ; i < len(s); i++ {
-		c := s[i]
-		switch {
-		case c >= '0' && c <= '9':
-			if digits == 19 {
-				return 0, false // m could overflow
-			}
-			m = m*10 + uint64(c-'0')
-			digits++
-			if point {
-				frac++
-			}
-		case c == '.' && !point:
-			point = true
-		default:
-			return 0, false
+		c := s[i] - '0'
+		if c > 9 {
+			break
 		}
+		m = m*10 + uint64(c)
 	}
-	if digits == 0 || m > 1<<53 || frac >= len(exactPow10) {
+	digits, frac := i-start, 0
+	if i < len(s) && s[i] == '.' {
+		i++
+		start = i
+		for ; i < len(s); i++ {
+			c := s[i] - '0'
+			if c > 9 {
+				break
+			}
+			m = m*10 + uint64(c)
+		}
+		frac = i - start
+		digits += frac
+	}
+	if i < len(s) || digits == 0 || digits > 19 || m > 1<<53 || frac >= len(exactPow10) {
 		return 0, false
 	}
 	v := float64(m) / exactPow10[frac]
