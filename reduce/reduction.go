@@ -47,18 +47,28 @@ type Reduction struct {
 // DatumSeaLevel they show the legacy reduction's departure from it.
 func Reduce(obs Observation, job Job, line Line, markA, markB MarkHeight) (Reduction, error) {
 	var r Reduction
+	if err := ReduceTo(&r, &obs, &job, &line, &markA, &markB); err != nil {
+		return Reduction{}, err
+	}
+	return r, nil
+}
+
+// ReduceTo is Reduce writing into r, for callers that reduce millions of
+// observations: it copies no arguments and no result. On an error r is
+// left partly written.
+func ReduceTo(r *Reduction, obs *Observation, job *Job, line *Line, markA, markB *MarkHeight) error {
 	var err error
 	if r.Instrument, err = InstrumentCorrection(obs.SlopeDistance, job.Instrument, obs.PrismConstant, job.Field); err != nil {
-		return Reduction{}, err
+		return err
 	}
 	if r.FirstVelocity, err = FirstVelocityCorrection(r.Instrument.Distance, job.Carrier, obs.Meteorology, job.DefaultAtmosphere); err != nil {
-		return Reduction{}, err
+		return err
 	}
 	if r.SecondVelocity, err = SecondVelocityCorrection(r.FirstVelocity.Distance, job.K, line.Radius); err != nil {
-		return Reduction{}, err
+		return err
 	}
-	if r.Heights, err = NewLineHeights(markA, markB, obs.InstrumentHeight, obs.TargetHeight); err != nil {
-		return Reduction{}, err
+	if r.Heights, err = NewLineHeights(*markA, *markB, obs.InstrumentHeight, obs.TargetHeight); err != nil {
+		return err
 	}
 	s3 := r.SecondVelocity.Distance
 	if markB.Known() {
@@ -69,19 +79,19 @@ func Reduce(obs Observation, job Job, line Line, markA, markB MarkHeight) (Reduc
 		r.Heights.MeanMarkHeight = (markA.Height + r.Geometry.HeightB - obs.TargetHeight) / 2
 	}
 	if err != nil {
-		return Reduction{}, err
+		return err
 	}
 	if r.Grid, err = GridDistance(r.Geometry.Arc, line.Scale, r.Heights.MeanMarkHeight, line.Radius); err != nil {
-		return Reduction{}, err
+		return err
 	}
 	if r.Uncertainty, err = DistanceUncertainty(job.Budget, r.Geometry); err != nil {
-		return Reduction{}, err
+		return err
 	}
 	if r.EllipsoidResidual, err = CompareDistance(r.Geometry.Arc, line.Inverse.Distance, r.Uncertainty.Total, job.Test); err != nil {
-		return Reduction{}, err
+		return err
 	}
 	if r.GridResidual, err = CompareDistance(r.Grid.GridDistance, line.GridDistance, r.Uncertainty.Total*r.Grid.LineScale, job.Test); err != nil {
-		return Reduction{}, err
+		return err
 	}
-	return r, nil
+	return nil
 }

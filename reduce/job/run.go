@@ -39,9 +39,10 @@ type Plan struct {
 	// row in Result.Row.
 	Format func(dst []byte, r *Result) []byte
 
-	index  map[string]int32 // point id → position in points
-	points []planPoint
-	ends   []lineEnd // by position in points: what every row's line needs
+	profiles map[string]*jobconfig.Profile // Job.Profiles, not copied per row
+	index    map[string]int32              // point id → position in points
+	points   []planPoint
+	ends     []lineEnd // by position in points: what every row's line needs
 	// lines holds each line the plan's runs have met, computed once:
 	// it depends only on the plan.
 	lines *lineCache
@@ -85,7 +86,11 @@ type planPoint struct {
 func NewPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, control map[string]Control) (*Plan, error) {
 	p := &Plan{Job: j, CRS: crs, Geodesic: g, Control: control, Marks: map[string]reduce.MarkHeight{}, Workers: j.Workers,
 		index: make(map[string]int32, len(control)), lines: newLineCache(len(control)),
-		points: make([]planPoint, 0, len(control)), ends: make([]lineEnd, 0, len(control))}
+		points: make([]planPoint, 0, len(control)), ends: make([]lineEnd, 0, len(control)),
+		profiles: make(map[string]*jobconfig.Profile, len(j.Profiles))}
+	for name, prof := range j.Profiles {
+		p.profiles[name] = &prof
+	}
 	ids := make([]string, 0, len(control))
 	for id := range control {
 		ids = append(ids, id)
@@ -373,7 +378,7 @@ func reduceOne(plan *Plan, p *geodesic.Projector, r *Result, readErr error) {
 	if name == "" {
 		name = plan.Job.DefaultInstrument
 	}
-	prof, ok := plan.Job.Profiles[name]
+	prof, ok := plan.profiles[name]
 	if !ok {
 		if name == "" {
 			reject(where.String() + ": no instrument column and no default_instrument in the job")
@@ -422,7 +427,8 @@ func reduceOne(plan *Plan, p *geodesic.Projector, r *Result, readErr error) {
 		reject(where.String() + ": the row records no temperature, pressure and humidity, and the job has no default_atmosphere")
 		return
 	}
-	if r.Reduction, err = reduce.Reduce(obs, prof.Chain, r.Line, markA, markB); err != nil {
+	if err = reduce.ReduceTo(&r.Reduction, &obs, &prof.Chain, &r.Line, &markA, &markB); err != nil {
+		r.Reduction = reduce.Reduction{}
 		reject(fmt.Sprintf("%s: %v", where, err))
 	}
 }
