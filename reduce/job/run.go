@@ -347,14 +347,20 @@ func (b *batch) parse() {
 		if errors.Is(err, io.EOF) {
 			return
 		}
-		var re *obsfile.RowError
-		if err != nil && !errors.As(err, &re) {
+		if err != nil && !isRowError(err) {
 			b.fatal = err
 			return
 		}
 		b.results = append(b.results, Result{Obs: obs})
 		b.errs = append(b.errs, err)
 	}
+}
+
+// isRowError reports whether err is a bad row (a *obsfile.RowError),
+// which is rejected, rather than an error that ends the file.
+func isRowError(err error) bool {
+	var re *obsfile.RowError
+	return errors.As(err, &re)
 }
 
 // reduceOne reduces one observation in place, or marks it rejected.
