@@ -40,10 +40,11 @@ func needPositive(stage, quantity string, v float64, unit string) error {
 	return &InputError{Stage: stage, Quantity: quantity, Got: v, Unit: unit, Want: "a finite value above zero"}
 }
 
-// needRange returns an *InputError unless v is finite and in [lo, hi].
-// The test is inlined where it is called; the error is built elsewhere.
+// needRange returns an *InputError unless v is in [lo, hi], which are
+// finite (so is v then; NaN fails). The test is inlined where it is
+// called; the error is built elsewhere.
 func needRange(stage, quantity string, v float64, unit string, lo, hi float64) error {
-	if v >= lo && v <= hi && !math.IsInf(v, 0) { // NaN fails v >= lo
+	if v >= lo && v <= hi {
 		return nil
 	}
 	return rangeError(stage, quantity, v, unit, lo, hi)

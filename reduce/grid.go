@@ -77,10 +77,7 @@ func GridDistance(arc float64, k ScaleFactors, meanMarkHeight, radius float64) (
 	line := (k.A + 4*k.Mid + k.B) / 6
 	elev := radius / (radius + meanMarkHeight)
 	gridArc := arc * line
-	d := gridArc
-	if x := k.Curvature * gridArc / 2; x != 0 {
-		d = gridArc * math.Sin(x) / x
-	}
+	d := gridArc * sinc(k.Curvature*gridArc/2)
 	return GridResult{
 		Scale:           k,
 		LineScale:       line,
@@ -94,4 +91,14 @@ func GridDistance(arc float64, k ScaleFactors, meanMarkHeight, radius float64) (
 		GroundDistance:  arc / elev,
 		CombinedFactor:  d / (arc / elev),
 	}, nil
+}
+
+// sinc is sin(x)/x. Below 1e-3 rad, the x ≤ 1e-5·100 km / 2 of any line on
+// a grid, it is 1 − x²/6 + x⁴/120, whose next term x⁶/5040 is under 1e-22.
+func sinc(x float64) float64 {
+	if math.Abs(x) < 1e-3 {
+		x2 := x * x
+		return 1 - x2/6*(1-x2/20)
+	}
+	return math.Sin(x) / x
 }

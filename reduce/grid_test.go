@@ -62,3 +62,12 @@ func TestGridRejects(t *testing.T) {
 		assert.Truef(t, errors.As(err, &ie), "%s: want *InputError, got %v", c.name, err)
 	}
 }
+
+// sinc's series agrees with math.Sin(x)/x to the last bits below its
+// switch, and is 1 at 0 (the limit).
+func TestSinc(t *testing.T) {
+	assert.Equal(t, 1.0, sinc(0))
+	for _, x := range []float64{1e-12, 1e-8, -3e-6, 1e-5, 2e-4, -9.99e-4, 1e-3, 0.1, -1} {
+		assert.InEpsilon(t, math.Sin(x)/x, sinc(x), 3e-16, "x = %g", x)
+	}
+}
