@@ -1,6 +1,7 @@
 package report
 
 import (
+	"encoding/binary"
 	"math"
 	"strconv"
 
@@ -16,44 +17,48 @@ var pow10 = [...]float64{1, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1
 // values within an ulp of a tie.
 func appendFixed(b []byte, v float64, decimals int) []byte {
 	if decimals >= 0 && decimals < len(pow10) {
-		s := math.Round(v * pow10[decimals])
-		if math.Abs(s) < 1e15 { // every digit is significant
-			if s < 0 {
+		x := v * pow10[decimals]
+		neg := x < 0
+		x = math.Abs(x)
+		if x < 1e15 { // every digit is significant
+			// math.Round(x), half away from zero, from Trunc (one
+			// instruction): x − Trunc(x) is exact below 2^52.
+			t := math.Trunc(x)
+			if x-t >= 0.5 {
+				t++
+			}
+			u := uint64(t)
+			if neg && u != 0 {
 				b = append(b, '-')
-				s = -s
 			}
 			// the digits and the point, written backwards two at a time
 			var buf [24]byte
 			i := len(buf)
-			u := uint64(s)
-			for d := decimals; d > 0; {
-				if d == 1 {
-					q := u / 10
-					i--
-					buf[i] = byte('0' + u - q*10)
-					u, d = q, 0
-					break
-				}
-				q := u / 100
-				r := u - q*100
+			d := decimals
+			for ; d >= 2; d -= 2 {
+				r := u % 100
+				u /= 100
 				i -= 2
-				buf[i], buf[i+1] = digitPairs[2*r], digitPairs[2*r+1]
-				u, d = q, d-2
+				binary.LittleEndian.PutUint16(buf[i:], digitPairs[r])
+			}
+			if d == 1 {
+				i--
+				buf[i] = byte('0' + u%10)
+				u /= 10
 			}
 			if decimals > 0 {
 				i--
 				buf[i] = '.'
 			}
 			for u >= 100 {
-				q := u / 100
-				r := u - q*100
+				r := u % 100
+				u /= 100
 				i -= 2
-				buf[i], buf[i+1] = digitPairs[2*r], digitPairs[2*r+1]
-				u = q
+				binary.LittleEndian.PutUint16(buf[i:], digitPairs[r])
 			}
 			if u >= 10 {
 				i -= 2
-				buf[i], buf[i+1] = digitPairs[2*u], digitPairs[2*u+1]
+				binary.LittleEndian.PutUint16(buf[i:], digitPairs[u])
 			} else {
 				i--
 				buf[i] = byte('0' + u)
@@ -67,8 +72,13 @@ func appendFixed(b []byte, v float64, decimals int) []byte {
 	return strconv.AppendFloat(b, v, 'f', decimals, 64)
 }
 
-const digitPairs = "00010203040506070809101112131415161718192021222324252627282930313233343536373839" +
-	"404142434445464748495051525354555657585960616263646566676869707172737475767778798081828384858687888990919293949596979899"
+// digitPairs are "00" to "99" as little-endian 16-bit words.
+var digitPairs = func() (p [100]uint16) {
+	for i := range p {
+		p[i] = uint16('0'+i/10) | uint16('0'+i%10)<<8
+	}
+	return p
+}()
 
 // appendField writes a CSV field, quoted where it must be (RFC 4180).
 func appendField(b []byte, s string) []byte {
