@@ -10,7 +10,7 @@ BENCH_OBS      ?= 1000000
 BENCH_DIR      ?= /tmp/geored-bench-$(BENCH_OBS)
 BENCH_REPEAT   ?= 7
 
-.PHONY: all deps chromium bench-tools build test demo bench profile vet clean
+.PHONY: all deps chromium bench-tools build test demo bench profile pgo vet clean
 
 all: build
 
@@ -75,6 +75,21 @@ profile: deps build
 	[ -f $(BENCH_DIR)/observations.csv ] || ./bin/georedbench gen -dir $(BENCH_DIR) -obs $(BENCH_OBS)
 	./$(BIN) reduce -config $(BENCH_DIR)/job.toml -quiet -out $(BENCH_DIR)/out-profile -cpuprofile bin/reduce.prof || [ $$? = 1 ]
 	$(GO) tool pprof -top -nodecount 25 $(BIN) bin/reduce.prof
+
+# pgo: the CPU profile that Go's profile-guided optimisation builds geored
+# with (cmd/geored/default.pgo): geored reduce on the synthetic job on all
+# cores and on one worker, merged. Run it again when the hot code changes
+# much; a stale profile costs only speed, never correctness.
+pgo: deps
+	$(GO) build -pgo=off -o bin/geored-nopgo ./cmd/geored
+	$(GO) build -o bin/georedbench ./cmd/georedbench
+	[ -f $(BENCH_DIR)/observations.csv ] || ./bin/georedbench gen -dir $(BENCH_DIR) -obs $(BENCH_OBS)
+	rm -rf $(BENCH_DIR)/out-pgo
+	./bin/geored-nopgo reduce -config $(BENCH_DIR)/job.toml -quiet -out $(BENCH_DIR)/out-pgo -cpuprofile bin/pgo-all.prof || [ $$? = 1 ]
+	rm -rf $(BENCH_DIR)/out-pgo
+	./bin/geored-nopgo reduce -config $(BENCH_DIR)/job.toml -quiet -workers 1 -out $(BENCH_DIR)/out-pgo -cpuprofile bin/pgo-one.prof || [ $$? = 1 ]
+	rm -rf $(BENCH_DIR)/out-pgo
+	$(GO) tool pprof -proto bin/pgo-all.prof bin/pgo-one.prof > cmd/geored/default.pgo
 
 clean:
 	rm -rf bin geored-demo geored-out
