@@ -287,13 +287,7 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 	var linesErr error
 	var linesWG sync.WaitGroup
 	linesWG.Go(func() {
-		lines.Write(report.AppendHeader(nil, report.LinesHeader(u)))
-		var buf []byte
-		linesErr = agg.EachLine(func(l *report.Line) error {
-			buf = report.AppendLineRow(buf[:0], l, u)
-			_, err := lines.Write(buf)
-			return err
-		})
+		linesErr = agg.WriteLines(lines, u)
 		lines.StartSync()
 	})
 	defer linesWG.Wait()

@@ -1,11 +1,13 @@
 package report
 
 import (
+	"io"
 	"math"
 	"runtime"
 	"slices"
 	"sort"
 	"sync"
+	"sync/atomic"
 
 	"github.com/golang/geo/s1"
 	"gonum.org/v1/gonum/mathext"
@@ -29,8 +31,6 @@ type Aggregator struct {
 	ell, grid statsAcc
 	pos       []int32 // by job.Result.LineID: 1 + position in lines, 0 if not seen
 	lines     lineAccs
-	chi2mu    sync.Mutex // Finish asks from several goroutines
-	chi2      map[int]float64
 	flagged   []uint64 // bit i: line i is flagged, once Finish has run
 }
 
@@ -190,7 +190,7 @@ const (
 	FlagSpread    = "spread"    // the observations disagree more than their σ allows
 )
 
-func (a *Aggregator) line(l *lineAcc) Line {
+func (a *Aggregator) line(l *lineAcc, limits *spreadLimits) Line {
 	ctl, _ := a.control.KnownLine(l.id, l.from, l.to) // every line reduced is known
 	out := Line{From: a.control.PointID(l.from), To: a.control.PointID(l.to), Count: int(l.n), Reciprocal: l.dirN[0] > 0 && l.dirN[1] > 0,
 		Geodesic: ctl.Inverse.Distance, Grid: ctl.GridDistance, MeanArc: l.mean, SpreadMM: (l.max - l.min) * 1e3,
@@ -228,7 +228,7 @@ func (a *Aggregator) line(l *lineAcc) Line {
 	// follows χ² with n − 1 degrees of freedom; the line is flagged above
 	// its upper quantile at the α of the job's critical value. For two
 	// observations this is |x₁ − x₂| > critical·√2·σ.
-	if l.n > 1 && sigmaObs > 0 && l.m2/(sigmaObs*sigmaObs) > a.spreadLimit(int(l.n)-1) {
+	if l.n > 1 && sigmaObs > 0 && l.m2/(sigmaObs*sigmaObs) > limits.at(int(l.n)-1) {
 		out.Flags = append(out.Flags, FlagSpread)
 	}
 	return out
@@ -241,22 +241,31 @@ func (a *Aggregator) line(l *lineAcc) Line {
 const MaxListedLines = 2000
 
 // spreadLimit is the upper quantile of χ² with dof degrees of freedom at
-// the α of the critical value, α = 2(1 − Φ(critical)) (0.001 for 3.29),
-// remembered per dof: 2·P⁻¹(dof/2, 1 − α), with P the regularised lower
-// incomplete gamma function (mathext, without the matrix code that
-// gonum's distuv brings into the binary).
-func (a *Aggregator) spreadLimit(dof int) float64 {
-	a.chi2mu.Lock()
-	defer a.chi2mu.Unlock()
-	if v, ok := a.chi2[dof]; ok {
-		return v
+// the α of the critical value, α = 2(1 − Φ(critical)) (0.001 for 3.29):
+// 2·P⁻¹(dof/2, 1 − α), with P the regularised lower incomplete gamma
+// function (mathext, without the matrix code that gonum's distuv brings
+// into the binary).
+func spreadLimit(critical float64, dof int) float64 {
+	alpha := math.Erfc(critical / math.Sqrt2)
+	return 2 * mathext.GammaIncRegInv(float64(dof)/2, 1-alpha)
+}
+
+// spreadLimits remembers spreadLimit by degrees of freedom, for one
+// goroutine: a job's lines have few different counts.
+type spreadLimits struct {
+	critical float64
+	byDOF    map[int]float64
+}
+
+func (s *spreadLimits) at(dof int) float64 {
+	v, ok := s.byDOF[dof]
+	if !ok {
+		v = spreadLimit(s.critical, dof)
+		if s.byDOF == nil {
+			s.byDOF = map[int]float64{}
+		}
+		s.byDOF[dof] = v
 	}
-	alpha := math.Erfc(a.critical / math.Sqrt2)
-	v := 2 * mathext.GammaIncRegInv(float64(dof)/2, 1-alpha)
-	if a.chi2 == nil {
-		a.chi2 = map[int]float64{}
-	}
-	a.chi2[dof] = v
 	return v
 }
 
@@ -285,8 +294,9 @@ func (a *Aggregator) Finish(s *Summary) {
 		wg.Go(func() {
 			k := lo
 			var worst []flaggedLine
+			limits := spreadLimits{critical: a.critical}
 			for i := lo; i < hi; i++ {
-				l := a.line(a.lines.at(i))
+				l := a.line(a.lines.at(i), &limits)
 				ell[i], grid[i] = l.ResidualMM, l.gridResidualMM
 				if l.SigmaMM > 0 {
 					fit[k] = fitPoint{x: l.Geodesic, y: l.ResidualMM, w: 1 / (l.SigmaMM * l.SigmaMM)}
@@ -318,13 +328,14 @@ func (a *Aggregator) Finish(s *Summary) {
 		sort.Slice(worst, func(x, y int) bool { return worst[x].i < worst[y].i })
 	}
 	s.Lines = make([]Line, 0, len(worst))
+	limits := spreadLimits{critical: a.critical}
 	for _, f := range worst {
-		s.Lines = append(s.Lines, a.line(a.lines.at(f.i)))
+		s.Lines = append(s.Lines, a.line(a.lines.at(f.i), &limits))
 	}
 	if n <= MaxListedLines {
 		for i := range n {
 			if a.flagged[i/64]&(1<<(i%64)) == 0 {
-				s.Lines = append(s.Lines, a.line(a.lines.at(i)))
+				s.Lines = append(s.Lines, a.line(a.lines.at(i), &limits))
 			}
 		}
 	}
@@ -350,14 +361,15 @@ type flaggedLine struct {
 // write returns. After Finish it computes each line once.
 func (a *Aggregator) EachLine(write func(*Line) error) error {
 	var l Line // one for all: write may keep a pointer, so l lives on the heap
+	limits := spreadLimits{critical: a.critical}
 	for pass := 0; pass < 2; pass++ {
 		for i := range a.lines.n {
 			if a.flagged != nil {
 				if (a.flagged[i/64]&(1<<(i%64)) != 0) != (pass == 0) {
 					continue
 				}
-				l = a.line(a.lines.at(i))
-			} else if l = a.line(a.lines.at(i)); l.Flagged() != (pass == 0) {
+				l = a.line(a.lines.at(i), &limits)
+			} else if l = a.line(a.lines.at(i), &limits); l.Flagged() != (pass == 0) {
 				continue
 			}
 			if err := write(&l); err != nil {
@@ -380,3 +392,71 @@ func median(v []float64) float64 {
 	}
 	return (v[n/2-1] + v[n/2]) / 2
 }
+
+// WriteLines writes lines.csv: its header, then EachLine's rows. After
+// Finish, blocks of lines are formatted on every core and written in
+// order; at most two blocks a core wait for the writer.
+func (a *Aggregator) WriteLines(w io.Writer, u Units) error {
+	if _, err := w.Write(AppendHeader(nil, LinesHeader(u))); err != nil {
+		return err
+	}
+	if a.flagged == nil {
+		var buf []byte
+		return a.EachLine(func(l *Line) error {
+			buf = AppendLineRow(buf[:0], l, u)
+			_, err := w.Write(buf)
+			return err
+		})
+	}
+	// Block k covers positions [k·lineBlock, (k+1)·lineBlock) of the
+	// flagged lines (pass 0, the first blocks), then of the others.
+	perPass := (a.lines.n + lineBlock - 1) / lineBlock
+	blocks := 2 * perPass
+	done := make([]chan []byte, blocks)
+	for k := range done {
+		done[k] = make(chan []byte, 1)
+	}
+	workers := runtime.GOMAXPROCS(0)
+	ahead := make(chan struct{}, 2*workers) // blocks formatted, not yet written
+	var next atomic.Int64
+	stop := make(chan struct{})
+	defer close(stop)
+	for range workers {
+		go func() {
+			var l Line
+			limits := spreadLimits{critical: a.critical}
+			for {
+				select {
+				case ahead <- struct{}{}:
+				case <-stop:
+					return
+				}
+				k := int(next.Add(1) - 1)
+				if k >= blocks {
+					return
+				}
+				flagged := k < perPass
+				lo := (k % perPass) * lineBlock
+				var buf []byte
+				for i := lo; i < min(lo+lineBlock, a.lines.n); i++ {
+					if (a.flagged[i/64]&(1<<(i%64)) != 0) == flagged {
+						l = a.line(a.lines.at(i), &limits)
+						buf = AppendLineRow(buf, &l, u)
+					}
+				}
+				done[k] <- buf
+			}
+		}()
+	}
+	for k := range blocks {
+		buf := <-done[k]
+		<-ahead
+		if _, err := w.Write(buf); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// lineBlock is the lines of one block of WriteLines.
+const lineBlock = 4096

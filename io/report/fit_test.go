@@ -69,10 +69,13 @@ func TestFitWithManyBlundersIsQuick(t *testing.T) {
 // quantiles: χ²(1) at 0.999 is c² exactly; common statistical tables give
 // 10.83 for χ²(1) and 90.57 for χ²(53) at 0.999 [memory].
 func TestSpreadLimit(t *testing.T) {
-	a := NewAggregator(3.2905267314919255, reduce.DistanceSpec{}, false, nil)
-	assert.InDelta(t, 3.2905267314919255*3.2905267314919255, a.spreadLimit(1), 1e-9, "χ²(1) quantile is c²")
-	assert.InDelta(t, 10.83, a.spreadLimit(1), 0.01)
-	assert.InDelta(t, 90.57, a.spreadLimit(53), 0.05)
+	const c = 3.2905267314919255
+	assert.InDelta(t, c*c, spreadLimit(c, 1), 1e-9, "χ²(1) quantile is c²")
+	assert.InDelta(t, 10.83, spreadLimit(c, 1), 0.01)
+	assert.InDelta(t, 90.57, spreadLimit(c, 53), 0.05)
+	limits := spreadLimits{critical: c}
+	assert.Equal(t, spreadLimit(c, 53), limits.at(53))
+	assert.Equal(t, spreadLimit(c, 53), limits.at(53), "remembered")
 }
 
 // A large job lists its flagged lines only, at most MaxListedLines of
