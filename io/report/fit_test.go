@@ -1,12 +1,15 @@
 package report
 
 import (
+	"bytes"
 	"math/rand/v2"
+	"strings"
 	"testing"
 
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
+	"github.com/geored/geored/io/units"
 	"github.com/geored/geored/reduce"
 )
 
@@ -111,3 +114,40 @@ type sameLine reduce.Line
 func (s sameLine) KnownLine(id, from, to int32) (reduce.Line, bool) { return reduce.Line(s), true }
 func (sameLine) PointID(i int32) string                             { return string(rune('A' + i)) }
 func (sameLine) MarkHeight(int32) float64                           { return 0 }
+
+// WriteLines, formatting blocks of lines on every core after Finish, and
+// without Finish, writes what EachLine gives, in its order: flagged lines
+// first, then the others, each in the order first observed.
+func TestWriteLinesInEachLinesOrder(t *testing.T) {
+	u := Units{Length: units.Metre, Angle: units.Degrees}
+	build := func() *Aggregator {
+		a := NewAggregator(3.29, reduce.DistanceSpec{}, false, sameLine{Inverse: reduce.Inverse{Distance: 1000}, GridDistance: 1000, Radius: 6.4e6})
+		for i := range 3*lineBlock + 17 {
+			acc := a.lines.add()
+			*acc = lineAcc{from: 0, to: 1, id: int32(i), n: 1, mean: 1000 + float64(i)*1e-5, sumVar: 1e-6, maxAbsW: float64(i % 7)}
+			if i%5 == 0 || (i > lineBlock && i < lineBlock+40) {
+				acc.outliers, acc.maxAbsW = 1, 4+float64(i)
+			}
+		}
+		return a
+	}
+	var want bytes.Buffer
+	want.Write(AppendHeader(nil, LinesHeader(u)))
+	a := build()
+	require.NoError(t, a.EachLine(func(l *Line) error {
+		want.Write(AppendLineRow(nil, l, u))
+		return nil
+	}))
+	var without bytes.Buffer
+	require.NoError(t, a.WriteLines(&without, u))
+	assert.Equal(t, want.String(), without.String(), "without Finish")
+
+	a.Finish(&Summary{})
+	var with bytes.Buffer
+	require.NoError(t, a.WriteLines(&with, u))
+	assert.Equal(t, want.String(), with.String(), "after Finish, in blocks")
+	rows := strings.Split(strings.TrimSuffix(with.String(), "\n"), "\n")
+	require.Len(t, rows, 1+3*lineBlock+17)
+	assert.Contains(t, rows[1], "outlier", "flagged lines first")
+	assert.NotContains(t, rows[len(rows)-1], "outlier")
+}
