@@ -29,7 +29,8 @@ type ReciprocalResult struct {
 //	δ = (π + ψ − z12 − z21) / 2
 //	ψ = atan2(S sin(z12 + δ), ρA + S cos(z12 + δ)),  ρA = R + hA
 //
-// solved by fixed-point iteration (the map contracts by about S/R), then
+// solved by fixed-point iteration (the map contracts by about S/2R; it
+// stops when a step moves δ by at most a picoradian), then
 // k = 2R sin δ / (S sin ζ), ζ = z12 + δ − ψ/2 the chord's zenith at its
 // midpoint (inverse of RefractionAngle), and
 // hB − hA = sqrt(ρA² + S² + 2ρA S cos(z12 + δ)) − ρA.
@@ -60,10 +61,13 @@ func Reciprocal(slope float64, z12, z21 s1.Angle, heightA, radius float64) (Reci
 		sz, cz := math.Sincos(float64(z12) + delta)
 		psi = math.Atan2(slope*sz, rhoA+slope*cz)
 		next := (math.Pi + psi - sum) / 2
-		if next == delta {
+		// A step that moves δ by 1e-12 rad leaves it within
+		// S/2ρA·1e-12 of the fixed point (the contraction).
+		settled := math.Abs(next-delta) <= 1e-12
+		delta = next
+		if settled {
 			break
 		}
-		delta = next
 	}
 	k := 2 * radius * math.Sin(delta) / (slope * math.Sin(float64(z12)+delta-psi/2))
 	if !finite(k) || math.Abs(k) > 4 {
