@@ -12,7 +12,17 @@ import (
 	"github.com/golang/geo/s1"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
+
+	"github.com/geored/geored/reduce/job"
 )
+
+// TestMain poisons every chunk of observations once its rows have
+// reached the sink (job.PoisonRecycledChunks), so that the outputs these
+// tests check would show a row's string kept longer.
+func TestMain(m *testing.M) {
+	job.PoisonRecycledChunks = true
+	os.Exit(m.Run())
+}
 
 const mm = 1e-3
 

@@ -6,6 +6,7 @@ import (
 	"errors"
 	"io"
 	"strings"
+	"unsafe"
 )
 
 // An ObsChunker splits an observation file, after its header, into chunks
@@ -83,12 +84,14 @@ func (c *ObsChunker) Next(buf []byte, size int) (data []byte, firstLine int, err
 
 // Reader parses one chunk from Next, starting at the file's line
 // firstLine; it may run on any goroutine, beside other chunks' readers.
-// A chunk without quotes, the common case, is split by plainRows; one
-// with quotes by encoding/csv.
+// A chunk without quotes, the common case, is split by plainRows, whose
+// fields share data's memory, not copied: the observations' strings
+// (Observation.From, To, Fields, …) are good only while data is left as
+// it is. One with quotes is read by encoding/csv, which copies.
 func (c *ObsChunker) Reader(data []byte, firstLine int) *ObsReader {
 	t := *c.head.t
 	if bytes.IndexByte(data, '"') < 0 {
-		t.r = &plainRows{s: string(data)}
+		t.r = &plainRows{s: unsafe.String(unsafe.SliceData(data), len(data))}
 	} else {
 		t.r = newCSVReader(bytes.NewReader(data))
 	}

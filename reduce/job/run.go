@@ -39,8 +39,8 @@ type Plan struct {
 	// row in Result.Row.
 	Format func(dst []byte, r *Result) []byte
 
-	profiles map[string]*jobconfig.Profile // Job.Profiles, not copied per row
-	index    map[string]int32              // point id → position in points
+	profiles map[string]planProfile // Job.Profiles, not copied per row
+	index    map[string]int32       // point id → position in points
 	points   []planPoint
 	ends     []lineEnd // by position in points: what every row's line needs
 	// lines holds each line the plan's runs have met, computed once:
@@ -75,6 +75,12 @@ type lineEnd struct {
 }
 
 // planPoint is one control point as the per-row path needs it.
+// planProfile is an instrument profile and its name, the plan's string.
+type planProfile struct {
+	name string
+	*jobconfig.Profile
+}
+
 type planPoint struct {
 	id      string
 	hasMark bool
@@ -87,9 +93,9 @@ func NewPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, control 
 	p := &Plan{Job: j, CRS: crs, Geodesic: g, Control: control, Marks: map[string]reduce.MarkHeight{}, Workers: j.Workers,
 		index: make(map[string]int32, len(control)), lines: newLineCache(len(control)),
 		points: make([]planPoint, 0, len(control)), ends: make([]lineEnd, 0, len(control)),
-		profiles: make(map[string]*jobconfig.Profile, len(j.Profiles))}
+		profiles: make(map[string]planProfile, len(j.Profiles))}
 	for name, prof := range j.Profiles {
-		p.profiles[name] = &prof
+		p.profiles[name] = planProfile{name, &prof}
 	}
 	ids := make([]string, 0, len(control))
 	for id := range control {
@@ -147,13 +153,21 @@ type Result struct {
 	LineNo   int
 	Raw      string
 	Reason   string
-	// Row is Plan.Format's output for this result. It, and Obs.Fields,
-	// are reused after the sink returns.
+	// Row is Plan.Format's output for this result. It, Obs.Fields and
+	// the strings that Obs takes from the row (ObsID, Instrument, and
+	// From and To of a rejected row) are reused after the sink returns:
+	// keep copies.
 	Row []byte
 }
 
 // A Sink receives every result in input order, from one goroutine.
 type Sink func(*Result) error
+
+// PoisonRecycledChunks, for tests, overwrites each chunk of an
+// observation file once its results have reached the sink: the strings
+// of a row share its chunk's memory (obsfile.ObsChunker.Reader), and a
+// string kept past the sink would then show as tildes.
+var PoisonRecycledChunks bool
 
 // chunkBytes is the size of the chunks of rows the reader hands to the
 // workers, which parse them: about 250 rows of a 12-column file.
@@ -276,6 +290,11 @@ func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Wa
 				stopErr = nb.fatal
 				cancel(nb.fatal)
 			}
+			if PoisonRecycledChunks {
+				for i := range nb.data {
+					nb.data[i] = '~'
+				}
+			}
 			free <- nb // never blocks: the pool fits
 		}
 	}
@@ -393,7 +412,7 @@ func reduceOne(plan *Plan, p *geodesic.Projector, r *Result, readErr error) {
 		}
 		return
 	}
-	r.Profile = name
+	r.Profile = prof.name // the plan's string: the row's may go
 	ia, okA := plan.index[o.From]
 	ib, okB := plan.index[o.To]
 	switch {

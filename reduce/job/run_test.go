@@ -204,3 +204,36 @@ func TestRunStops(t *testing.T) {
 	var he *obsfile.HeaderError
 	assert.True(t, errors.As(err, &he), "%v", err)
 }
+
+// A row's strings share its chunk's memory until the sink returns
+// (obsfile.ObsChunker.Reader). The package's tests poison each chunk once
+// it is done (TestMain): a string kept past the sink shows as tildes,
+// where a copy, and the plan's point ids that replace the row's, do not.
+func TestRunRowStringsLastUntilTheSinkReturns(t *testing.T) {
+	require.True(t, PoisonRecycledChunks)
+	plan, p := testPlan(t, 2)
+	// repeated without its quoted rows: chunks that plainRows reads
+	lines := strings.SplitAfter(observations(t, plan, p), "\n")
+	data := lines[0] + strings.Repeat(strings.Join(lines[1:31], ""), 40)
+	var kept, copies, from []string
+	err := Run(context.Background(), plan, []Source{{Name: "obs.csv", Reader: strings.NewReader(data)}},
+		func(w obsfile.Warning) { t.Errorf("warning %s", w) },
+		func(r *Result) error {
+			if !r.Rejected {
+				kept = append(kept, r.Obs.Fields[2]) // the slope distance as written
+				copies = append(copies, strings.Clone(r.Obs.Fields[2]))
+				from = append(from, r.Obs.From)
+			}
+			return nil
+		})
+	require.NoError(t, err)
+	poisoned := 0
+	for i := range kept {
+		require.NotContains(t, copies[i], "~")
+		require.Regexp(t, `^M[0-5]$`, from[i], "row %d: the plan's id", i)
+		if strings.Trim(kept[i], "~") == "" {
+			poisoned++
+		}
+	}
+	assert.Equal(t, len(kept), poisoned, "every row's string, kept past the sink")
+}
