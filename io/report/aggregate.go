@@ -395,7 +395,8 @@ func median(v []float64) float64 {
 
 // WriteLines writes lines.csv: its header, then EachLine's rows. After
 // Finish, blocks of lines are formatted on every core and written in
-// order; at most two blocks a core wait for the writer.
+// order; at most two blocks a core wait for the writer, and their buffers
+// are reused.
 func (a *Aggregator) WriteLines(w io.Writer, u Units) error {
 	if _, err := w.Write(AppendHeader(nil, LinesHeader(u))); err != nil {
 		return err
@@ -418,6 +419,7 @@ func (a *Aggregator) WriteLines(w io.Writer, u Units) error {
 	}
 	workers := runtime.GOMAXPROCS(0)
 	ahead := make(chan struct{}, 2*workers) // blocks formatted, not yet written
+	spare := make(chan []byte, 2*workers)   // written blocks' buffers, for reuse
 	var next atomic.Int64
 	stop := make(chan struct{})
 	defer close(stop)
@@ -438,6 +440,11 @@ func (a *Aggregator) WriteLines(w io.Writer, u Units) error {
 				flagged := k < perPass
 				lo := (k % perPass) * lineBlock
 				var buf []byte
+				select {
+				case buf = <-spare:
+				default:
+					buf = make([]byte, 0, lineBlock*128)
+				}
 				for i := lo; i < min(lo+lineBlock, a.lines.n); i++ {
 					if (a.flagged[i/64]&(1<<(i%64)) != 0) == flagged {
 						l = a.line(a.lines.at(i), &limits)
@@ -453,6 +460,10 @@ func (a *Aggregator) WriteLines(w io.Writer, u Units) error {
 		<-ahead
 		if _, err := w.Write(buf); err != nil {
 			return err
+		}
+		select {
+		case spare <- buf[:0]:
+		default:
 		}
 	}
 	return nil
