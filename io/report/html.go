@@ -153,7 +153,7 @@ footer { margin-top: 2rem; }
 {{- if .Plot}}
 <figure>
 {{.Plot}}
-<figcaption id="plot-caption">Residual of each line's mean reduced ellipsoid distance against the geodesic from control, in mm, plotted at the line's geodesic distance in m. Error bars are ±{{.PlotBars}}σ of the line's mean; flagged lines are red triangles labelled from–to{{if .PlotOffScale}}; a flagged line far off the scale of the others is an arrow at the edge, its residual in its label{{end}}{{if .Fit}}; the dashed line is the fit constant + scale · distance{{end}}.</figcaption>
+<figcaption id="plot-caption">Residual of each line's mean reduced ellipsoid distance against the geodesic from control, in mm, plotted at the line's geodesic distance in m. Error bars are ±{{.PlotBars}}σ of the line's mean; flagged lines are red triangles labelled from–to{{if .PlotUnlabelled}} (the {{.PlotMaxLabels}} worst by |w|; {{.PlotUnlabelled}} more are not labelled){{end}}{{if .PlotOffScale}}; a flagged line far off the scale of the others is an arrow at the edge, its residual in its label{{end}}{{if .Fit}}; the dashed line is the fit constant + scale · distance{{end}}.</figcaption>
 </figure>
 {{- else}}
 <p>No line has a residual to plot.</p>
@@ -279,6 +279,9 @@ type htmlView struct {
 	// PlotOffScale counts flagged lines drawn as arrows at the plot's
 	// edge, too far off the scale of the others to draw to it.
 	PlotOffScale int
+	// PlotUnlabelled counts flagged lines drawn without a label, beyond
+	// the PlotMaxLabels worst.
+	PlotUnlabelled, PlotMaxLabels int
 	// FitReading says in plain words what the fit's terms suggest.
 	FitReading []string
 	// FlagMeanings explain each flag that appears on the page.
@@ -336,7 +339,7 @@ func WriteHTML(w io.Writer, s *Summary) error {
 	// that the SVG writer has escaped itself.
 	v.Plot = template.HTML(svg)
 	lay := layoutPlot(s)
-	v.PlotSkipped, v.PlotOffScale = lay.Skipped, lay.OffScale.Len()
+	v.PlotSkipped, v.PlotOffScale, v.PlotUnlabelled, v.PlotMaxLabels = lay.Skipped, lay.OffScale.Len(), lay.Unlabelled, plotMaxLabels
 
 	var buf bytes.Buffer
 	if err := page.Execute(&buf, v); err != nil {

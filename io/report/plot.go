@@ -7,6 +7,7 @@ import (
 	"math"
 	"regexp"
 	"slices"
+	"sort"
 	"strings"
 
 	"gonum.org/v1/plot"
@@ -33,6 +34,10 @@ const plotBars = 2
 // plotLabelRunes is the longest point id the plot prints beside a flagged
 // line; longer ids are cut and end in "…". The tables give them in full.
 const plotLabelRunes = 16
+
+// plotMaxLabels bounds the flagged lines labelled in the plot: the worst
+// by |w|; more labels would only cover each other.
+const plotMaxLabels = 30
 
 // Colours of the plot. Flagged lines also differ in shape, and the fitted
 // line in dash pattern, so that a grey-scale print still tells them apart.
@@ -83,6 +88,9 @@ type plotLayout struct {
 	// σ that is not a finite number (or a negative σ).
 	OK, Flagged, OffScale residualPoints
 	Skipped               int
+	// Unlabelled counts the flagged lines drawn without a label: beyond
+	// the plotMaxLabels worst.
+	Unlabelled int
 	// Limit is the largest |residual| drawn to scale, mm; +Inf when every
 	// line is.
 	Limit float64
@@ -100,14 +108,21 @@ type plotLayout struct {
 func layoutPlot(s *Summary) plotLayout {
 	var lay plotLayout
 	var flagged residualPoints
-	for _, l := range s.Lines {
+	labelled := worstFlagged(s.Lines, plotMaxLabels)
+	for i, l := range s.Lines {
 		if !finite(l.Geodesic) || !finite(l.ResidualMM) || !finite(l.SigmaMM) || l.SigmaMM < 0 {
 			lay.Skipped++
 			continue
 		}
 		pt := plotter.XY{X: l.Geodesic, Y: l.ResidualMM}
 		if l.Flagged() {
-			flagged.add(pt, plotBars*l.SigmaMM, shortID(l.From)+"–"+shortID(l.To))
+			label := ""
+			if labelled[i] {
+				label = shortID(l.From) + "–" + shortID(l.To)
+			} else {
+				lay.Unlabelled++
+			}
+			flagged.add(pt, plotBars*l.SigmaMM, label)
 		} else {
 			lay.OK.add(pt, plotBars*l.SigmaMM, "")
 		}
@@ -258,8 +273,11 @@ func residualPlot(s *Summary) ([]byte, error) {
 			if pt.Y < 0 {
 				at = lay.DataMin - 0.05*span
 			}
-			arrows.add(plotter.XY{X: pt.X, Y: at}, 0,
-				fmt.Sprintf("%s: %s mm", lay.OffScale.Labels[i], signed(pt.Y, 1)))
+			label := ""
+			if lay.OffScale.Labels[i] != "" {
+				label = fmt.Sprintf("%s: %s mm", lay.OffScale.Labels[i], signed(pt.Y, 1))
+			}
+			arrows.add(plotter.XY{X: pt.X, Y: at}, 0, label)
 		}
 		sc, err := plotter.NewScatter(arrows.XYs)
 		if err != nil {
@@ -286,6 +304,9 @@ func residualPlot(s *Summary) ([]byte, error) {
 	// that no label runs off the drawing.
 	var right, left plotter.XYLabels
 	for i, pt := range labelled.XYs {
+		if labelled.Labels[i] == "" {
+			continue
+		}
 		side := &right
 		if pt.X > (lay.XMin+lay.XMax)/2 {
 			side = &left
@@ -460,3 +481,23 @@ func signWord(x float64) string {
 
 // finite reports whether x is neither NaN nor infinite.
 func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
+
+// worstFlagged marks the at most n flagged lines with the largest |w|
+// (the first observed of equals), by position in lines.
+func worstFlagged(lines []Line, n int) []bool {
+	var idx []int
+	for i, l := range lines {
+		if l.Flagged() {
+			idx = append(idx, i)
+		}
+	}
+	if len(idx) > n {
+		sort.SliceStable(idx, func(a, b int) bool { return lines[idx[a]].MaxAbsW > lines[idx[b]].MaxAbsW })
+		idx = idx[:n]
+	}
+	marked := make([]bool, len(lines))
+	for _, i := range idx {
+		marked[i] = true
+	}
+	return marked
+}

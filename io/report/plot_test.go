@@ -1,6 +1,7 @@
 package report
 
 import (
+	"fmt"
 	"math"
 	"strings"
 	"testing"
@@ -134,6 +135,30 @@ func TestResidualPlotOffScale(t *testing.T) {
 	lay = layoutPlot(s)
 	assert.Zero(t, lay.OffScale.Len())
 	assert.Greater(t, lay.YMax, 51795.8)
+}
+
+// A large job's plot labels its plotMaxLabels worst flagged lines by |w|,
+// and says how many more it draws without a label.
+func TestResidualPlotLabelsTheWorst(t *testing.T) {
+	s := testSummary()
+	s.Lines = nil
+	const n = plotMaxLabels + 40
+	for i := range n {
+		s.Lines = append(s.Lines, Line{From: fmt.Sprintf("F%d", i), To: "T", Count: 2, Geodesic: 100 + 10*float64(i),
+			ResidualMM: 5, SigmaMM: 1, MaxAbsW: float64((i * 37) % n), Flags: []string{"outlier"}})
+	}
+	lay := layoutPlot(s)
+	assert.Equal(t, n, lay.Flagged.Len())
+	assert.Equal(t, n-plotMaxLabels, lay.Unlabelled)
+	for i, l := range s.Lines {
+		if labelled := lay.Flagged.Labels[i] != ""; labelled != (l.MaxAbsW >= n-plotMaxLabels) {
+			t.Errorf("line %d, |w| %g: labelled %v", i, l.MaxAbsW, labelled)
+		}
+	}
+	svg, err := residualPlot(s)
+	require.NoError(t, err)
+	assert.Equal(t, plotMaxLabels, strings.Count(string(svg), "–T</text>"), "labels drawn")
+	assert.Contains(t, render(t, s), fmt.Sprintf("(the %d worst by |w|; %d more are not labelled)", plotMaxLabels, n-plotMaxLabels))
 }
 
 func TestFixedTicks(t *testing.T) {
