@@ -119,7 +119,7 @@ func (c *lineCache) get(a, b int32, plan *Plan, p *geodesic.Projector) (reduce.L
 	id, _, ok := c.find(lo, hi)
 	sh.mu.Unlock()
 	if !ok {
-		line, _, err := NewReduceLine(plan.points[lo].control, plan.points[hi].control, plan.Geodesic, p)
+		line, _, err := NewReduceLine(plan.points[lo].control(), plan.points[hi].control(), plan.Geodesic, p)
 		sh.mu.Lock()
 		var at int
 		if id, at, ok = c.find(lo, hi); !ok {

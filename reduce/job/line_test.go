@@ -140,7 +140,7 @@ func TestLineCache(t *testing.T) {
 		got, _, err := cache.get(ab[0], ab[1], plan, p)
 		require.NoError(t, err)
 		lo, hi := min(ab[0], ab[1]), max(ab[0], ab[1])
-		want, _, err := NewReduceLine(plan.points[lo].control, plan.points[hi].control, plan.Geodesic, p)
+		want, _, err := NewReduceLine(plan.points[lo].control(), plan.points[hi].control(), plan.Geodesic, p)
 		require.NoError(t, err)
 		if ab[0] != lo {
 			want = want.Reversed()

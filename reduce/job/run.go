@@ -43,6 +43,7 @@ type Plan struct {
 	profiles map[string]planProfile // Job.Profiles, not copied per row
 	index    map[string]int32       // point id → position in points
 	points   []planPoint
+	ids      []string  // by position in points
 	ends     []lineEnd // by position in points: what every row's line needs
 	// lines holds each line the plan's runs have met, computed once:
 	// it depends only on the plan.
@@ -50,7 +51,7 @@ type Plan struct {
 }
 
 // PointID is the id of the plan's point number i (Result.Points).
-func (p *Plan) PointID(i int32) string { return p.points[i].id }
+func (p *Plan) PointID(i int32) string { return p.ids[i] }
 
 // MarkHeight is the height of point number i's mark on the job's
 // reduction datum, as the chain takes it (reduce.LineHeights.MarkA and
@@ -75,18 +76,28 @@ type lineEnd struct {
 	scale float64
 }
 
-// planPoint is one control point as the per-row path needs it.
 // planProfile is an instrument profile and its name, the plan's string.
 type planProfile struct {
 	name string
 	*jobconfig.Profile
 }
 
+// planPoint is one control point as the per-row path and a new line need
+// it. It holds no pointer, so that the garbage collector, which runs often
+// to keep the peak memory down, passes over the array without reading it;
+// the ids are apart (Plan.ids).
 type planPoint struct {
-	id      string
-	hasMark bool
-	mark    reduce.MarkHeight // beside id: what every row reads
-	control Control
+	hasMark  bool
+	mark     reduce.MarkHeight // what every row reads
+	ll       s2.LatLng
+	grid     geodesic.GridPoint
+	scale    float64
+	hasScale bool
+}
+
+// control is the point as NewReduceLine takes it.
+func (pt *planPoint) control() Control {
+	return Control{LatLng: pt.ll, Grid: pt.grid, Scale: pt.scale, HasScale: pt.hasScale}
 }
 
 // NewPlan completes a plan: the marks' heights on the job's datum.
@@ -110,6 +121,7 @@ func NewPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, control 
 	for i, id := range ids {
 		ids[i], all = all[:len(id)], all[len(id):]
 	}
+	p.ids = ids
 	for _, id := range ids {
 		c := control[id]
 		m, ok, err := markHeight(c, j.Datum)
@@ -120,7 +132,7 @@ func NewPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, control 
 			p.Marks[id] = m
 		}
 		p.index[id] = int32(len(p.points))
-		p.points = append(p.points, planPoint{id: id, control: c, mark: m, hasMark: ok})
+		p.points = append(p.points, planPoint{hasMark: ok, mark: m, ll: c.LatLng, grid: c.Grid, scale: c.Scale, hasScale: c.HasScale})
 		p.ends = append(p.ends, lineEnd{ll: c.LatLng, scale: c.Scale})
 	}
 	return p, nil
@@ -432,7 +444,7 @@ func reduceOne(plan *Plan, p *geodesic.Projector, r *Result, readErr error) {
 		return
 	}
 	a, b := &plan.points[ia], &plan.points[ib]
-	o.From, o.To = a.id, b.id // the plan's strings: the row's may go
+	o.From, o.To = plan.ids[ia], plan.ids[ib] // the plan's strings: the row's may go
 	r.Points = [2]int32{ia, ib}
 	if !a.hasMark {
 		reject(fmt.Sprintf("%s: station %q has no height on the reduction datum (%s)", where, o.From, plan.Job.Datum))
