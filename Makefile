@@ -9,6 +9,9 @@ APT_PACKAGES   := pkg-config libproj-dev proj-data
 BENCH_OBS      ?= 1000000
 BENCH_DIR      ?= /tmp/geored-bench-$(BENCH_OBS)
 BENCH_REPEAT   ?= 7
+# BENCH_BASELINE: another geored binary (an earlier build) that make bench
+# times in the same rounds, e.g. make bench BENCH_BASELINE=/tmp/geored-old
+BENCH_BASELINE ?=
 
 .PHONY: all deps chromium bench-tools build test demo bench profile pgo vet clean
 
@@ -66,7 +69,7 @@ bench: deps bench-tools build
 	$(GO) test -run '^$$' -bench . -benchmem -count 3 -benchtime 200ms ./...
 	$(GO) build -o bin/georedbench ./cmd/georedbench
 	[ -f $(BENCH_DIR)/observations.csv ] || ./bin/georedbench gen -dir $(BENCH_DIR) -obs $(BENCH_OBS)
-	./bin/georedbench run -dir $(BENCH_DIR) -geored $(BIN) -repeat $(BENCH_REPEAT)
+	./bin/georedbench run -dir $(BENCH_DIR) -geored $(BIN) -repeat $(BENCH_REPEAT) $(if $(BENCH_BASELINE),-baseline $(BENCH_BASELINE))
 
 # profile: a CPU profile of geored reduce on the synthetic job, and where
 # the time goes.

@@ -34,6 +34,7 @@ func runBench(args []string) error {
 	geod := fs.String("geod", "geod", "PROJ's geod (empty to skip)")
 	repeat := fs.Int("repeat", 3, "runs of each command; the median is reported")
 	profile := fs.String("cpuprofile", "", "also write a CPU profile of one all-cores geored run here")
+	baseline := fs.String("baseline", "", "another geored binary (an earlier build) to time in the same rounds, on one core and on all cores")
 	if err := fs.Parse(args); err != nil {
 		return err
 	}
@@ -69,6 +70,20 @@ func runBench(args []string) error {
 	cmds = append(cmds,
 		command{"geored reduce, 1 worker", reduce("1", "out1"), "", filepath.Join(*dir, "out1")},
 		command{fmt.Sprintf("geored reduce, all cores (%d)", runtime.NumCPU()), reduce("0", "outN"), "", filepath.Join(*dir, "outN")})
+	if *baseline != "" {
+		// The same commands with the baseline build, in the same rounds:
+		// on this kind of machine only runs side by side compare.
+		base := func(workers, out string) []string {
+			argv := reduce(workers, out)
+			argv[0] = *baseline
+			return argv
+		}
+		name := filepath.Base(*baseline)
+		if _, err := exec.LookPath("taskset"); err == nil {
+			cmds = append(cmds, command{"baseline " + name + ", one core", append([]string{"taskset", "-c", "0"}, base("1", "outB0")...), "", filepath.Join(*dir, "outB0")})
+		}
+		cmds = append(cmds, command{fmt.Sprintf("baseline %s, all cores (%d)", name, runtime.NumCPU()), base("0", "outBN"), "", filepath.Join(*dir, "outBN")})
+	}
 	// Rounds of every command in turn, so that the machine's slow and
 	// fast spells fall on all of them alike; each command's median.
 	var run []command
