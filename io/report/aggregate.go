@@ -470,4 +470,4 @@ func (a *Aggregator) WriteLines(w io.Writer, u Units) error {
 }
 
 // lineBlock is the lines of one block of WriteLines.
-const lineBlock = 4096
+const lineBlock = 1024
