@@ -149,7 +149,7 @@ func (c *lineCache) line(id, a, b int32, plan *Plan) (reduce.Line, error) {
 		defer c.errMu.Unlock()
 		return reduce.Line{}, c.errs[id]
 	}
-	pa, pb := &plan.ends[a], &plan.ends[b]
+	pa, pb := &plan.points[a], &plan.points[b]
 	l := reduce.Line{A: pa.ll, B: pb.ll, Inverse: reduce.Inverse{Distance: rec.distance}, GridDistance: rec.grid,
 		Radius: rec.radius, CurvatureRate: rec.curvatureRate,
 		Scale: reduce.ScaleFactors{A: pa.scale, Mid: rec.kMid, B: pb.scale, Curvature: rec.curvature}}

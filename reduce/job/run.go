@@ -43,8 +43,7 @@ type Plan struct {
 	profiles map[string]planProfile // Job.Profiles, not copied per row
 	index    map[string]int32       // point id → position in points
 	points   []planPoint
-	ids      []string  // by position in points
-	ends     []lineEnd // by position in points: what every row's line needs
+	ids      []string // by position in points
 	// lines holds each line the plan's runs have met, computed once:
 	// it depends only on the plan.
 	lines *lineCache
@@ -69,23 +68,17 @@ func (p *Plan) KnownLine(id, a, b int32) (l reduce.Line, ok bool) {
 	return l, err == nil
 }
 
-// lineEnd is what a line needs of its end point, kept apart from the rest
-// of the point so that the per-row path reads a small array.
-type lineEnd struct {
-	ll    s2.LatLng
-	scale float64
-}
-
 // planProfile is an instrument profile and its name, the plan's string.
 type planProfile struct {
 	name string
 	*jobconfig.Profile
 }
 
-// planPoint is one control point as the per-row path and a new line need
-// it. It holds no pointer, so that the garbage collector, which runs often
-// to keep the peak memory down, passes over the array without reading it;
-// the ids are apart (Plan.ids).
+// planPoint is one control point as the per-row path needs it: the mark,
+// and the end and its scale factor for the row's line. It holds no
+// pointer, so that the garbage collector, which runs often to keep the
+// peak memory down, passes over the array without reading it; the ids
+// are apart (Plan.ids).
 type planPoint struct {
 	hasMark  bool
 	mark     reduce.MarkHeight // what every row reads
@@ -104,7 +97,7 @@ func (pt *planPoint) control() Control {
 func NewPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, control map[string]Control) (*Plan, error) {
 	p := &Plan{Job: j, CRS: crs, Geodesic: g, Control: control, Marks: map[string]reduce.MarkHeight{}, Workers: j.Workers,
 		index: make(map[string]int32, len(control)), lines: newLineCache(len(control)),
-		points: make([]planPoint, 0, len(control)), ends: make([]lineEnd, 0, len(control)),
+		points:   make([]planPoint, 0, len(control)),
 		profiles: make(map[string]planProfile, len(j.Profiles))}
 	for name, prof := range j.Profiles {
 		p.profiles[name] = planProfile{name, &prof}
@@ -133,7 +126,6 @@ func NewPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, control 
 		}
 		p.index[id] = int32(len(p.points))
 		p.points = append(p.points, planPoint{hasMark: ok, mark: m, ll: c.LatLng, grid: c.Grid, scale: c.Scale, hasScale: c.HasScale})
-		p.ends = append(p.ends, lineEnd{ll: c.LatLng, scale: c.Scale})
 	}
 	return p, nil
 }
