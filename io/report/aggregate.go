@@ -322,11 +322,7 @@ func (a *Aggregator) Finish(s *Summary) {
 	s.Counts.FlaggedLines = len(worst)
 	// At most MaxListedLines flagged lines are listed: the worst by |w|,
 	// in the order first observed.
-	if len(worst) > MaxListedLines {
-		sort.SliceStable(worst, func(x, y int) bool { return worst[x].w > worst[y].w })
-		worst = worst[:MaxListedLines]
-		sort.Slice(worst, func(x, y int) bool { return worst[x].i < worst[y].i })
-	}
+	worst = keepWorst(worst, MaxListedLines)
 	s.Lines = make([]Line, 0, len(worst))
 	limits := spreadLimits{critical: a.critical}
 	for _, f := range worst {
@@ -334,7 +330,7 @@ func (a *Aggregator) Finish(s *Summary) {
 	}
 	if n <= MaxListedLines {
 		for i := range n {
-			if a.flagged[i/64]&(1<<(i%64)) == 0 {
+			if !a.isFlagged(i) {
 				s.Lines = append(s.Lines, a.line(a.lines.at(i), &limits))
 			}
 		}
@@ -349,12 +345,28 @@ func (a *Aggregator) Finish(s *Summary) {
 // finishGrain is the fewest lines worth a goroutine of Finish.
 const finishGrain = 4096
 
-// flaggedLine is a flagged line's position in the aggregator and its
-// worst |w|.
+// flaggedLine is a flagged line's position (in the aggregator, or in a
+// summary's lines) and its worst |w|.
 type flaggedLine struct {
 	i int
 	w float64
 }
+
+// keepWorst keeps the at most n lines with the largest |w|, the first
+// observed of equals, in the order first observed (that of lines).
+func keepWorst(lines []flaggedLine, n int) []flaggedLine {
+	if len(lines) <= n {
+		return lines
+	}
+	sort.SliceStable(lines, func(x, y int) bool { return lines[x].w > lines[y].w })
+	lines = lines[:n]
+	sort.Slice(lines, func(x, y int) bool { return lines[x].i < lines[y].i })
+	return lines
+}
+
+// isFlagged reports whether line i (its position) is flagged, once Finish
+// has run.
+func (a *Aggregator) isFlagged(i int) bool { return a.flagged[i/64]&(1<<(i%64)) != 0 }
 
 // EachLine calls write for every line, flagged ones first, then in the
 // order first observed: the rows of lines.csv. The Line is reused after
@@ -365,7 +377,7 @@ func (a *Aggregator) EachLine(write func(*Line) error) error {
 	for pass := 0; pass < 2; pass++ {
 		for i := range a.lines.n {
 			if a.flagged != nil {
-				if (a.flagged[i/64]&(1<<(i%64)) != 0) != (pass == 0) {
+				if a.isFlagged(i) != (pass == 0) {
 					continue
 				}
 				l = a.line(a.lines.at(i), &limits)
@@ -446,7 +458,7 @@ func (a *Aggregator) WriteLines(w io.Writer, u Units) error {
 					buf = make([]byte, 0, lineBlock*128)
 				}
 				for i := lo; i < min(lo+lineBlock, a.lines.n); i++ {
-					if (a.flagged[i/64]&(1<<(i%64)) != 0) == flagged {
+					if a.isFlagged(i) == flagged {
 						l = a.line(a.lines.at(i), &limits)
 						buf = AppendLineRow(buf, &l, u)
 					}

@@ -7,7 +7,6 @@ import (
 	"math"
 	"regexp"
 	"slices"
-	"sort"
 	"strings"
 
 	"gonum.org/v1/plot"
@@ -485,19 +484,15 @@ func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
 // worstFlagged marks the at most n flagged lines with the largest |w|
 // (the first observed of equals), by position in lines.
 func worstFlagged(lines []Line, n int) []bool {
-	var idx []int
+	var flagged []flaggedLine
 	for i, l := range lines {
 		if l.Flagged() {
-			idx = append(idx, i)
+			flagged = append(flagged, flaggedLine{i, l.MaxAbsW})
 		}
 	}
-	if len(idx) > n {
-		sort.SliceStable(idx, func(a, b int) bool { return lines[idx[a]].MaxAbsW > lines[idx[b]].MaxAbsW })
-		idx = idx[:n]
-	}
 	marked := make([]bool, len(lines))
-	for _, i := range idx {
-		marked[i] = true
+	for _, f := range keepWorst(flagged, n) {
+		marked[f.i] = true
 	}
 	return marked
 }
