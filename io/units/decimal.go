@@ -31,26 +31,12 @@ func parseShortDecimal(s string) (float64, bool) {
 	if s[0] == '-' || s[0] == '+' {
 		neg, i = s[0] == '-', 1
 	}
-	var m uint64
 	start := i
-	for ; i < len(s); i++ {
-		c := s[i] - '0'
-		if c > 9 {
-			break
-		}
-		m = m*10 + uint64(c)
-	}
+	i, m := appendDigits(s, i, 0)
 	digits, frac := i-start, 0
 	if i < len(s) && s[i] == '.' {
-		i++
-		start = i
-		for ; i < len(s); i++ {
-			c := s[i] - '0'
-			if c > 9 {
-				break
-			}
-			m = m*10 + uint64(c)
-		}
+		start = i + 1
+		i, m = appendDigits(s, start, m)
 		frac = i - start
 		digits += frac
 	}
@@ -62,4 +48,17 @@ func parseShortDecimal(s string) (float64, bool) {
 		v = -v
 	}
 	return v, true
+}
+
+// appendDigits reads the decimal digits of s from i on into m, as its
+// lower places, and returns where they end and m.
+func appendDigits(s string, i int, m uint64) (int, uint64) {
+	for ; i < len(s); i++ {
+		c := s[i] - '0'
+		if c > 9 {
+			break
+		}
+		m = m*10 + uint64(c)
+	}
+	return i, m
 }
