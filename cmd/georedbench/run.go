@@ -57,32 +57,32 @@ func runBench(args []string) error {
 		stdin string
 		out   string // output folder, removed before each run (untimed)
 	}
-	reduce := func(workers, out string) []string {
-		return []string{*geored, "reduce", "-config", job, "-quiet", "-workers", workers, "-out", filepath.Join(*dir, out)}
-	}
 	cmds := []command{
 		{"parse floor (encoding/csv + strconv)", []string{self, "floor", obsFile}, "", ""},
 		{"geod -I (inverses only)", []string{*geod, "+ellps=GRS80", "-I", "-f", "%.4f"}, filepath.Join(*dir, "geod.txt"), ""},
 	}
-	if _, err := exec.LookPath("taskset"); err == nil {
-		cmds = append(cmds, command{"geored reduce, one core (taskset -c 0)", append([]string{"taskset", "-c", "0"}, reduce("1", "out0")...), "", filepath.Join(*dir, "out0")})
+	_, tasksetErr := exec.LookPath("taskset")
+	// reduces are a geored binary's runs: on one core (where taskset is),
+	// on 1 worker if asked, and on all cores, into folders named from out.
+	reduces := func(name, bin, out string, oneWorker bool) {
+		cmd := func(label, workers, sub string, prefix ...string) command {
+			folder := filepath.Join(*dir, sub)
+			argv := append(prefix, bin, "reduce", "-config", job, "-quiet", "-workers", workers, "-out", folder)
+			return command{name + ", " + label, argv, "", folder}
+		}
+		if tasksetErr == nil {
+			cmds = append(cmds, cmd("one core (taskset -c 0)", "1", out+"0", "taskset", "-c", "0"))
+		}
+		if oneWorker {
+			cmds = append(cmds, cmd("1 worker", "1", out+"1"))
+		}
+		cmds = append(cmds, cmd(fmt.Sprintf("all cores (%d)", runtime.NumCPU()), "0", out+"N"))
 	}
-	cmds = append(cmds,
-		command{"geored reduce, 1 worker", reduce("1", "out1"), "", filepath.Join(*dir, "out1")},
-		command{fmt.Sprintf("geored reduce, all cores (%d)", runtime.NumCPU()), reduce("0", "outN"), "", filepath.Join(*dir, "outN")})
+	reduces("geored reduce", *geored, "out", true)
 	if *baseline != "" {
-		// The same commands with the baseline build, in the same rounds:
-		// on this kind of machine only runs side by side compare.
-		base := func(workers, out string) []string {
-			argv := reduce(workers, out)
-			argv[0] = *baseline
-			return argv
-		}
-		name := filepath.Base(*baseline)
-		if _, err := exec.LookPath("taskset"); err == nil {
-			cmds = append(cmds, command{"baseline " + name + ", one core", append([]string{"taskset", "-c", "0"}, base("1", "outB0")...), "", filepath.Join(*dir, "outB0")})
-		}
-		cmds = append(cmds, command{fmt.Sprintf("baseline %s, all cores (%d)", name, runtime.NumCPU()), base("0", "outBN"), "", filepath.Join(*dir, "outBN")})
+		// The baseline build in the same rounds: on this kind of machine
+		// only runs side by side compare.
+		reduces("baseline "+filepath.Base(*baseline), *baseline, "outB", false)
 	}
 	// Rounds of every command in turn, so that the machine's slow and
 	// fast spells fall on all of them alike; each command's median.
