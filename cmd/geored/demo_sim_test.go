@@ -84,7 +84,10 @@ func simulateDemo(t *testing.T) []byte {
 				}
 				obs := reduce.Observation{InstrumentHeight: hi, TargetHeight: ht, PrismConstant: prism,
 					Meteorology: reduce.Meteorology{Instrument: met, HaveInstrument: true}}
-				p, err := reduce.Predict(obs, trueProf, line, plan.Marks[from], plan.Marks[to])
+				mFrom, okFrom := plan.Mark(from)
+				mTo, okTo := plan.Mark(to)
+				require.True(t, okFrom && okTo)
+				p, err := reduce.Predict(obs, trueProf, line, mFrom, mTo)
 				require.NoError(t, err)
 				d := p.Displayed.Slope
 				edm := math.Hypot(1e-3, 1.5e-6*d)

@@ -128,7 +128,7 @@ func (w *jobWorld) mark(id, role string, at sightSource) (job.Control, reduce.Ma
 	if !ok {
 		return c, reduce.MarkHeight{}, fmt.Errorf("%s: %s %q is not in %s", at, role, id, w.job.Points)
 	}
-	m, ok := w.plan.Marks[id]
+	m, ok := w.plan.Mark(id)
 	if !ok {
 		return c, m, fmt.Errorf("%s: %s %q has no height on the reduction datum (%s) in %s", at, role, id, w.job.Datum, w.job.Points)
 	}

@@ -192,6 +192,9 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 	if err != nil {
 		return nil, err
 	}
+	// The plan holds what the run needs of the points: the session's map
+	// of them (about 300 bytes a point) is not kept through the run.
+	s.control, s.order = nil, nil
 	ph := sha256.Sum256(pointsData)
 	sum.Inputs = append(sum.Inputs, report.InputFile{Role: "points", Path: pointsName, SHA256: hex.EncodeToString(ph[:]), Rows: nPoints})
 
@@ -262,6 +265,7 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 	if err != nil {
 		return nil, err
 	}
+	plan.EndRuns() // the summary and lines.csv need the lines, not finding them
 	// The big files are written: they go to disk while the summary is made.
 	reduced.StartSync()
 	rejects.StartSync()

@@ -196,7 +196,12 @@ func gen(args []string) error {
 		met := reduce.Atmosphere{TemperatureC: 5 + rng.Float64()*20, PressureHPa: 990 + rng.Float64()*20, HumidityPct: 40 + rng.Float64()*50}
 		obs := reduce.Observation{InstrumentHeight: hi, TargetHeight: ht, PrismConstant: prof.PrismConstant,
 			Meteorology: reduce.Meteorology{Instrument: met, HaveInstrument: true}}
-		p, err := reduce.Predict(obs, prof.Chain, *cache[li][dir], plan.Marks[a], plan.Marks[b])
+		ma, okA := plan.Mark(a)
+		mb, okB := plan.Mark(b)
+		if !okA || !okB {
+			return fmt.Errorf("observation %d (%s → %s): a point has no mark height", k, a, b)
+		}
+		p, err := reduce.Predict(obs, prof.Chain, *cache[li][dir], ma, mb)
 		if err != nil {
 			return fmt.Errorf("observation %d (%s → %s): %w", k, a, b, err)
 		}

@@ -88,6 +88,12 @@ func newLineCache(points int) *lineCache {
 	return &lineCache{adj: make([][]lineRef, points), errs: map[int32]error{}}
 }
 
+// endFinding frees the lists that find lines; the lines' records stay.
+func (c *lineCache) endFinding() { c.adj = nil }
+
+// ended reports whether endFinding has run.
+func (c *lineCache) ended() bool { return c.adj == nil }
+
 // find looks the line from lo to hi up in lo's list (under lo's shard
 // lock): its number, or where to insert it.
 func (c *lineCache) find(lo, hi int32) (id int32, at int, ok bool) {

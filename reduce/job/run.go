@@ -30,11 +30,7 @@ type Plan struct {
 	Job      *jobconfig.Job
 	CRS      *geodesic.CRS
 	Geodesic *geodesic.Geodesic
-	Control  map[string]Control
-	// Marks are the control points' heights on the job's reduction datum;
-	// a point missing here has no usable height.
-	Marks   map[string]reduce.MarkHeight
-	Workers int // 0: all cores
+	Workers  int // 0: all cores
 	// Format, if set, turns each result into its output row in the
 	// workers, so that formatting runs in parallel; the sink finds the
 	// row in Result.Row.
@@ -51,6 +47,22 @@ type Plan struct {
 
 // PointID is the id of the plan's point number i (Result.Points).
 func (p *Plan) PointID(i int32) string { return p.ids[i] }
+
+// EndRuns tells the plan that no more runs will use it. It frees what
+// only finding a line from its end points needs (each point's list of its
+// lines: about 18 bytes a line), and keeps what KnownLine, PointID, Mark
+// and MarkHeight read. Run on an ended plan is an error.
+func (p *Plan) EndRuns() { p.lines.endFinding() }
+
+// Mark is the height of the point id's mark on the job's reduction
+// datum; false when the point is not in the plan or has no usable height.
+func (p *Plan) Mark(id string) (reduce.MarkHeight, bool) {
+	i, ok := p.index[id]
+	if !ok || !p.points[i].hasMark {
+		return reduce.MarkHeight{}, false
+	}
+	return p.points[i].mark, true
+}
 
 // MarkHeight is the height of point number i's mark on the job's
 // reduction datum, as the chain takes it (reduce.LineHeights.MarkA and
@@ -93,9 +105,10 @@ func (pt *planPoint) control() Control {
 	return Control{LatLng: pt.ll, Grid: pt.grid, Scale: pt.scale, HasScale: pt.hasScale}
 }
 
-// NewPlan completes a plan: the marks' heights on the job's datum.
+// NewPlan completes a plan: the marks' heights on the job's datum. The
+// plan keeps of control what a run needs, and not the map.
 func NewPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, control map[string]Control) (*Plan, error) {
-	p := &Plan{Job: j, CRS: crs, Geodesic: g, Control: control, Marks: map[string]reduce.MarkHeight{}, Workers: j.Workers,
+	p := &Plan{Job: j, CRS: crs, Geodesic: g, Workers: j.Workers,
 		index: make(map[string]int32, len(control)), lines: newLineCache(len(control)),
 		points:   make([]planPoint, 0, len(control)),
 		profiles: make(map[string]planProfile, len(j.Profiles))}
@@ -120,9 +133,6 @@ func NewPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, control 
 		m, ok, err := markHeight(c, j.Datum)
 		if err != nil {
 			return nil, fmt.Errorf("point %q (line %d): %w", id, c.Line, err)
-		}
-		if ok {
-			p.Marks[id] = m
 		}
 		p.index[id] = int32(len(p.points))
 		p.points = append(p.points, planPoint{hasMark: ok, mark: m, ll: c.LatLng, grid: c.Grid, scale: c.Scale, hasScale: c.HasScale})
@@ -213,6 +223,9 @@ type batch struct {
 // before it have reached the sink (for a file that cannot be read on, the
 // rows of the chunks before the one that failed).
 func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Warning), sink Sink) error {
+	if plan.lines.ended() {
+		return errors.New("the plan's runs have ended (Plan.EndRuns)")
+	}
 	workers := plan.Workers
 	if workers <= 0 {
 		workers = runtime.GOMAXPROCS(0)

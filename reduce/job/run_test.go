@@ -72,14 +72,17 @@ func observations(t *testing.T, plan *Plan, p *geodesic.Projector) string {
 			if i == k {
 				continue
 			}
-			a, c := plan.Control[fmt.Sprintf("M%d", i)], plan.Control[fmt.Sprintf("M%d", k)]
-			line, _, err := NewReduceLine(a, c, plan.Geodesic, p)
+			a, c := fmt.Sprintf("M%d", i), fmt.Sprintf("M%d", k)
+			line, _, err := NewReduceLine(plan.points[plan.index[a]].control(), plan.points[plan.index[c]].control(), plan.Geodesic, p)
 			require.NoError(t, err)
 			obs := reduce.Observation{InstrumentHeight: 1.6, TargetHeight: 1.5, PrismConstant: prof.PrismConstant,
 				Meteorology: reduce.Meteorology{Instrument: reduce.Atmosphere{TemperatureC: 18, PressureHPa: 1001, HumidityPct: 70}, HaveInstrument: true}}
-			pr, err := reduce.Predict(obs, prof.Chain, line, plan.Marks[a.ID], plan.Marks[c.ID])
+			ma, okA := plan.Mark(a)
+			mc, okC := plan.Mark(c)
+			require.True(t, okA && okC)
+			pr, err := reduce.Predict(obs, prof.Chain, line, ma, mc)
 			require.NoError(t, err)
-			fmt.Fprintf(&b, "%s,%s,%.9f,%.12f,1.6,1.5,18,1001,70,\n", a.ID, c.ID, pr.Displayed.Slope, pr.Observation.Zenith.Degrees())
+			fmt.Fprintf(&b, "%s,%s,%.9f,%.12f,1.6,1.5,18,1001,70,\n", a, c, pr.Displayed.Slope, pr.Observation.Zenith.Degrees())
 		}
 	}
 	b.WriteString("M0,M9,100,90,1.6,1.5,18,1001,70,\n")    // unknown target
@@ -148,6 +151,16 @@ func TestRunReducesInInputOrder(t *testing.T) {
 			assert.Equal(t, good+2+k, r.LineNo)
 			assert.NotEmpty(t, r.Raw)
 		}
+		// Once the runs end, the lines are still known, and a run is refused.
+		plan.EndRuns()
+		for i, r := range got[:good] {
+			l, ok := plan.KnownLine(r.LineID, r.Points[0], r.Points[1])
+			require.True(t, ok, "row %d", i)
+			require.Equal(t, r.Line, l, "row %d's line after the runs ended", i)
+		}
+		err = Run(context.Background(), plan, []Source{{Name: "obs.csv", Reader: strings.NewReader(data)}},
+			func(obsfile.Warning) {}, func(*Result) error { return nil })
+		require.ErrorContains(t, err, "runs have ended")
 		if first == nil {
 			first = got
 			continue
