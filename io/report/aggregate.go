@@ -29,29 +29,38 @@ type Aggregator struct {
 
 	counts    Counts
 	ell, grid statsAcc
-	pos       []int32 // by job.Result.LineID: 1 + position in lines, 0 if not seen
 	lines     lineAccs
-	flagged   []uint64 // bit i: line i is flagged, once Finish has run
+	order     []int32  // the lines' numbers (job.Result.LineID) in the order first observed
+	flagged   []uint64 // bit i: line order[i] is flagged, once Finish has run
 }
 
-// lineAccs are the lines' records in chunks, so that growing never copies
-// them.
+// lineAccs are the lines' records by number (job.Result.LineID), in
+// chunks made as numbers come, so that growing never copies them. A
+// record with no observations is a line not (yet) observed.
 type lineAccs struct {
 	chunks []*[lineAccChunk]lineAcc
-	n      int
 }
 
 const lineAccChunk = 4096
 
-func (s *lineAccs) add() *lineAcc {
-	if s.n%lineAccChunk == 0 {
-		s.chunks = append(s.chunks, new([lineAccChunk]lineAcc))
+// get returns line id's record, making its chunk if need be.
+func (s *lineAccs) get(id int32) *lineAcc {
+	c := int(id) / lineAccChunk
+	for c >= len(s.chunks) {
+		s.chunks = append(s.chunks, nil)
 	}
-	s.n++
-	return s.at(s.n - 1)
+	if s.chunks[c] == nil {
+		s.chunks[c] = new([lineAccChunk]lineAcc)
+	}
+	return &s.chunks[c][int(id)%lineAccChunk]
 }
 
-func (s *lineAccs) at(i int) *lineAcc { return &s.chunks[i/lineAccChunk][i%lineAccChunk] }
+// at returns the record of the line at position i in the order first
+// observed, and its number.
+func (a *Aggregator) at(i int) (*lineAcc, int32) {
+	id := a.order[i]
+	return &a.lines.chunks[id/lineAccChunk][id%lineAccChunk], id
+}
 
 // A LineSource gives the control a run reduced against: a line's
 // geometry by its number and end points (job.Result's LineID and Points),
@@ -70,11 +79,9 @@ func NewAggregator(critical float64, tolerance reduce.DistanceSpec, hasTolerance
 	return &Aggregator{critical: critical, tolerance: tolerance, hasTol: hasTolerance, control: control}
 }
 
-// lineAcc accumulates one line's observations.
+// lineAcc accumulates one line's observations; 112 bytes.
 type lineAcc struct {
 	from, to           int32 // point numbers, in the direction first observed
-	id                 int32 // job.Result.LineID
-	n                  int32
 	outliers, outOfTol int32
 	dirN               [2]int32 // observations from → to as first seen, and the other way
 	mean, m2           float64  // Welford: mean reduced arc and sum of squared deviations
@@ -140,31 +147,28 @@ func (a *Aggregator) Add(r *job.Result) {
 	a.ell.add(e.Residual*1e3, e.PPM, e.Standardized)
 	a.grid.add(red.GridResidual.Residual*1e3, red.GridResidual.PPM, red.GridResidual.Standardized)
 
-	for int(r.LineID) >= len(a.pos) {
-		a.pos = append(a.pos, 0)
-	}
 	from, to := r.Points[0], r.Points[1]
-	var l *lineAcc
+	l := a.lines.get(r.LineID)
 	dir := 0
-	if p := a.pos[r.LineID]; p == 0 {
-		l = a.lines.add()
-		*l = lineAcc{from: from, to: to, id: r.LineID}
-		a.pos[r.LineID] = int32(a.lines.n)
-	} else if l = a.lines.at(int(p) - 1); l.from != from {
+	if l.count() == 0 {
+		l.from, l.to = from, to
+		a.order = append(a.order, r.LineID)
+	} else if l.from != from {
 		dir = 1
 	}
+	l.dirN[dir]++
+	n := l.count()
 	arc := red.Geometry.Arc
-	l.n++
 	d := arc - l.mean
-	l.mean += d / float64(l.n)
+	l.mean += d / float64(n)
 	l.m2 += d * (arc - l.mean)
-	if l.n == 1 || arc < l.min {
+	if n == 1 || arc < l.min {
 		l.min = arc
 	}
-	if l.n == 1 || arc > l.max {
+	if n == 1 || arc > l.max {
 		l.max = arc
 	}
-	l.gridMean += (red.Grid.GridDistance - l.gridMean) / float64(l.n)
+	l.gridMean += (red.Grid.GridDistance - l.gridMean) / float64(n)
 	l.sumVar += e.Sigma * e.Sigma
 	l.maxAbsW = math.Max(l.maxAbsW, math.Abs(e.Standardized))
 	if e.Outlier {
@@ -178,10 +182,12 @@ func (a *Aggregator) Add(r *job.Result) {
 	// (raising the target by HT lowers z by HT sin z / S; raising the
 	// instrument by HI raises it alike).
 	z, slope := float64(r.Obs.Zenith), red.SecondVelocity.Distance
-	l.dirN[dir]++
 	l.zenith[dir] += z + (r.Obs.TargetHeight-r.Obs.InstrumentHeight)*math.Sin(z)/slope
 	l.slope[dir] += slope
 }
+
+// count is the line's observations, either way.
+func (l *lineAcc) count() int32 { return l.dirN[0] + l.dirN[1] }
 
 // Line flags.
 const (
@@ -190,17 +196,19 @@ const (
 	FlagSpread    = "spread"    // the observations disagree more than their σ allows
 )
 
-func (a *Aggregator) line(l *lineAcc, limits *spreadLimits) Line {
-	ctl, _ := a.control.KnownLine(l.id, l.from, l.to) // every line reduced is known
-	out := Line{From: a.control.PointID(l.from), To: a.control.PointID(l.to), Count: int(l.n), Reciprocal: l.dirN[0] > 0 && l.dirN[1] > 0,
+// line is the summary of line number id, whose record is l.
+func (a *Aggregator) line(id int32, l *lineAcc, limits *spreadLimits) Line {
+	ctl, _ := a.control.KnownLine(id, l.from, l.to) // every line reduced is known
+	n := l.count()
+	out := Line{From: a.control.PointID(l.from), To: a.control.PointID(l.to), Count: int(n), Reciprocal: l.dirN[0] > 0 && l.dirN[1] > 0,
 		Geodesic: ctl.Inverse.Distance, Grid: ctl.GridDistance, MeanArc: l.mean, SpreadMM: (l.max - l.min) * 1e3,
 		MaxAbsW: l.maxAbsW}
-	if l.n > 1 {
-		out.StdDevMM = math.Sqrt(l.m2/float64(l.n-1)) * 1e3
+	if n > 1 {
+		out.StdDevMM = math.Sqrt(l.m2/float64(n-1)) * 1e3
 	}
 	res := l.mean - out.Geodesic
-	sigmaObs := math.Sqrt(l.sumVar / float64(l.n)) // typical σ of one observation
-	sigmaMean := math.Sqrt(l.sumVar) / float64(l.n)
+	sigmaObs := math.Sqrt(l.sumVar / float64(n)) // typical σ of one observation
+	sigmaMean := math.Sqrt(l.sumVar) / float64(n)
 	out.ResidualMM, out.ResidualPPM, out.SigmaMM = res*1e3, res/out.Geodesic*1e6, sigmaMean*1e3
 	out.gridResidualMM = (l.gridMean - out.Grid) * 1e3
 	if out.Reciprocal {
@@ -228,7 +236,7 @@ func (a *Aggregator) line(l *lineAcc, limits *spreadLimits) Line {
 	// follows χ² with n − 1 degrees of freedom; the line is flagged above
 	// its upper quantile at the α of the job's critical value. For two
 	// observations this is |x₁ − x₂| > critical·√2·σ.
-	if l.n > 1 && sigmaObs > 0 && l.m2/(sigmaObs*sigmaObs) > limits.at(int(l.n)-1) {
+	if n > 1 && sigmaObs > 0 && l.m2/(sigmaObs*sigmaObs) > limits.at(int(n)-1) {
 		out.Flags = append(out.Flags, FlagSpread)
 	}
 	return out
@@ -276,9 +284,9 @@ func (s *spreadLimits) at(dof int) float64 {
 // so the summary does not depend on the number of cores.
 func (a *Aggregator) Finish(s *Summary) {
 	s.Counts = a.counts
-	s.Counts.Lines = a.lines.n
+	s.Counts.Lines = len(a.order)
 	s.Residuals = ResidualStats{Ellipsoid: a.ell.stats(), Grid: a.grid.stats()}
-	n := a.lines.n
+	n := len(a.order)
 	ell := make([]float64, n)
 	grid := make([]float64, n)
 	a.flagged = make([]uint64, (n+63)/64)
@@ -296,7 +304,8 @@ func (a *Aggregator) Finish(s *Summary) {
 			var worst []flaggedLine
 			limits := spreadLimits{critical: a.critical}
 			for i := lo; i < hi; i++ {
-				l := a.line(a.lines.at(i), &limits)
+				rec, id := a.at(i)
+				l := a.line(id, rec, &limits)
 				ell[i], grid[i] = l.ResidualMM, l.gridResidualMM
 				if l.SigmaMM > 0 {
 					fit[k] = fitPoint{x: l.Geodesic, y: l.ResidualMM, w: 1 / (l.SigmaMM * l.SigmaMM)}
@@ -326,12 +335,14 @@ func (a *Aggregator) Finish(s *Summary) {
 	s.Lines = make([]Line, 0, len(worst))
 	limits := spreadLimits{critical: a.critical}
 	for _, f := range worst {
-		s.Lines = append(s.Lines, a.line(a.lines.at(f.i), &limits))
+		rec, id := a.at(f.i)
+		s.Lines = append(s.Lines, a.line(id, rec, &limits))
 	}
 	if n <= MaxListedLines {
 		for i := range n {
 			if !a.isFlagged(i) {
-				s.Lines = append(s.Lines, a.line(a.lines.at(i), &limits))
+				rec, id := a.at(i)
+				s.Lines = append(s.Lines, a.line(id, rec, &limits))
 			}
 		}
 	}
@@ -375,13 +386,14 @@ func (a *Aggregator) EachLine(write func(*Line) error) error {
 	var l Line // one for all: write may keep a pointer, so l lives on the heap
 	limits := spreadLimits{critical: a.critical}
 	for pass := 0; pass < 2; pass++ {
-		for i := range a.lines.n {
+		for i := range a.order {
+			rec, id := a.at(i)
 			if a.flagged != nil {
 				if a.isFlagged(i) != (pass == 0) {
 					continue
 				}
-				l = a.line(a.lines.at(i), &limits)
-			} else if l = a.line(a.lines.at(i), &limits); l.Flagged() != (pass == 0) {
+				l = a.line(id, rec, &limits)
+			} else if l = a.line(id, rec, &limits); l.Flagged() != (pass == 0) {
 				continue
 			}
 			if err := write(&l); err != nil {
@@ -423,7 +435,7 @@ func (a *Aggregator) WriteLines(w io.Writer, u Units) error {
 	}
 	// Block k covers positions [k·lineBlock, (k+1)·lineBlock) of the
 	// flagged lines (pass 0, the first blocks), then of the others.
-	perPass := (a.lines.n + lineBlock - 1) / lineBlock
+	perPass := (len(a.order) + lineBlock - 1) / lineBlock
 	blocks := 2 * perPass
 	done := make([]chan []byte, blocks)
 	for k := range done {
@@ -457,9 +469,10 @@ func (a *Aggregator) WriteLines(w io.Writer, u Units) error {
 				default:
 					buf = make([]byte, 0, lineBlock*128)
 				}
-				for i := lo; i < min(lo+lineBlock, a.lines.n); i++ {
+				for i := lo; i < min(lo+lineBlock, len(a.order)); i++ {
 					if a.isFlagged(i) == flagged {
-						l = a.line(a.lines.at(i), &limits)
+						rec, id := a.at(i)
+						l = a.line(id, rec, &limits)
 						buf = AppendLineRow(buf, &l, u)
 					}
 				}

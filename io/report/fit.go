@@ -30,7 +30,6 @@ type fitPoint struct{ x, y, w float64 }
 
 // fitLine is FitResiduals on prepared points; it reorders pts.
 func fitLine(pts []fitPoint, critical float64) *Fit {
-	t := make([]float64, len(pts))
 	for round := 0; ; round++ {
 		if len(pts) < 3 {
 			return nil
@@ -49,18 +48,24 @@ func fitLine(pts []fitPoint, critical float64) *Fit {
 		}
 		c := (swxx*swy - swx*swxy) / det
 		s := (sw*swxy - swx*swy) / det
+		// t is a line's standardized residual from the fit: |v| over the
+		// σ of v, which is σ² less the fit's variance at x. It is
+		// computed again where it is needed rather than kept, which would
+		// cost 8 bytes a line at the summary's peak.
+		t := func(p fitPoint) float64 {
+			v := p.y - (c + s*p.x)
+			fitVar := (swxx - 2*p.x*swx + p.x*p.x*sw) / det
+			if qv := 1/p.w - fitVar; qv > 0 {
+				return math.Abs(v) / math.Sqrt(qv)
+			}
+			return 0
+		}
 		var vpv float64
 		worstT := 0.0
-		for i, p := range pts {
+		for _, p := range pts {
 			v := p.y - (c + s*p.x)
 			vpv += p.w * v * v
-			// σ of the residual v: σ² − the fit's variance at x.
-			fitVar := (swxx - 2*p.x*swx + p.x*p.x*sw) / det
-			t[i] = 0
-			if qv := 1/p.w - fitVar; qv > 0 {
-				t[i] = math.Abs(v) / math.Sqrt(qv)
-			}
-			worstT = math.Max(worstT, t[i])
+			worstT = math.Max(worstT, t(p))
 		}
 		n := len(pts)
 		s0sq := vpv / float64(n-2)
@@ -72,12 +77,12 @@ func fitLine(pts []fitPoint, critical float64) *Fit {
 		if worstT > critical && n > 3 && round < maxFitRounds {
 			cut := math.Max(critical, worstT/2)
 			kept := pts[:0]
-			for i, p := range pts {
-				if t[i] <= cut {
+			for _, p := range pts {
+				if t(p) <= cut {
 					kept = append(kept, p)
 				}
 			}
-			pts, t = kept, t[:len(kept)]
+			pts = kept
 			continue
 		}
 		sc := math.Sqrt(s0sq * swxx / det)

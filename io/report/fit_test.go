@@ -87,8 +87,7 @@ func TestSummaryListsTheWorstFlaggedLines(t *testing.T) {
 	a := NewAggregator(3.29, reduce.DistanceSpec{}, false, sameLine{Inverse: reduce.Inverse{Distance: 1000}, GridDistance: 1000, Radius: 6.4e6})
 	n := MaxListedLines * 3
 	for i := range n {
-		acc := a.lines.add()
-		*acc = lineAcc{from: 0, to: 1, id: int32(i), n: 1, mean: 1000, sumVar: 1e-6, maxAbsW: float64(i % 7)}
+		acc := observed(a, int32(n-1-i), lineAcc{from: 0, to: 1, dirN: [2]int32{1, 0}, mean: 1000, sumVar: 1e-6, maxAbsW: float64(i % 7)})
 		if i%2 == 0 {
 			acc.outliers, acc.maxAbsW = 1, 4+float64(i)
 		}
@@ -107,6 +106,16 @@ func TestSummaryListsTheWorstFlaggedLines(t *testing.T) {
 	}
 }
 
+// observed gives a the record l of the next line first observed, under
+// number id (numbered here otherwise than in that order, as a run's lines
+// may be).
+func observed(a *Aggregator, id int32, l lineAcc) *lineAcc {
+	acc := a.lines.get(id)
+	*acc = l
+	a.order = append(a.order, id)
+	return acc
+}
+
 // sameLine is a LineSource whose every line is the same, between points
 // A (0) and B (1) with marks at 0 m.
 type sameLine reduce.Line
@@ -122,9 +131,9 @@ func TestWriteLinesInEachLinesOrder(t *testing.T) {
 	u := Units{Length: units.Metre, Angle: units.Degrees}
 	build := func() *Aggregator {
 		a := NewAggregator(3.29, reduce.DistanceSpec{}, false, sameLine{Inverse: reduce.Inverse{Distance: 1000}, GridDistance: 1000, Radius: 6.4e6})
-		for i := range 3*lineBlock + 17 {
-			acc := a.lines.add()
-			*acc = lineAcc{from: 0, to: 1, id: int32(i), n: 1, mean: 1000 + float64(i)*1e-5, sumVar: 1e-6, maxAbsW: float64(i % 7)}
+		n := 3*lineBlock + 17
+		for i := range n {
+			acc := observed(a, int32(n-1-i), lineAcc{from: 0, to: 1, dirN: [2]int32{1, 0}, mean: 1000 + float64(i)*1e-5, sumVar: 1e-6, maxAbsW: float64(i % 7)})
 			if i%5 == 0 || (i > lineBlock && i < lineBlock+40) {
 				acc.outliers, acc.maxAbsW = 1, 4+float64(i)
 			}
