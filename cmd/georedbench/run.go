@@ -129,6 +129,13 @@ func runBench(args []string) error {
 		}
 	}
 	report(os.Stdout, ms, rows, *repeat)
+	// What geored's peak holds before any work: the binary and the
+	// libraries it maps (PROJ's and theirs), and the runtime.
+	_, _, startRSS, err := timeCommand([]string{*geored, "version"}, "")
+	if err != nil {
+		return fmt.Errorf("geored version: %w", err)
+	}
+	fmt.Printf("\ngeored version (start-up only): peak RSS %.1f MB\n", float64(startRSS)/1024)
 	return nil
 }
 
