@@ -160,6 +160,10 @@ func (c *lineCache) line(id, a, b int32, plan *Plan) (reduce.Line, error) {
 		Radius: rec.radius, CurvatureRate: rec.curvatureRate,
 		Scale: reduce.ScaleFactors{A: pa.scale, Mid: rec.kMid, B: pb.scale, Curvature: rec.curvature}}
 	if a > b {
+		// Seen from the higher point: the ends and their scale factors
+		// are already a's and b's, and the signed rates turn, as in
+		// reduce.Line.Reversed (whose azimuths the record does not keep;
+		// TestLineCache holds the two to the same line).
 		l.CurvatureRate, l.Scale.Curvature = -l.CurvatureRate, -l.Scale.Curvature
 	}
 	return l, nil
