@@ -31,8 +31,8 @@ func runDemo(args []string, stdout, stderr io.Writer) int {
 	fs.Usage = func() {
 		fmt.Fprintln(stderr, "Usage: geored demo [-out DIR]\n\nReduces the embedded demo job — an invented river-crossing control network in")
 		fmt.Fprintln(stderr, "ETRS89 / UTM zone 32N with simulated observations and three deliberate blunders —")
-		fmt.Fprintln(stderr, "into DIR and names its report. It exits 0 when the run completed: its flags are")
-		fmt.Fprintln(stderr, "expected.\n\nFlags:")
+		fmt.Fprintln(stderr, "into DIR and names its report. It exits with the status reduce would give the")
+		fmt.Fprintln(stderr, "job, the one its report shows: 1, since its blunders are flagged by design.\n\nFlags:")
 		fs.PrintDefaults()
 	}
 	if ok, code := parseFlags(fs, args, stderr); !ok {
@@ -63,7 +63,7 @@ func runDemo(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintln(stdout)
 		printVerdict(stdout, sum, j.Out)
 	}
-	return exitOK
+	return sum.ExitStatus
 }
 
 // demoJob is the embedded job, writing to out.

@@ -15,7 +15,7 @@ import (
 type jobFlags struct {
 	config                                                 string
 	crs, points, out, lengthUnit, angleUnit, datum, geoid  string
-	geoidN, k, critical                                    float64
+	geoidN, k, critical, jobAlpha, globalAlpha             float64
 	tolerance, atmosphere                                  string
 	workers                                                int
 	profile, wavelength, refAtmos, spec                    string
@@ -35,6 +35,8 @@ func (f *jobFlags) register(fs *flag.FlagSet) {
 	fs.Float64Var(&f.geoidN, "geoid-separation-m", 0, "one geoid separation N for the whole job, metres (config: geoid_separation_m)")
 	fs.Float64Var(&f.k, "k", 0, "coefficient of refraction, dimensionless (config: refraction_k; default 0.13)")
 	fs.Float64Var(&f.critical, "critical", 0, "critical value for the standardized residual |w| (config: critical_value; default 3.29, α = 0.1 % two-sided)")
+	fs.Float64Var(&f.jobAlpha, "job-alpha", 0, "instead of -critical: the chance of any false flag in the whole job, e.g. 0.05; the critical value for |w| is then Šidák's over the job's observation rows (config: job_alpha)")
+	fs.Float64Var(&f.globalAlpha, "global-test-alpha", 0, "α of the global test of the variance factor over all reduced observations (config: global_test_alpha; default 0.05)")
 	fs.StringVar(&f.tolerance, "tolerance", "", "tolerance of a residual: 'A mm + B ppm' (linear, 95 %) or an accuracy class name (config: [tolerance])")
 	fs.StringVar(&f.atmosphere, "default-atmosphere", "", "atmosphere for rows without one: 'T,P,RH' in °C, hPa, % (config: [default_atmosphere])")
 	fs.IntVar(&f.workers, "workers", 0, "worker goroutines; 0 uses every core (config: workers)")
@@ -84,6 +86,15 @@ func (f *jobFlags) file(fs *flag.FlagSet) (jobconfig.File, string, error) {
 	num("geoid-separation-m", &jf.GeoidSeparationM, f.geoidN)
 	num("k", &jf.RefractionK, f.k)
 	num("critical", &jf.CriticalValue, f.critical)
+	num("job-alpha", &jf.JobAlpha, f.jobAlpha)
+	num("global-test-alpha", &jf.GlobalTestAlpha, f.globalAlpha)
+	// A flag wins over the config: one of the two ways to set the test.
+	if f.set["critical"] && !f.set["job-alpha"] {
+		jf.JobAlpha = nil
+	}
+	if f.set["job-alpha"] && !f.set["critical"] {
+		jf.CriticalValue = nil
+	}
 	if f.set["workers"] {
 		jf.Workers = f.workers
 	}

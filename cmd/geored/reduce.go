@@ -42,7 +42,11 @@ the key's name:
   geoid                geoid grid name or file, or "none"
   geoid_separation_m   one N for the job, metres
   refraction_k         coefficient of refraction (default 0.13)
-  critical_value       critical |w| (default 3.29)
+  critical_value       critical |w| for each observation (default 3.29, α = 0.1 %)
+  job_alpha            instead of critical_value: the chance of any false flag
+                       in the whole job (e.g. 0.05); the critical value is then
+                       Šidák's over the job's observation rows
+  global_test_alpha    α of the global test of Σw²/n (default 0.05)
   workers              0 = every core
   default_instrument   profile for rows without an instrument column
   [tolerance]          class = "<accuracy class>", or constant_mm, ppm,
@@ -83,7 +87,18 @@ instrument_height, target_height, temperature_c, pressure_hpa, humidity_pct
 (instrument end), temperature_c_to, pressure_hpa_to, humidity_pct_to (target
 end), prism_constant_mm, instrument, obs_id (optional).
 
-Exit status: 0 all within tolerance, 1 results flagged, 2 could not run.
+Exit status, the same in summary.json, -json and report.html:
+  0  rows were reduced, none rejected, none flagged, and the global test of
+     the variance factor is not too large
+  1  something needs a look: rows rejected, observations or lines flagged
+     (|w| over the critical value, over the tolerance, a line's spread), or
+     the global test failed high; the reasons go to stderr
+  2  could not run (bad flags, settings or input files), no row could be
+     reduced (an empty file, every row rejected), or -strict and a row was
+     rejected
+Flags are decided by the critical value: by default 3.29 for each
+observation (α = 0.1 %), so a large job raises some by chance (the report
+says how many to expect); job_alpha instead holds α for the whole job.
 
 Flags:
 `)
@@ -133,7 +148,39 @@ Flags:
 	} else if !*quiet {
 		printVerdict(stdout, sum, j.Out)
 	}
+	// What needs a look goes to stderr too, where a scheduler's mail
+	// and a terminal see it; a failure is said even with -quiet.
+	if sum.ExitStatus == exitFailed || (sum.ExitStatus == exitFlagged && !*quiet) {
+		printReasons(stderr, "reduce", sum, j.Out)
+	}
 	return sum.ExitStatus
+}
+
+// maxReasonRejects is how many rejected rows' reasons the terminal shows.
+const maxReasonRejects = 5
+
+// printReasons says on w why a run's status is not 0: the verdict, its
+// reasons, the first rejected rows and the worst flagged lines.
+func printReasons(w io.Writer, cmd string, s *report.Summary, out string) {
+	fmt.Fprintf(w, "geored %s: exit status %d, %s\n", cmd, s.ExitStatus, s.Verdict)
+	for _, r := range s.Reasons {
+		fmt.Fprintf(w, "  %s\n", r)
+	}
+	for i, r := range s.FirstRejects {
+		if i == maxReasonRejects {
+			fmt.Fprintf(w, "  … %d more rejected rows in %s\n", s.Counts.Rejected-i, filepath.Join(out, "rejects.csv"))
+			break
+		}
+		fmt.Fprintf(w, "  rejected %s\n", r.Reason)
+	}
+	shown := 0
+	for _, l := range s.Lines {
+		if !l.Flagged() || shown == maxReasonRejects {
+			break
+		}
+		fmt.Fprintf(w, "  flagged line %s – %s: %+.1f mm, max |w| %.1f, %s\n", l.From, l.To, l.ResidualMM, l.MaxAbsW, strings.Join(l.Flags, ", "))
+		shown++
+	}
 }
 
 type reduceOptions struct {
@@ -187,6 +234,18 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 	nPoints, err := s.loadPoints(bytes.NewReader(pointsData), pointsName, warn)
 	if err != nil {
 		return nil, err
+	}
+	if j.HasJobAlpha {
+		// The critical value that holds α for the whole job depends on
+		// how many observations it tests: count the rows first.
+		n, err := countObservationRows(j.Observations, opt.inputs)
+		if err != nil {
+			return nil, err
+		}
+		if err := j.SetTests(n); err != nil {
+			return nil, err
+		}
+		sum.Testing = report.Testing{Scope: report.ScopeJob, JobAlpha: j.JobAlpha, Tests: n}
 	}
 	plan, err := job.NewPlan(j, s.crs, s.geod, s.control)
 	if err != nil {
@@ -246,6 +305,7 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 		return report.AppendReducedRow(dst, r, u)
 	}
 	agg := report.NewAggregator(j.Critical, j.Tolerance, j.HasTolerance, plan)
+	agg.SetGlobalTestAlpha(j.GlobalAlpha)
 	var perSource sourceCounter
 	var rows atomic.Int64
 	stop := startProgress(opt.progress, &read, &rows, total)
@@ -275,12 +335,7 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 	sum.Settings = settings(j, s.crs, s.geoidGrid, opt.strict)
 	sum.InputHash = inputHash(sum)
 	agg.Finish(sum)
-	switch {
-	case opt.strict && sum.Counts.Rejected > 0:
-		sum.ExitStatus = exitFailed
-	case sum.Counts.Flagged > 0 || sum.Counts.FlaggedLines > 0:
-		sum.ExitStatus = exitFlagged
-	}
+	report.Decide(sum, opt.strict)
 
 	lines, err := out.create("lines.csv")
 	if err != nil {
@@ -315,10 +370,41 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 	if err := out.commit(); err != nil {
 		return nil, err
 	}
-	if opt.strict && sum.Counts.Rejected > 0 {
-		return sum, fmt.Errorf("%d row(s) rejected and -strict is set: see %s", sum.Counts.Rejected, filepath.Join(j.Out, "rejects.csv"))
-	}
 	return sum, nil
+}
+
+// countObservationRows counts the data rows of the observation files and
+// of the inputs given as readers, which must then be seekable: they are
+// read again by the run.
+func countObservationRows(paths []string, inputs []job.Source) (int, error) {
+	n := 0
+	for _, path := range paths {
+		f, err := os.Open(path)
+		if err != nil {
+			return 0, err
+		}
+		k, err := obsfile.CountRows(f)
+		f.Close()
+		if err != nil {
+			return 0, fmt.Errorf("%s: %w", path, err)
+		}
+		n += k
+	}
+	for _, src := range inputs {
+		rs, ok := src.Reader.(io.ReadSeeker)
+		if !ok {
+			return 0, fmt.Errorf("%s: job_alpha needs to count the rows before the run, and this input cannot be read twice", src.Name)
+		}
+		k, err := obsfile.CountRows(rs)
+		if err != nil {
+			return 0, fmt.Errorf("%s: %w", src.Name, err)
+		}
+		if _, err := rs.Seek(0, io.SeekStart); err != nil {
+			return 0, fmt.Errorf("%s: %w", src.Name, err)
+		}
+		n += k
+	}
+	return n, nil
 }
 
 // settings records the job's settings as used.
@@ -334,7 +420,10 @@ func settings(j *jobconfig.Job, crs *geodesic.CRS, geoidGrid string, strict bool
 	}
 	st := report.Settings{CRS: j.CRS, CRSName: crs.Name(), Datum: crs.Datum(), Ellipsoid: crs.Ellipsoid().String(),
 		ReductionDatum: j.Datum.String(), LengthUnit: j.LengthUnit.String(), AngleUnit: j.AngleUnit.String(), Geoid: geoid,
-		RefractionK: j.K, CriticalValue: j.Critical, Tolerance: j.ToleranceText, DefaultAtmos: atm, Strict: strict}
+		RefractionK: j.K, CriticalValue: j.Critical, GlobalAlpha: j.GlobalAlpha, Tolerance: j.ToleranceText, DefaultAtmos: atm, Strict: strict}
+	if j.HasJobAlpha {
+		st.JobAlpha = j.JobAlpha
+	}
 	for _, n := range j.ProfileNames() {
 		p := j.Profiles[n]
 		st.Instruments = append(st.Instruments, report.InstrumentSettings{
@@ -473,7 +562,7 @@ func startProgress(on bool, read, rows *atomic.Int64, total int64) func() {
 // machineSummary is the one-line JSON of -json.
 func machineSummary(s *report.Summary, out string) map[string]any {
 	return map[string]any{
-		"exit_status": s.ExitStatus, "read": s.Counts.Read, "reduced": s.Counts.Reduced, "rejected": s.Counts.Rejected,
+		"exit_status": s.ExitStatus, "verdict": s.Verdict, "reasons": s.Reasons, "read": s.Counts.Read, "reduced": s.Counts.Reduced, "rejected": s.Counts.Rejected,
 		"flagged": s.Counts.Flagged, "lines": s.Counts.Lines, "flagged_lines": s.Counts.FlaggedLines,
 		"input_hash": s.InputHash, "out": out, "report": filepath.Join(out, "report.html"),
 	}
@@ -482,8 +571,16 @@ func machineSummary(s *report.Summary, out string) map[string]any {
 // printVerdict prints the run's outcome for a person.
 func printVerdict(w io.Writer, s *report.Summary, out string) {
 	c := s.Counts
+	fmt.Fprintf(w, "exit status %d, %s\n", s.ExitStatus, s.Verdict)
 	fmt.Fprintf(w, "read %d rows: %d reduced, %d rejected; %d of %d lines flagged, %d observations flagged\n",
 		c.Read, c.Reduced, c.Rejected, c.FlaggedLines, c.Lines, c.Flagged)
+	if g := s.Testing.Global; g != nil {
+		fmt.Fprintf(w, "global test: variance factor %.3f over %d observations, bounds %.3f..%.3f at α %g: %s", g.VarianceFactor, g.N, g.Lower, g.Upper, g.Alpha, g.Outcome)
+		if g.UnflaggedN < g.N && g.UnflaggedN > 0 {
+			fmt.Fprintf(w, " (%.3f without the %d flagged)", g.UnflaggedVarianceFactor, g.N-g.UnflaggedN)
+		}
+		fmt.Fprintln(w)
+	}
 	if e := s.Residuals.Ellipsoid; e.N > 0 {
 		fmt.Fprintf(w, "residuals (reduced − control, ellipsoid): mean %.1f mm, rms %.1f mm, max |w| %.2f\n", e.MeanMM, e.RMSMM, e.MaxAbsW)
 	}

@@ -21,7 +21,7 @@ var outputFiles = []string{"reduced.csv", "lines.csv", "rejects.csv", "summary.j
 func runDemoInto(t *testing.T, dir string, workers string) {
 	t.Helper()
 	code, _, stderr := runCmd(t, "demo", "-out", dir, "-quiet", "-workers", workers)
-	require.Equal(t, exitOK, code, stderr)
+	require.Equal(t, exitFlagged, code, "the demo's blunders are flagged\n%s", stderr)
 }
 
 // The demo's outputs are golden files: `go test ./cmd/geored -run
@@ -187,7 +187,7 @@ func TestReduceExitCodes(t *testing.T) {
 
 	code, _, stderr = exitCode(t, bin, "reduce", "-config", flagged, "-quiet", "-strict")
 	assert.Equal(t, 2, code)
-	assert.Contains(t, stderr, "2 row(s) rejected and -strict is set")
+	assert.Contains(t, stderr, "exit status 2, failed: rows were rejected and -strict is set")
 
 	// A missing required column stops before any work: no outputs.
 	noZenith := writeJob(t, "from,to,slope_distance\nNB-PILLAR1,SB-PILLAR1,662.67\n", "")

@@ -26,6 +26,8 @@ type File struct {
 	GeoidSeparationM  *float64 `toml:"geoid_separation_m"` // one N for the whole job, metres
 	RefractionK       *float64 `toml:"refraction_k"`       // coefficient of refraction
 	CriticalValue     *float64 `toml:"critical_value"`     // for |w|
+	JobAlpha          *float64 `toml:"job_alpha"`          // α for the whole job (Šidák), instead of critical_value
+	GlobalTestAlpha   *float64 `toml:"global_test_alpha"`  // α of the global test of the variance factor
 	Workers           int      `toml:"workers"`            // 0: all cores
 	DefaultInstrument string   `toml:"default_instrument"` // profile for rows without an instrument column
 

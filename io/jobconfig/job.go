@@ -18,6 +18,9 @@ const (
 	// DefaultRefractionK is the coefficient of refraction for lines near
 	// the ground in daytime, 0.13 (Gauss's value; common practice).
 	DefaultRefractionK = 0.13
+	// DefaultGlobalTestAlpha is the α of the global test of the variance
+	// factor, 5 % (common practice for the overall test of a network).
+	DefaultGlobalTestAlpha = 0.05
 )
 
 // Job is a validated job: what the commands and the pipeline run on.
@@ -38,8 +41,16 @@ type Job struct {
 	ConstantN    float64
 	HasConstantN bool
 
-	K        float64
-	Critical float64
+	K float64
+	// Critical is the critical value for |w| of every observation. With
+	// HasJobAlpha it holds JobAlpha for the whole job (Šidák over the
+	// job's observation rows) and is set by SetTests once the rows are
+	// counted; until then it is the per-observation default.
+	Critical    float64
+	JobAlpha    float64
+	HasJobAlpha bool
+	// GlobalAlpha is the α of the global test of the variance factor.
+	GlobalAlpha float64
 	// Tolerance is the acceptance limit; HasTolerance is false when the
 	// job gave none. ToleranceText says it in words.
 	Tolerance     reduce.DistanceSpec
@@ -120,6 +131,22 @@ func Resolve(f File, name string) (*Job, error) {
 		}
 		j.Critical = *f.CriticalValue
 	}
+	if f.JobAlpha != nil {
+		if a := *f.JobAlpha; !(a > 0 && a < 0.5) {
+			pr.bad("job_alpha", "%v: want the chance of any false flag in the whole job, between 0 and 0.5 (0.05 is usual)", a)
+		}
+		if f.CriticalValue != nil {
+			pr.bad("job_alpha", "give critical_value (one observation's test) or job_alpha (the whole job's), not both")
+		}
+		j.JobAlpha, j.HasJobAlpha = *f.JobAlpha, true
+	}
+	j.GlobalAlpha = DefaultGlobalTestAlpha
+	if f.GlobalTestAlpha != nil {
+		if a := *f.GlobalTestAlpha; !(a > 0 && a < 0.5) {
+			pr.bad("global_test_alpha", "%v: want the global test's α between 0 and 0.5 (0.05 is usual)", a)
+		}
+		j.GlobalAlpha = *f.GlobalTestAlpha
+	}
 	if f.Workers < 0 {
 		pr.bad("workers", "%d: want 0 (all cores) or a positive count", f.Workers)
 	}
@@ -159,6 +186,26 @@ func Resolve(f File, name string) (*Job, error) {
 		return nil, errors.Join(pr.errs...)
 	}
 	return j, nil
+}
+
+// SetTests sets the critical value for |w| from the number of
+// observation rows the job will test, n, when the job gives job_alpha:
+// Šidák's critical value that holds JobAlpha over n tests
+// (reduce.SidakCritical). Without job_alpha it changes nothing.
+func (j *Job) SetTests(n int) error {
+	if !j.HasJobAlpha {
+		return nil
+	}
+	c, err := reduce.SidakCritical(j.JobAlpha, max(n, 1))
+	if err != nil {
+		return err
+	}
+	j.Critical = c
+	for name, p := range j.Profiles {
+		p.Chain.Test.Critical = c
+		j.Profiles[name] = p
+	}
+	return nil
 }
 
 func (j *Job) resolveTolerance(t Tolerance, pr *problems) {

@@ -6,6 +6,7 @@ import (
 	"runtime"
 	"slices"
 	"sort"
+	"strings"
 	"sync"
 	"sync/atomic"
 
@@ -26,9 +27,18 @@ type Aggregator struct {
 	tolerance reduce.DistanceSpec
 	hasTol    bool
 	control   LineSource
+	// globalAlpha is the α of the global test of the variance factor.
+	globalAlpha float64
 
 	counts    Counts
 	ell, grid statsAcc
+	// The global test's sums: Σw² of every reduced observation and of the
+	// unflagged ones, with their counts, and the outliers (|w| over the
+	// critical value).
+	sumW2, unflaggedW2 float64
+	unflaggedN         int
+	outliers           int
+	firstRejects       []Reject // the first MaxFirstRejects rejected rows
 	lines     lineAccs
 	order     []int32  // the lines' numbers (job.Result.LineID) in the order first observed
 	flagged   []uint64 // bit i: line order[i] is flagged, once Finish has run
@@ -76,8 +86,17 @@ type LineSource interface {
 // and tolerance (hasTolerance false: no tolerance test); the lines' control
 // geometry comes from control, when the summary is made.
 func NewAggregator(critical float64, tolerance reduce.DistanceSpec, hasTolerance bool, control LineSource) *Aggregator {
-	return &Aggregator{critical: critical, tolerance: tolerance, hasTol: hasTolerance, control: control}
+	return &Aggregator{critical: critical, tolerance: tolerance, hasTol: hasTolerance, control: control, globalAlpha: DefaultGlobalTestAlpha}
 }
+
+// DefaultGlobalTestAlpha is the α of the global test unless
+// SetGlobalTestAlpha says otherwise: 5 %, common practice for the
+// overall test of a network.
+const DefaultGlobalTestAlpha = 0.05
+
+// SetGlobalTestAlpha sets the α of the global test of the variance
+// factor (0 < α < 1).
+func (a *Aggregator) SetGlobalTestAlpha(alpha float64) { a.globalAlpha = alpha }
 
 // lineAcc accumulates one line's observations; 112 bytes.
 type lineAcc struct {
@@ -136,13 +155,24 @@ func (a *Aggregator) Add(r *job.Result) {
 	a.counts.Read++
 	if r.Rejected {
 		a.counts.Rejected++
+		if len(a.firstRejects) < MaxFirstRejects {
+			a.firstRejects = append(a.firstRejects, Reject{File: r.File, Line: r.LineNo, Reason: strings.Clone(r.Reason)})
+		}
 		return
 	}
 	a.counts.Reduced++
 	red := &r.Reduction
 	e := &red.EllipsoidResidual
+	w2 := e.Standardized * e.Standardized
+	a.sumW2 += w2
+	if e.Outlier {
+		a.outliers++
+	}
 	if e.Outlier || (a.hasTol && e.OutOfTolerance) {
 		a.counts.Flagged++
+	} else {
+		a.unflaggedW2 += w2
+		a.unflaggedN++
 	}
 	a.ell.add(e.Residual*1e3, e.PPM, e.Standardized)
 	a.grid.add(red.GridResidual.Residual*1e3, red.GridResidual.PPM, red.GridResidual.Standardized)
@@ -284,6 +314,20 @@ func (s *spreadLimits) at(dof int) float64 {
 // so the summary does not depend on the number of cores.
 func (a *Aggregator) Finish(s *Summary) {
 	s.Counts = a.counts
+	s.FirstRejects = a.firstRejects
+	if s.Testing.Scope == "" {
+		s.Testing.Scope = ScopeObservation
+	}
+	s.Testing.Critical, s.Testing.AlphaPerObservation = a.critical, reduce.TwoSidedAlpha(a.critical)
+	s.Testing.Outliers = a.outliers
+	s.Testing.ExpectedByChance = float64(a.counts.Reduced) * reduce.TwoSidedAlpha(a.critical)
+	if a.counts.Reduced > 0 {
+		g := globalTest(a.sumW2, a.counts.Reduced, a.globalAlpha)
+		if a.unflaggedN > 0 {
+			g.UnflaggedN, g.UnflaggedVarianceFactor = a.unflaggedN, a.unflaggedW2/float64(a.unflaggedN)
+		}
+		s.Testing.Global = g
+	}
 	s.Counts.Lines = len(a.order)
 	s.Residuals = ResidualStats{Ellipsoid: a.ell.stats(), Grid: a.grid.stats()}
 	n := len(a.order)

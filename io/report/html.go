@@ -125,8 +125,31 @@ footer { margin-top: 2rem; }
 {{.Counts.Read}} observations read: {{.Counts.Reduced}} reduced, {{.Counts.Rejected}} rejected.
 {{- if not .CountsAddUp}} <span class="bad">These counts do not add up: read should equal reduced + rejected.</span>{{end}}
 {{.Counts.Flagged}} reduced observations flagged, on {{.Counts.FlaggedLines}} of {{.Counts.Lines}} lines.
-<span class="status">Exit status {{.ExitStatus}}: {{.ExitMeaning}}.</span>
+<span class="status">Exit status {{.ExitStatus}}: {{.Verdict}}.</span>
 </p>
+{{- if .Reasons}}
+<ul class="reasons" id="reasons">
+{{- range .Reasons}}
+<li>{{.}}</li>
+{{- end}}
+</ul>
+{{- end}}
+{{- with .Testing.Global}}
+<p class="note" id="global-test">Global test of the variance factor over {{.N}} reduced observations: Σw²/n = {{f3 .VarianceFactor}}, bounds {{f3 .Lower}} to {{f3 .Upper}} at α {{.Alpha}}: <strong>{{.Outcome}}</strong>{{if and (lt .UnflaggedN .N) (gt .UnflaggedN 0)}}; {{f3 .UnflaggedVarianceFactor}} without the flagged observations{{end}}.</p>
+{{- end}}
+<p class="note" id="chance">{{with .Testing}}{{if eq .Scope "job"}}The critical value |w| &gt; {{w .Critical}} holds α {{.JobAlpha}} for the whole job (Šidák over its {{.Tests}} observation rows): {{.Outliers}} observations over it.{{else}}Each observation is tested at |w| &gt; {{w .Critical}} (α {{alpha .AlphaPerObservation}} each): {{.Outliers}} over it, where chance alone would give about {{f1 .ExpectedByChance}}.{{end}}{{end}}</p>
+{{- range .Notes}}
+<p class="note">{{.}}</p>
+{{- end}}
+{{- if .FirstRejects}}
+<h3>Rejected rows</h3>
+<ul class="rejects" id="first-rejects">
+{{- range .FirstRejects}}
+<li>{{.Reason}}</li>
+{{- end}}
+</ul>
+{{- if gt .Counts.Rejected (len .FirstRejects)}}<p class="note">The first {{len .FirstRejects}} of {{.Counts.Rejected}}: rejects.csv has them all.</p>{{end}}
+{{- end}}
 </section>
 
 <section id="flagged">
@@ -247,6 +270,9 @@ var page = template.Must(template.New("report.html").Funcs(template.FuncMap{
 	"ppm":   func(x float64) string { return fixed(x, 2) },
 	"w":     func(x float64) string { return fixed(x, 2) },
 	"f":     fixed,
+	"f1":    func(x float64) string { return fixed(x, 1) },
+	"f3":    func(x float64) string { return fixed(x, 3) },
+	"alpha": func(x float64) string { return strconv.FormatFloat(x, 'g', 3, 64) },
 	"k":     refraction,
 	"flags": func(fs []string) string { return strings.Join(fs, ", ") },
 	"yesno": func(b bool) string {
@@ -268,8 +294,6 @@ type htmlView struct {
 	Flagged []Line
 	// CountsAddUp says Read = Reduced + Rejected.
 	CountsAddUp bool
-	// ExitMeaning says in words what ExitStatus means.
-	ExitMeaning string
 	// Plot is the residual plot as an inline <svg> element; empty when no
 	// line has finite values to plot. PlotSkipped counts lines left out
 	// of it for a non-finite distance, residual or σ.
@@ -310,7 +334,6 @@ func WriteHTML(w io.Writer, s *Summary) error {
 		Summary:     s,
 		Caution:     s.Caution,
 		CountsAddUp: s.Counts.Read == s.Counts.Reduced+s.Counts.Rejected,
-		ExitMeaning: exitMeaning(s.ExitStatus),
 		PlotBars:    plotBars,
 		FitReading:  fitReading(s),
 	}
@@ -347,19 +370,6 @@ func WriteHTML(w io.Writer, s *Summary) error {
 	}
 	_, err = buf.WriteTo(w)
 	return err
-}
-
-// exitMeaning says what a reduce run's exit status means.
-func exitMeaning(status int) string {
-	switch status {
-	case 0:
-		return "clean: every line is within tolerance"
-	case 1:
-		return "results flagged: some lines need attention"
-	case 2:
-		return "could not run"
-	}
-	return "not a status that geored uses"
 }
 
 // fitReading says in plain words what the fit of residuals against

@@ -87,8 +87,13 @@ func testSummary() *Summary {
 				MeanArc: 88.50906, SpreadMM: 0.2, StdDevMM: 0.14, ResidualMM: -0.04, ResidualPPM: -0.452,
 				SigmaMM: 1.01, MaxAbsW: 0.03, K: k(-0.4)},
 		},
-		Warnings:   []string{`obs.csv: unknown column "remark" & ignored`, "obs.csv:9: rejected, unknown point <Q9>"},
+		Warnings:     []string{`obs.csv: unknown column "remark" & ignored`, "obs.csv:9: rejected, unknown point <Q9>"},
+		FirstRejects: []Reject{{File: "obs.csv", Line: 9, Reason: "obs.csv:9: target \"<Q9>\" is not in the points file"}},
+		Testing: Testing{Scope: ScopeObservation, Critical: 3.29, AlphaPerObservation: 0.001, Outliers: 2, ExpectedByChance: 0.013,
+			Global: &GlobalTest{N: 13, VarianceFactor: 4.21, Alpha: 0.05, Lower: 0.385, Upper: 1.897, Outcome: "too large", UnflaggedN: 10, UnflaggedVarianceFactor: 0.93}},
 		ExitStatus: 1,
+		Verdict:    "needs a look: some rows or results need attention",
+		Reasons:    []string{"1 of 14 rows rejected (rejects.csv)", "3 of 13 reduced observations flagged"},
 		Caution:    Caution,
 	}
 }
@@ -174,7 +179,11 @@ func TestWriteHTMLContent(t *testing.T) {
 	for _, want := range []string{
 		"14 observations read: 13 reduced, 1 rejected.",
 		"3 reduced observations flagged, on 2 of 5 lines.",
-		"Exit status 1: results flagged",
+		"Exit status 1: needs a look",
+		"<li>3 of 13 reduced observations flagged</li>",
+		"Σw²/n = 4.210, bounds 0.385 to 1.897 at α 0.05: <strong>too large</strong>; 0.930 without the flagged observations.",
+		"chance alone would give about 0.0",
+		`obs.csv:9: target &#34;&lt;Q9&gt;&#34; is not in the points file`,
 		"Variance factor s₀² = 1.37 from 13 observations.",
 		"suggests a wrong prism constant",
 		"no sign of a wrong ppm or atmosphere setting",
@@ -208,7 +217,11 @@ func TestWriteHTMLNoFlaggedLines(t *testing.T) {
 			clean = append(clean, l)
 		}
 	}
-	s.Lines, s.Counts.Flagged, s.Counts.FlaggedLines, s.ExitStatus = clean, 0, 0, 0
+	s.Lines, s.Counts.Flagged, s.Counts.FlaggedLines = clean, 0, 0
+	s.Counts.Read, s.Counts.Rejected, s.FirstRejects = 13, 0, nil
+	s.Testing.Outliers, s.Testing.Global.VarianceFactor, s.Testing.Global.Outcome = 0, 1.02, "pass"
+	Decide(s, false)
+	require.Equal(t, StatusClean, s.ExitStatus, s.Reasons)
 	s.Fit = nil
 	page := render(t, s)
 	assert.NotContains(t, page, `id="flagged-lines"`)

@@ -18,6 +18,13 @@ type Summary struct {
 
 	Counts    Counts        `json:"counts"`
 	Residuals ResidualStats `json:"residuals"`
+	// Testing says how the observations were tested, how many flags
+	// chance alone would raise, and the global test of the variance
+	// factor.
+	Testing Testing `json:"testing"`
+	// FirstRejects are the first rejected rows, at most MaxFirstRejects:
+	// rejects.csv has them all.
+	FirstRejects []Reject `json:"first_rejects,omitempty"`
 	// Fit of the ellipsoid residuals against distance: residual =
 	// constant + scale · distance. A constant far from zero points at a
 	// wrong prism or additive constant, a scale at a wrong ppm setting.
@@ -33,8 +40,66 @@ type Summary struct {
 	// Warnings are notes on the inputs that did not stop the run.
 	Warnings []string `json:"warnings,omitempty"`
 
-	ExitStatus int    `json:"exit_status"` // 0 clean, 1 results flagged, 2 could not run
-	Caution    string `json:"caution"`
+	// ExitStatus is the process's exit status (Decide): 0 clean, 1
+	// something needs a look, 2 could not run or nothing was reduced.
+	// Verdict says it in words and Reasons lists why, one reason each;
+	// Notes are findings that do not change the status.
+	ExitStatus int      `json:"exit_status"`
+	Verdict    string   `json:"verdict"`
+	Reasons    []string `json:"reasons,omitempty"`
+	Notes      []string `json:"notes,omitempty"`
+	Caution    string   `json:"caution"`
+}
+
+// MaxFirstRejects bounds Summary.FirstRejects.
+const MaxFirstRejects = 10
+
+// Reject is a rejected row: where it is and why.
+type Reject struct {
+	File   string `json:"file"`
+	Line   int    `json:"line"`
+	Reason string `json:"reason"`
+}
+
+// Testing describes the tests of the reduced observations.
+type Testing struct {
+	// Scope is "observation" when the critical value holds α for each
+	// observation (Baarda's data snooping at α₀, 3.29 for 0.1 %), or
+	// "job" when it holds JobAlpha for the whole job (Šidák over Tests,
+	// the job's observation rows counted before the run).
+	Scope    string  `json:"scope"`
+	Critical float64 `json:"critical_value"`
+	// AlphaPerObservation is the chance that one observation free of
+	// blunders is flagged: P(|w| > Critical).
+	AlphaPerObservation float64 `json:"alpha_per_observation"`
+	JobAlpha            float64 `json:"job_alpha,omitempty"`
+	Tests               int     `json:"tests,omitempty"`
+	// Outliers counts the reduced observations whose |w| is over the
+	// critical value; ExpectedByChance is how many of them chance alone
+	// would give if every σ were right: reduced × AlphaPerObservation.
+	Outliers         int     `json:"outliers"`
+	ExpectedByChance float64 `json:"expected_outliers_by_chance"`
+	// Global is the global test over every reduced observation; nil when
+	// none was reduced.
+	Global *GlobalTest `json:"global_test,omitempty"`
+}
+
+// GlobalTest is the test of the variance factor Σw²/n over the reduced
+// observations (reduce.GlobalTest).
+type GlobalTest struct {
+	N              int     `json:"n"`
+	VarianceFactor float64 `json:"variance_factor"`
+	Alpha          float64 `json:"alpha"`
+	Lower          float64 `json:"lower"`
+	Upper          float64 `json:"upper"`
+	// Outcome is "pass", "too large" (blunders, systematic errors or σ
+	// understated: the status is 1) or "too small" (σ overstated: a
+	// note).
+	Outcome string `json:"outcome"`
+	// The variance factor of the observations that are not flagged: near
+	// 1 when the flagged ones explain a failed test.
+	UnflaggedN              int     `json:"unflagged_n"`
+	UnflaggedVarianceFactor float64 `json:"unflagged_variance_factor"`
 }
 
 // Caution is printed in every report.
@@ -52,6 +117,8 @@ type Settings struct {
 	Geoid          string               `json:"geoid"` // grid name, "constant N = …", or "none"
 	RefractionK    float64              `json:"refraction_k"`
 	CriticalValue  float64              `json:"critical_value"`
+	JobAlpha       float64              `json:"job_alpha,omitempty"` // the critical value holds it for the whole job
+	GlobalAlpha    float64              `json:"global_test_alpha"`
 	Tolerance      string               `json:"tolerance"` // e.g. "5 mm + 5 ppm linear, 95 %" or a class name
 	DefaultAtmos   string               `json:"default_atmosphere"`
 	Instruments    []InstrumentSettings `json:"instruments"`
