@@ -39,9 +39,9 @@ type Aggregator struct {
 	unflaggedN         int
 	outliers           int
 	firstRejects       []Reject // the first MaxFirstRejects rejected rows
-	lines     lineAccs
-	order     []int32  // the lines' numbers (job.Result.LineID) in the order first observed
-	flagged   []uint64 // bit i: line order[i] is flagged, once Finish has run
+	lines              lineAccs
+	order              []int32  // the lines' numbers (job.Result.LineID) in the order first observed
+	flagged            []uint64 // bit i: line order[i] is flagged, once Finish has run
 }
 
 // lineAccs are the lines' records by number (job.Result.LineID), in
