@@ -166,8 +166,10 @@ footer { margin-top: 2rem; }
 {{- range .FlagMeanings}}
 <p class="note"><strong>{{.Flag}}</strong>: {{.Meaning}}.</p>
 {{- end}}
-{{- else}}
+{{- else if .Counts.Lines}}
 <p id="no-flagged-lines">No flagged lines: every line is within the tolerance and the critical value.</p>
+{{- else}}
+<p id="no-flagged-lines">No line was reduced, so none could be checked.</p>
 {{- end}}
 </section>
 
