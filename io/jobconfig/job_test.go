@@ -1,6 +1,7 @@
 package jobconfig
 
 import (
+	"strings"
 	"testing"
 
 	"github.com/stretchr/testify/assert"
@@ -146,4 +147,40 @@ func TestToleranceClass(t *testing.T) {
 	f.Tolerance.PPM = new(float64)
 	_, err = Resolve(f, "job.toml")
 	assert.ErrorContains(t, err, "not both")
+}
+
+// job_alpha sets the critical value for the whole job once the rows are
+// counted (Šidák, reduce.SidakCritical); it and critical_value exclude
+// each other, and the global test's α defaults to 5 %.
+func TestJobAlpha(t *testing.T) {
+	resolve := func(extra string) (*Job, error) {
+		text := strings.Replace(full, "critical_value = 3.0\n", extra, 1)
+		f, err := Parse([]byte(text), "job.toml")
+		require.NoError(t, err)
+		return Resolve(f, "job.toml")
+	}
+	j, err := resolve("job_alpha = 0.05\nglobal_test_alpha = 0.01\n")
+	require.NoError(t, err)
+	assert.True(t, j.HasJobAlpha)
+	assert.Equal(t, 0.01, j.GlobalAlpha)
+	assert.Equal(t, reduce.DefaultCriticalValue, j.Critical, "until the rows are counted")
+	require.NoError(t, j.SetTests(100))
+	// Šidák at α 0.05 over 100 tests: 3.4740 (testdata/reduce/sidak_python.txt).
+	assert.InDelta(t, 3.473978869154039, j.Critical, 1e-9)
+	for name, p := range j.Profiles {
+		assert.Equalf(t, j.Critical, p.Chain.Test.Critical, "profile %s tests at the job's critical value", name)
+	}
+
+	j, err = resolve("")
+	require.NoError(t, err)
+	assert.Equal(t, DefaultGlobalTestAlpha, j.GlobalAlpha)
+	require.NoError(t, j.SetTests(100))
+	assert.Equal(t, reduce.DefaultCriticalValue, j.Critical, "without job_alpha the count changes nothing")
+
+	_, err = resolve("critical_value = 3.0\njob_alpha = 0.05\n")
+	assert.ErrorContains(t, err, "job.toml: job_alpha: give critical_value (one observation's test) or job_alpha (the whole job's), not both")
+	_, err = resolve("job_alpha = 0.7\n")
+	assert.ErrorContains(t, err, "job.toml: job_alpha: 0.7: want the chance of any false flag in the whole job, between 0 and 0.5")
+	_, err = resolve("global_test_alpha = 0\n")
+	assert.ErrorContains(t, err, "job.toml: global_test_alpha: 0: want the global test's α between 0 and 0.5")
 }

@@ -87,3 +87,19 @@ func drainRows(b *testing.B, r *ObsReader, fields []string) (int, []string) {
 		n++
 	}
 }
+
+// BenchmarkCountRows counts the rows of the same file, as a job with
+// job_alpha does before its run; ns/row is per row, to set beside
+// BenchmarkObsChunks's.
+func BenchmarkCountRows(b *testing.B) {
+	data := benchObservations()
+	rows := 0
+	for b.Loop() {
+		n, err := CountRows(bytes.NewReader(data))
+		if err != nil {
+			b.Fatal(err)
+		}
+		rows += n
+	}
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(rows), "ns/row")
+}
