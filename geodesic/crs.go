@@ -27,7 +27,8 @@ type CRS struct {
 // +ellps=GRS80"; "+type=crs" is added when missing). A compound CRS is
 // accepted for its horizontal part. A geographic, geocentric, vertical,
 // engineering or unknown CRS is an error that says what was given and
-// that a projected CRS is needed.
+// that a projected CRS is needed; so is one whose two axes are in
+// different units.
 func OpenCRS(definition string) (*CRS, error) {
 	def := strings.TrimSpace(definition)
 	if def == "" {
