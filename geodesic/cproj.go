@@ -26,6 +26,8 @@ typedef struct {
 	char   datum[256];
 	char   ellipsoid[256];
 	char   unit[64];
+	char   unit_auth[32];   // authority of the axis unit's code, e.g. "EPSG"; "" if none
+	char   unit_code[32];   // e.g. "9003"
 	char   proj_string[2048];
 	char   err[512];
 } geored_crs_info;
@@ -78,11 +80,24 @@ static int geored_inspect(const char *def, geored_crs_info *out) {
 
 	cs = proj_crs_get_coordinate_system(ctx, horiz);
 	if (cs == NULL) { geored_err(ctx, out, "no coordinate system"); goto done; }
-	const char *unit = NULL;
-	if (!proj_cs_get_axis_info(ctx, cs, 0, NULL, NULL, NULL, &out->unit_factor, &unit, NULL, NULL)) {
+	const char *unit = NULL, *unit_auth = NULL, *unit_code = NULL;
+	if (!proj_cs_get_axis_info(ctx, cs, 0, NULL, NULL, NULL, &out->unit_factor, &unit, &unit_auth, &unit_code)) {
 		geored_err(ctx, out, "no axis unit"); goto done;
 	}
 	geored_copy(out->unit, sizeof out->unit, unit);
+	geored_copy(out->unit_auth, sizeof out->unit_auth, unit_auth);
+	geored_copy(out->unit_code, sizeof out->unit_code, unit_code);
+	double factor2 = 0;
+	const char *unit2 = NULL;
+	if (proj_cs_get_axis_count(ctx, cs) < 2 ||
+	    !proj_cs_get_axis_info(ctx, cs, 1, NULL, NULL, NULL, &factor2, &unit2, NULL, NULL)) {
+		geored_err(ctx, out, "no second axis"); goto done;
+	}
+	if (factor2 != out->unit_factor) {
+		snprintf(out->err, sizeof out->err, "its first axis is in %s (%.17g m) but its second in %s (%.17g m): geored needs one unit for easting and northing",
+			unit ? unit : "an unnamed unit", out->unit_factor, unit2 ? unit2 : "an unnamed unit", factor2);
+		goto done;
+	}
 
 	const char *ps = proj_as_proj_string(ctx, horiz, PJ_PROJ_5, NULL);
 	if (ps != NULL && strlen(ps) < sizeof out->proj_string) {
@@ -195,6 +210,7 @@ type crsInfo struct {
 	name, datum, ellipsoid string
 	a, invF                float64
 	unit                   string
+	unitCode               string // "EPSG:9003"; "" when PROJ gives the unit no code
 	metresPerUnit          float64
 	projString             string // PROJ-5 string of the horizontal CRS, "" if it has none
 }
@@ -254,6 +270,9 @@ func inspectCRS(def string) (crsInfo, error) {
 		invF:           float64(out.inv_f),
 		unit:           C.GoString(&out.unit[0]),
 		metresPerUnit:  float64(out.unit_factor),
+	}
+	if auth, code := C.GoString(&out.unit_auth[0]), C.GoString(&out.unit_code[0]); auth != "" && code != "" {
+		info.unitCode = auth + ":" + code
 	}
 	if out.has_proj_string != 0 {
 		info.projString = C.GoString(&out.proj_string[0])

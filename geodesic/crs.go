@@ -16,6 +16,7 @@ type CRS struct {
 	datum         string
 	ellipsoid     Ellipsoid
 	unit          string
+	unitCode      string
 	metresPerUnit float64
 	projection    string
 	conformal     bool
@@ -26,7 +27,8 @@ type CRS struct {
 // +ellps=GRS80"; "+type=crs" is added when missing). A compound CRS is
 // accepted for its horizontal part. A geographic, geocentric, vertical,
 // engineering or unknown CRS is an error that says what was given and
-// that a projected CRS is needed.
+// that a projected CRS is needed; so is one whose two axes are in
+// different units.
 func OpenCRS(definition string) (*CRS, error) {
 	def := strings.TrimSpace(definition)
 	if def == "" {
@@ -67,6 +69,7 @@ func OpenCRS(definition string) (*CRS, error) {
 		datum:         info.datum,
 		ellipsoid:     ell,
 		unit:          info.unit,
+		unitCode:      info.unitCode,
 		metresPerUnit: info.metresPerUnit,
 		projection:    projectionInMetres(info.projString, ell),
 		conformal:     conformalMethods[projName(info.projString)],
@@ -154,6 +157,11 @@ func (c *CRS) Ellipsoid() Ellipsoid { return c.ellipsoid }
 // Unit is the name of the unit of the CRS's easting and northing, e.g.
 // "metre" or "US survey foot".
 func (c *CRS) Unit() string { return c.unit }
+
+// UnitCode is the authority code of the CRS's axis unit as PROJ gives it,
+// e.g. "EPSG:9003" for the US survey foot, or "" when the definition gives
+// the unit no code (a PROJ string with +to_meter=).
+func (c *CRS) UnitCode() string { return c.unitCode }
 
 // MetresPerUnit is the length of the CRS's coordinate unit in metres
 // (1200/3937 for the US survey foot).

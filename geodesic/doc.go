@@ -7,8 +7,9 @@
 //
 // Lengths are metres; angles are s1.Angle; positions are s2.LatLng on the
 // job CRS's own geodetic datum. Grid coordinates are metres, whatever the
-// unit of the CRS: the CRS reports its unit (CRS.MetresPerUnit) so that
-// files in US survey feet convert at the edge.
+// unit of the CRS: the CRS reports its unit (CRS.Unit, CRS.UnitCode,
+// CRS.MetresPerUnit) so that files in US survey feet convert at the edge
+// (io/units.AxisUnit recognises it).
 //
 // # Concurrency
 //

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"strconv"
 
 	"github.com/geored/geored/geodesic"
 	"github.com/geored/geored/io/jobconfig"
@@ -17,10 +18,11 @@ type session struct {
 	crs       *geodesic.CRS
 	geod      *geodesic.Geodesic
 	proj      *geodesic.Projector
-	geoid     *geodesic.Geoid // nil when the job uses no geoid grid
-	geoidGrid string          // as opened: a grid, or "none"
-	seps      job.Separations // where N comes from
-	unit      units.LengthUnit
+	geoid     *geodesic.Geoid  // nil when the job uses no geoid grid
+	geoidGrid string           // as opened: a grid, or "none"
+	seps      job.Separations  // where N comes from
+	unit      units.LengthUnit // of heights, as the job or -length-unit says
+	gridUnit  units.LengthUnit // of easting and northing: the CRS's
 	control   map[string]job.Control
 	order     []string // point ids in file order
 	pointFile string
@@ -51,6 +53,10 @@ func openSession(crsDef, geoidGrid string, unit units.LengthUnit) (*session, err
 	if !crs.Conformal() {
 		return nil, fmt.Errorf("CRS %s: its projection is not conformal, so a line's scale factor depends on its direction; geored reduces to conformal grids only (transverse Mercator, Lambert conformal conic, stereographic, oblique Mercator, …)", crs)
 	}
+	gridUnit, err := crsGridUnit(crs)
+	if err != nil {
+		return nil, err
+	}
 	g, err := geodesic.NewGeodesic(crs.Ellipsoid())
 	if err != nil {
 		return nil, err
@@ -59,7 +65,7 @@ func openSession(crsDef, geoidGrid string, unit units.LengthUnit) (*session, err
 	if err != nil {
 		return nil, err
 	}
-	s := &session{crs: crs, geod: g, proj: p, unit: unit, geoidGrid: geoidGrid}
+	s := &session{crs: crs, geod: g, proj: p, unit: unit, gridUnit: gridUnit, geoidGrid: geoidGrid}
 	if geoidGrid != "none" {
 		if s.geoid, err = geodesic.OpenGeoid(geoidGrid); err != nil {
 			p.Close()
@@ -69,6 +75,19 @@ func openSession(crsDef, geoidGrid string, unit units.LengthUnit) (*session, err
 		s.seps.Grid = s.geoid
 	}
 	return s, nil
+}
+
+// crsGridUnit is the unit of the CRS's easting and northing, recognised
+// by PROJ's code for it or its length (units.AxisUnit.LengthUnit). A unit
+// geored does not read is an error naming the CRS and the unit, and what
+// to do instead: the same projection in metres.
+func crsGridUnit(crs *geodesic.CRS) (units.LengthUnit, error) {
+	u, err := units.AxisUnit{Name: crs.Unit(), Code: crs.UnitCode(), MetresPerUnit: crs.MetresPerUnit()}.LengthUnit()
+	if err != nil {
+		return 0, fmt.Errorf("CRS %s: %w; to use this grid, convert the points' easting and northing to metres (× %s) and give as the CRS the same projection in metres, %q",
+			crs, err, strconv.FormatFloat(crs.MetresPerUnit(), 'g', -1, 64), crs.Projection())
+	}
+	return u, nil
 }
 
 func (s *session) close() {
@@ -82,7 +101,7 @@ func (s *session) close() {
 // It returns the number of points.
 func (s *session) loadPoints(r io.Reader, name string, warn func(obsfile.Warning)) (int, error) {
 	pts, warnings, err := obsfile.ReadPoints(r, name, obsfile.PointOptions{
-		GridUnit:   units.LengthUnit(s.crs.MetresPerUnit()),
+		GridUnit:   s.gridUnit,
 		HeightUnit: s.unit,
 	})
 	for _, w := range warnings {

@@ -32,8 +32,10 @@ const defaultOut = "geored-out"
 const configHelp = `
 Job file (TOML; -config). Paths are relative to the file. Every unit is in
 the key's name:
-  crs                  projected CRS, EPSG:nnnn or a PROJ string
-  points               points CSV
+  crs                  projected CRS, EPSG:nnnn or a PROJ string; its grid
+                       in metres, US survey feet or international feet
+  points               points CSV (easting, northing in the CRS's unit;
+                       heights in length_unit)
   observations         list of observation CSVs
   out                  output folder
   length_unit          m | us-ft | intl-ft      (slope distances, heights)

@@ -37,7 +37,10 @@ type Point struct {
 
 // PointOptions say the units of the points file.
 type PointOptions struct {
-	// GridUnit is the unit of easting and northing: the CRS's own unit.
+	// GridUnit is the unit of easting and northing: the CRS's own unit,
+	// recognised from PROJ's description by units.AxisUnit.LengthUnit
+	// (never a bare metres-per-unit from PROJ, which is not a LengthUnit
+	// for the US survey foot of proj.db's grids).
 	GridUnit units.LengthUnit
 	// HeightUnit is the unit of ellipsoid_height, elevation and
 	// geoid_separation: the job's length unit.

@@ -64,7 +64,10 @@ func (u AngleUnit) String() string {
 			return n.names[0]
 		}
 	}
-	return "AngleUnit(" + strconv.Itoa(int(u)) + ")"
+	if u == 0 {
+		return "no unit"
+	}
+	return "angle unit number " + strconv.Itoa(int(u)) + " (not one geored knows)"
 }
 
 // perUnit returns the size of one unit (one degree for PackedDMS, whose

@@ -58,14 +58,19 @@ func ParseLengthUnit(name string) (LengthUnit, error) {
 	return 0, &UnitError{Kind: "length", Name: name, Want: want}
 }
 
-// String returns the unit's short name as ParseLengthUnit accepts it.
+// String returns the unit's short name as ParseLengthUnit accepts it, and
+// for a value that is not one of the units, its length in words ("a unit
+// of 0.3047972654 m", "no unit" for the zero value), for messages.
 func (u LengthUnit) String() string {
 	for _, n := range lengthUnitNames {
 		if n.unit == u {
 			return n.names[0]
 		}
 	}
-	return "LengthUnit(" + strconv.FormatFloat(float64(u), 'g', -1, 64) + " m)"
+	if u == 0 {
+		return "no unit"
+	}
+	return "a unit of " + strconv.FormatFloat(float64(u), 'g', -1, 64) + " m"
 }
 
 // valid reports whether u is one of the named units.

@@ -9,6 +9,7 @@ export LC_ALL=C
 
 gsv=$(GeodSolve --version 2>&1 | head -1 | sed "s/^GeodSolve: //")
 pjv=$(cs2cs 2>&1 | head -1)
+epsgv=$(sqlite3 /usr/share/proj/proj.db "select value from metadata where key = 'EPSG.VERSION'" 2>/dev/null || echo "of unknown version")
 
 # rand: Park–Miller minimal standard, seed and count as arguments; prints
 # uniform numbers in (0, 1), one a line.
@@ -71,3 +72,45 @@ rm -f pairs.tmp
   awk '{ print $1, $2, 0 }' geoid.tmp | cs2cs -f %.4f EPSG:4979 EPSG:4326+5773 | awk '{ printf "%.4f\n", -$3 }' | paste -d' ' geoid.tmp -
   rm -f geoid.tmp
 } >egm96_cs2cs.txt
+
+# --- State Plane and UTM grids in US survey feet, international feet and metres
+# Each CRS's base geographic CRS (no datum shift: cs2cs applies the CRS's own
+# map projection only) to the grid, two points a grid: one near the middle of
+# the zone and one near its edge. The unit code is the EPSG unit of measure of
+# the CRS's axes as projinfo prints it in WKT1 (9001 metre, 9002 foot, the
+# international foot, 9003 US survey foot).
+{
+  echo "# Grid coordinates of geographic points in projected CRSs in US survey feet, international feet and metres,"
+  echo "# computed with cs2cs, $pjv, proj-data 9.1.1, proj.db with the EPSG dataset $epsgv."
+  echo "# Command: echo 'lat lon' | cs2cs -f %.6f EPSG:<base> EPSG:<crs>   (input latitude first: the EPSG order of"
+  echo "# geographic CRSs; output easting then northing, the axis order of every CRS here, in the CRS's own unit)"
+  echo "# Unit: projinfo -q -o WKT1_GDAL EPSG:<crs>, the EPSG code of the CRS's linear UNIT."
+  echo "# Columns: crs base (EPSG codes)  unit (EPSG unit of measure)  lat lon (degrees)  easting northing (CRS unit)"
+  echo "# Tolerance: 1 mm in easting and northing, stated in the grid's unit (0.00328 ft)."
+  while read -r crs base lat lon; do
+    unit=$(projinfo -q -o WKT1_GDAL "EPSG:$crs" | tr -d ' \n' | grep -o 'UNIT\["[^"]*",[0-9.e-]*,AUTHORITY\["EPSG","[0-9]*"\]\],AXIS' | sed 's/.*"\([0-9]*\)"\]\],AXIS/\1/')
+    en=$(echo "$lat $lon" | cs2cs -f %.6f "EPSG:$base" "EPSG:$crs" | awk '{ print $1, $2 }')
+    echo "$crs $base $unit $lat $lon $en"
+  done <<'CASES'
+2231 4269 40.5 -105.1
+2231 4269 40.98 -108.9
+2263 4269 40.75 -73.5
+2263 4269 41.15 -71.9
+2236 4269 27.5 -80.5
+2236 4269 29.8 -82.2
+2278 4269 29.7 -95.4
+2278 4269 30.6 -104.8
+6430 6318 40.5 -105.1
+2223 4269 33.4 -112.0
+2223 4269 36.9 -113.3
+2252 4269 44.5 -85.0
+2252 4269 45.9 -87.0
+2256 4269 46.8 -110.0
+2256 4269 48.99 -116.0
+2913 4152 45.5 -122.7
+26913 4269 40.5 -105.1
+26913 4269 48.0 -102.1
+32613 4326 40.5 -105.1
+32613 4326 0.5 -107.9
+CASES
+} >stateplane_cs2cs.txt
