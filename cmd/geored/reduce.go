@@ -335,6 +335,7 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 		sum.Inputs = append(sum.Inputs, report.InputFile{Role: "observations", Path: src.Name, SHA256: hex.EncodeToString(hashes[i].Sum(nil)), Rows: perSource.count(src.Name)})
 	}
 	sum.Settings = settings(j, s.crs, s.geoidGrid, opt.strict)
+	sum.Settings.GridUnit = s.gridUnit.String()
 	sum.InputHash = inputHash(sum)
 	agg.Finish(sum)
 	report.Decide(sum, opt.strict)

@@ -80,7 +80,7 @@ footer { margin-top: 2rem; }
 <tr><th>Ellipsoid</th><td>{{.Settings.Ellipsoid}}</td></tr>
 <tr><th>Distances reduced to</th><td>{{.Settings.ReductionDatum}}</td></tr>
 <tr><th>Geoid</th><td>{{.Settings.Geoid}}</td></tr>
-<tr><th>Units of the input</th><td>lengths {{.Settings.LengthUnit}}, angles {{.Settings.AngleUnit}}</td></tr>
+<tr><th>Units of the input</th><td>lengths {{.Settings.LengthUnit}}, angles {{.Settings.AngleUnit}}{{with .Settings.GridUnit}}, easting and northing {{.}}{{end}}</td></tr>
 <tr><th>Coefficient of refraction k</th><td>{{f .Settings.RefractionK 3}}</td></tr>
 <tr><th>Tolerance</th><td>{{.Settings.Tolerance}}</td></tr>
 <tr><th>Critical value of |w|</th><td>{{f .Settings.CriticalValue 2}}</td></tr>

@@ -113,6 +113,7 @@ type Settings struct {
 	Ellipsoid      string               `json:"ellipsoid"` // name, a and 1/f
 	ReductionDatum string               `json:"reduction_datum"`
 	LengthUnit     string               `json:"length_unit"`
+	GridUnit       string               `json:"grid_unit"` // of the points' easting and northing: the CRS's axis unit
 	AngleUnit      string               `json:"angle_unit"`
 	Geoid          string               `json:"geoid"` // grid name, "constant N = …", or "none"
 	RefractionK    float64              `json:"refraction_k"`
