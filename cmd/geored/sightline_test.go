@@ -402,7 +402,7 @@ func svgOf(t *testing.T, doc string) svgDoc {
 
 // box is the text's extent on the page, measured with gonum's metrics of
 // its font and widened by a third for a viewer's wider font.
-func (tx svgText) box(t *testing.T) svgRect {
+func (tx svgText) box() svgRect {
 	variant := "Serif"
 	if strings.Contains(tx.family, "Sans") {
 		variant = "Sans"
@@ -461,7 +461,7 @@ func (d svgDoc) legendBox(t *testing.T) (svgRect, []string) {
 		if tx.rotated || !slices.ContainsFunc(sightLegendNames, func(n string) bool { return strings.HasPrefix(tx.text, n) }) {
 			continue
 		}
-		b := tx.box(t)
+		b := tx.box()
 		b.minX, b.maxX = b.minX-24, b.maxX+24
 		if names == nil {
 			box = b
