@@ -186,3 +186,26 @@ func BenchmarkCompareDistance(b *testing.B) {
 	}
 	sink = obs
 }
+
+// BenchmarkSightlineCheck is the verdict on a 12 km sight over a profile
+// of 100 points: the lowest point's search, the horizons and the points.
+func BenchmarkSightlineCheck(b *testing.B) {
+	s, err := NewSightline(12000, 10, 12, meanRadius, 0.13)
+	if err != nil {
+		b.Fatal(err)
+	}
+	pts := make([]ProfilePoint, 100)
+	for i := range pts {
+		pts[i] = ProfilePoint{Distance: 120 * float64(i), Height: 5 + float64(i%7)}
+	}
+	minClearance := 2.0
+	b.ReportAllocs()
+	for b.Loop() {
+		c, err := s.Check(pts, minClearance)
+		if err != nil {
+			b.Fatal(err)
+		}
+		minClearance = 2 + c.LowestClearance*1e-12
+	}
+	sink = minClearance
+}

@@ -40,3 +40,24 @@ func ExampleDistanceSpec_At() {
 	// linear: 5.00 mm
 	// root-sum-square: 3.61 mm
 }
+
+// A 12 km sight between towers 10 m and 12 m up, over ground 5, 7 and
+// 8.5 m high, with 2 m of clearance asked for: the ray, 8.54 m up at
+// 6 km by the rule 11 − 0.87·(6 km)²/2R, misses the minimum over two of
+// the points, the worst by 0.84 m at 9 km.
+func ExampleSightline_Check() {
+	s, err := reduce.NewSightline(12000, 10, 12, 6371008.8, 0.13)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	c, err := s.Check([]reduce.ProfilePoint{{Distance: 3000, Height: 5}, {Distance: 6000, Height: 7}, {Distance: 9000, Height: 8.5}}, 2)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	w := c.Profile[c.Worst]
+	fmt.Printf("clear %t: surface fails %t, %d of %d points fail; the worst at %.0f m, clearance %.4f m\n",
+		c.Clear(), c.SurfaceFails, c.Failing, len(c.Profile), w.Distance, w.Clearance)
+	// Output: clear false: surface fails false, 2 of 3 points fail; the worst at 9000 m, clearance 1.1565 m
+}

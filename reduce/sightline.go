@@ -289,14 +289,32 @@ type PointClearance struct {
 	ProfilePoint
 	Ray       float64 // the ray's height above the surface there
 	Clearance float64 // Ray − Height
-	Below     bool    // Clearance under the minimum asked for
+	// Below: the point fails the minimum clearance (FailsClearance);
+	// Blocks: it reaches the ray (Clearance ≤ 0), an obstruction, which
+	// also fails.
+	Below, Blocks bool
+}
+
+// FailsClearance reports whether a clearance c (metres) of the ray over
+// the surface or a profile point fails the minimum clearance asked for:
+// c under the minimum, or the ray not above the point at all (c ≤ 0, a
+// ray that touches an obstacle is stopped by it). It is the one rule of
+// the verdict (SightlineCheck), applied alike to the surface and to every
+// profile point.
+func FailsClearance(c, minClearance float64) bool {
+	return c < minClearance || c <= 0
+}
+
+// checkMinClearance validates a minimum clearance: zero or more, metres.
+func checkMinClearance(minClearance float64) error {
+	return needRange("sightline", "minimum clearance", minClearance, "m", 0, 1e5)
 }
 
 // ProfileClearance returns the ray's clearance over each profile point in
-// order of distance, flagging those below minClearance (metres). A point
-// outside 0..Arc is an *InputError.
+// order of distance, flagging those that fail minClearance (metres, zero
+// or more; FailsClearance). A point outside 0..Arc is an *InputError.
 func (s Sightline) ProfileClearance(points []ProfilePoint, minClearance float64) ([]PointClearance, error) {
-	if err := needFinite("sightline", "minimum clearance", minClearance, "m"); err != nil {
+	if err := checkMinClearance(minClearance); err != nil {
 		return nil, err
 	}
 	out := make([]PointClearance, 0, len(points))
@@ -309,7 +327,8 @@ func (s Sightline) ProfileClearance(points []ProfilePoint, minClearance float64)
 			return nil, err
 		}
 		c := ray - p.Height
-		out = append(out, PointClearance{ProfilePoint: p, Ray: ray, Clearance: c, Below: c < minClearance})
+		out = append(out, PointClearance{ProfilePoint: p, Ray: ray, Clearance: c,
+			Below: FailsClearance(c, minClearance), Blocks: c <= 0})
 	}
 	sort.SliceStable(out, func(i, j int) bool { return out[i].Distance < out[j].Distance })
 	return out, nil
@@ -326,7 +345,10 @@ type SightlineSummary struct {
 	// the surface; Visible is the part of the target above it
 	// (HeightB − HiddenAtB, negative when all of it is hidden).
 	HiddenAtB, Visible float64
-	Clear              bool // the ray stays above the surface all along
+	// AboveSurface: the ray stays above the surface all along. It is a
+	// fact of the geometry, not the verdict on the line, which weighs the
+	// minimum clearance and the profile too (SightlineCheck).
+	AboveSurface bool
 }
 
 // Summarize computes the summary of a sightline.
@@ -336,7 +358,7 @@ func (s Sightline) Summarize() (SightlineSummary, error) {
 	if r.LowestAt, r.LowestClearance, err = s.Lowest(); err != nil {
 		return r, err
 	}
-	r.Clear = r.LowestClearance > 0
+	r.AboveSurface = r.LowestClearance > 0
 	if s.HeightA >= 0 {
 		if r.HorizonA, err = HorizonDistance(s.HeightA, s.Radius, s.K); err != nil {
 			return r, err
@@ -352,4 +374,59 @@ func (s Sightline) Summarize() (SightlineSummary, error) {
 	}
 	r.Visible = s.HeightB - r.HiddenAtB
 	return r, nil
+}
+
+// SightlineCheck is the verdict on a line of sight, with what it rests
+// on: the line clears only if the ray keeps the minimum clearance over
+// the surface all along and over every profile point (FailsClearance on
+// each). Compute it once, with Sightline.Check, and let every output of
+// the line (its headline, table, CSV, plot and exit status) read it, so
+// that they cannot disagree.
+type SightlineCheck struct {
+	SightlineSummary
+	MinClearance float64          // metres, zero or more
+	Profile      []PointClearance // in order of distance
+	// SurfaceFails: the ray's lowest clearance over the surface
+	// (LowestClearance, at LowestAt) fails the minimum clearance.
+	SurfaceFails bool
+	// Failing profile points (Below), and how many of them reach the
+	// ray (Blocks).
+	Failing, Blocking int
+	// Worst is the index in Profile of the point of least clearance, the
+	// first of equals; −1 without a profile.
+	Worst int
+}
+
+// Clear reports whether the line clears: the surface and every profile
+// point by the minimum clearance.
+func (c SightlineCheck) Clear() bool { return !c.SurfaceFails && c.Failing == 0 }
+
+// Check computes the verdict on the sightline over the profile points
+// (none for the surface alone) with minClearance, metres, zero or more.
+func (s Sightline) Check(points []ProfilePoint, minClearance float64) (SightlineCheck, error) {
+	if err := checkMinClearance(minClearance); err != nil {
+		return SightlineCheck{}, err
+	}
+	sum, err := s.Summarize()
+	if err != nil {
+		return SightlineCheck{}, err
+	}
+	prof, err := s.ProfileClearance(points, minClearance)
+	if err != nil {
+		return SightlineCheck{}, err
+	}
+	c := SightlineCheck{SightlineSummary: sum, MinClearance: minClearance, Profile: prof, Worst: -1,
+		SurfaceFails: FailsClearance(sum.LowestClearance, minClearance)}
+	for i, p := range prof {
+		if p.Below {
+			c.Failing++
+		}
+		if p.Blocks {
+			c.Blocking++
+		}
+		if c.Worst < 0 || p.Clearance < prof[c.Worst].Clearance {
+			c.Worst = i
+		}
+	}
+	return c, nil
 }

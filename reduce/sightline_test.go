@@ -200,7 +200,7 @@ func TestSightlineSummary(t *testing.T) {
 	require.NoError(t, err)
 	r, err := s.Summarize()
 	require.NoError(t, err)
-	assert.False(t, r.Clear)
+	assert.False(t, r.AboveSurface)
 	assert.InDelta(t, 4.83*km, r.HorizonA, 5, "horizon of A (m)")
 	assert.InDelta(t, 2.10, r.HiddenAtB, 0.005, "hidden (m)")
 	assert.Less(t, r.Visible, 0.0)
@@ -226,4 +226,82 @@ func TestSightlineRejects(t *testing.T) {
 	} {
 		assert.Truef(t, errors.As(err, &ie), "%s: want *InputError, got %v", name, err)
 	}
+}
+
+// The verdict weighs the surface and every profile point by one rule:
+// the line clears only if the ray keeps the minimum clearance over all of
+// them. The ray's height over a point is checked against the rule of
+// thumb hA + (hB − hA)x/L − (1 − k)x(L − x)/2R (common practice;
+// REFERENCES.md §7, (1 − k)L²/2R), good to a millimetre or two here.
+func TestSightlineCheck(t *testing.T) {
+	const arc, ha, hb, k = 16 * km, 15.0, 15.0, 0.13
+	s, err := NewSightline(arc, ha, hb, meanRadius, k)
+	require.NoError(t, err)
+	rule := func(x float64) float64 { return ha + (hb-ha)*x/arc - (1-k)*x*(arc-x)/(2*meanRadius) }
+	// the middle: 15 − 0.87·8000²/2R = 15 − 4.3698 = 10.6302 m up
+	require.InDelta(t, 10.6302, rule(8*km), 1e-4, "rule at the middle (m)")
+
+	pts := []ProfilePoint{{14 * km, 3}, {2 * km, 4}, {5 * km, 9}, {8 * km, 14}, {11 * km, 9}}
+	for _, tc := range []struct {
+		name                        string
+		pts                         []ProfilePoint
+		min                         float64
+		clear, surfaceFails         bool
+		failing, blocking, worstIdx int
+	}{
+		{"surface alone, no minimum", nil, 0, true, false, 0, 0, -1},
+		// lowest clearance 10.63 m over the surface, under 12 m
+		{"surface alone, 12 m minimum", nil, 12, false, true, 0, 0, -1},
+		// clearances 9.09, 2.24, −3.37, 2.24, 10.09 m: the middle point
+		// stands 3.37 m above the ray
+		{"profile, no minimum", pts, 0, false, false, 1, 1, 2},
+		{"profile, 2 m minimum", pts, 2, false, false, 1, 1, 2},
+		{"profile, 2.5 m minimum", pts, 2.5, false, false, 3, 1, 2},
+		{"profile without the obstacle, 2 m", []ProfilePoint{pts[0], pts[1], pts[2], pts[4]}, 2, true, false, 0, 0, 1},
+	} {
+		c, err := s.Check(tc.pts, tc.min)
+		require.NoError(t, err, tc.name)
+		assert.Equal(t, tc.clear, c.Clear(), tc.name)
+		assert.Equal(t, tc.surfaceFails, c.SurfaceFails, tc.name)
+		assert.Equal(t, tc.failing, c.Failing, tc.name)
+		assert.Equal(t, tc.blocking, c.Blocking, tc.name)
+		assert.Equal(t, tc.worstIdx, c.Worst, tc.name)
+		assert.InDelta(t, rule(c.LowestAt), c.LowestClearance, 2*mm, "%s: lowest clearance against the rule (m)", tc.name)
+		for _, p := range c.Profile {
+			assert.InDeltaf(t, rule(p.Distance)-p.Height, p.Clearance, 2*mm, "%s: clearance at %g m against the rule (m)", tc.name, p.Distance)
+			assert.Equal(t, p.Clearance < tc.min || p.Clearance <= 0, p.Below, "%s at %g m", tc.name, p.Distance)
+		}
+	}
+}
+
+// A ray that only touches an obstacle is stopped by it, and so is one
+// that touches the surface: with no minimum, clearance 0 fails.
+func TestFailsClearance(t *testing.T) {
+	for _, tc := range []struct {
+		c, min float64
+		fails  bool
+	}{
+		{0, 0, true}, {-1, 0, true}, {1e-9, 0, false}, {1.99, 2, true}, {2, 2, false}, {-1, 2, true},
+	} {
+		assert.Equalf(t, tc.fails, FailsClearance(tc.c, tc.min), "clearance %g m, minimum %g m", tc.c, tc.min)
+	}
+	s, err := NewSightline(20*km, 30, 30, meanRadius, 0.13)
+	require.NoError(t, err)
+	mid, _ := s.Clearance(10 * km)
+	c, err := s.Check([]ProfilePoint{{10 * km, mid}}, 0)
+	require.NoError(t, err)
+	assert.True(t, c.Profile[0].Blocks, "a point at the ray's height blocks it")
+	assert.False(t, c.Clear())
+}
+
+func TestSightlineCheckRejects(t *testing.T) {
+	s, err := NewSightline(20*km, 30, 30, meanRadius, 0.13)
+	require.NoError(t, err)
+	var ie *InputError
+	for _, m := range []float64{-0.5, math.NaN(), math.Inf(1)} {
+		_, err := s.Check(nil, m)
+		assert.Truef(t, errors.As(err, &ie), "minimum clearance %g: want *InputError, got %v", m, err)
+	}
+	_, err = s.Check([]ProfilePoint{{25 * km, 0}}, 0)
+	assert.True(t, errors.As(err, &ie), "a profile point beyond B")
 }
