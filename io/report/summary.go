@@ -19,8 +19,9 @@ type Summary struct {
 	Counts    Counts        `json:"counts"`
 	Residuals ResidualStats `json:"residuals"`
 	// Fit of the ellipsoid residuals against distance: residual =
-	// constant + scale · distance. A constant far from zero points at a
-	// wrong prism or additive constant, a scale at a wrong ppm setting.
+	// constant + scale · distance. A significant constant points at a
+	// wrong prism or additive constant, a scale at a wrong ppm setting;
+	// with too little evidence (Fit.Evidence) neither is tested.
 	Fit *Fit `json:"fit,omitempty"`
 
 	// Lines holds the flagged lines (at most MaxListedLines of them, the
