@@ -28,20 +28,12 @@ var update = flag.Bool("update", false, "rewrite golden files and the demo's sim
 // that cannot be read. The values are invented; the seed fixes them.
 func simulateDemo(t *testing.T) []byte {
 	t.Helper()
-	f, err := jobconfig.Parse(mustDemo(t, "demo/job.toml"), "demo/job.toml")
-	require.NoError(t, err)
-	j, err := jobconfig.Resolve(f, "demo/job.toml")
-	require.NoError(t, err)
-	s, err := openSession(j.CRS, "", units.Metre)
-	require.NoError(t, err)
-	defer s.close()
-	_, err = s.loadPoints(bytes.NewReader(mustDemo(t, "demo/points.csv")), "demo/points.csv", warnTo(os.Stderr))
-	require.NoError(t, err)
-	plan, err := job.NewPlan(j, s.crs, s.geod, s.control)
-	require.NoError(t, err)
+	sim := newSimulator(t, mustDemo(t, "demo/job.toml"), mustDemo(t, "demo/points.csv"))
+	defer sim.close()
 	pairs, err := readLinePairs(bytes.NewReader(mustDemo(t, "demo/lines.csv")), "demo/lines.csv")
 	require.NoError(t, err)
-	prof := j.Profiles[j.DefaultInstrument]
+	prof := sim.profile()
+	s := sim.s
 
 	rng := rand.New(rand.NewPCG(2026, 1202))
 	var b bytes.Buffer
@@ -56,9 +48,7 @@ func simulateDemo(t *testing.T) []byte {
 				if dir == 1 {
 					from, to = to, from
 				}
-				a, bb := s.control[from], s.control[to]
-				line, _, err := job.NewReduceLine(a, bb, s.geod, s.proj)
-				require.NoError(t, err)
+				a := s.control[from]
 				hi := 1.55 + math.Round(rng.Float64()*150)/1000
 				ht := 1.500 + 0.100*float64(rng.IntN(3))
 				clock += 1
@@ -84,11 +74,7 @@ func simulateDemo(t *testing.T) []byte {
 				}
 				obs := reduce.Observation{InstrumentHeight: hi, TargetHeight: ht, PrismConstant: prism,
 					Meteorology: reduce.Meteorology{Instrument: met, HaveInstrument: true}}
-				mFrom, okFrom := plan.Mark(from)
-				mTo, okTo := plan.Mark(to)
-				require.True(t, okFrom && okTo)
-				p, err := reduce.Predict(obs, trueProf, line, mFrom, mTo)
-				require.NoError(t, err)
+				p := sim.predict(t, obs, trueProf, from, to)
 				d := p.Displayed.Slope
 				edm := math.Hypot(1e-3, 1.5e-6*d)
 				d += rng.NormFloat64()*edm + rng.NormFloat64()*0.5e-3*math.Sqrt2
@@ -111,6 +97,57 @@ func simulateDemo(t *testing.T) []byte {
 	fmt.Fprintf(&b, "%d,NB-PILLAR1,SB-PILLAR3,701.2210,90.0312,1.602,1.600,11.4,1008.1,80,\n", id+1)
 	fmt.Fprintf(&b, "%d,HILLTOP,NB-PILLAR1,5626.3512,269.0944,1.580,1.500,11.5,998.5,79,\n", id+2)
 	return b.Bytes()
+}
+
+// A simulator runs the chain backwards (reduce.Predict) over a job's
+// control: what an instrument would display between two of its points.
+type simulator struct {
+	job  *jobconfig.Job
+	s    *session
+	plan *job.Plan
+}
+
+// newSimulator opens the job of jobTOML (named demo/job.toml) over the
+// control points of points.
+func newSimulator(t *testing.T, jobTOML, points []byte) *simulator {
+	t.Helper()
+	f, err := jobconfig.Parse(jobTOML, "demo/job.toml")
+	require.NoError(t, err)
+	j, err := jobconfig.Resolve(f, "demo/job.toml")
+	require.NoError(t, err)
+	s, err := openSession(j.CRS, "", units.Metre)
+	require.NoError(t, err)
+	_, err = s.loadPoints(bytes.NewReader(points), "points.csv", warnTo(os.Stderr))
+	if err != nil {
+		s.close()
+		require.NoError(t, err)
+	}
+	plan, err := job.NewPlan(j, s.crs, s.geod, s.control)
+	if err != nil {
+		s.close()
+		require.NoError(t, err)
+	}
+	return &simulator{job: j, s: s, plan: plan}
+}
+
+func (sim *simulator) close() { sim.s.close() }
+
+// profile is the job's default instrument profile.
+func (sim *simulator) profile() jobconfig.Profile { return sim.job.Profiles[sim.job.DefaultInstrument] }
+
+// predict is what an instrument whose chain is chain displays for obs
+// from point from to point to.
+func (sim *simulator) predict(t *testing.T, obs reduce.Observation, chain reduce.Job, from, to string) reduce.Prediction {
+	t.Helper()
+	s := sim.s
+	line, _, err := job.NewReduceLine(s.control[from], s.control[to], s.geod, s.proj)
+	require.NoError(t, err)
+	mFrom, okFrom := sim.plan.Mark(from)
+	mTo, okTo := sim.plan.Mark(to)
+	require.True(t, okFrom && okTo)
+	p, err := reduce.Predict(obs, chain, line, mFrom, mTo)
+	require.NoError(t, err)
+	return p
 }
 
 // swapDecimals swaps the second and third decimals of a number written

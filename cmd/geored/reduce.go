@@ -588,7 +588,23 @@ func printVerdict(w io.Writer, s *report.Summary, out string) {
 		fmt.Fprintf(w, "residuals (reduced − control, ellipsoid): mean %.1f mm, rms %.1f mm, max |w| %.2f\n", e.MeanMM, e.RMSMM, e.MaxAbsW)
 	}
 	if f := s.Fit; f != nil {
-		fmt.Fprintf(w, "fit over %d lines: constant %.1f ± %.1f mm, scale %.2f ± %.2f ppm\n", f.N, f.ConstantMM, f.ConstantSigma, f.ScalePPM, f.ScaleSigma)
+		fmt.Fprintf(w, "fit over %d lines: constant %.1f ± %.1f mm, scale %.2f ± %.2f ppm", f.N, f.ConstantMM, f.ConstantSigma, f.ScalePPM, f.ScaleSigma)
+		switch {
+		case !f.Enough():
+			fmt.Fprintf(w, "; not enough evidence for a diagnosis: %s", f.EvidenceReason())
+		case f.ConstantSignificant && f.ScaleSignificant:
+			fmt.Fprint(w, "; both significant: check the prism and additive constants and the ppm")
+		case f.ConstantSignificant:
+			fmt.Fprint(w, "; the constant is significant: check the prism and additive constants")
+		case f.ScaleSignificant:
+			fmt.Fprint(w, "; the scale is significant: check the ppm and the atmosphere")
+		default:
+			fmt.Fprint(w, "; neither term significant")
+		}
+		fmt.Fprintln(w)
+		if lo := f.LeftOut(); lo != "" {
+			fmt.Fprintf(w, "  left out of the fit: %s\n", lo)
+		}
 	}
 	for _, l := range s.Lines {
 		if !l.Flagged() {

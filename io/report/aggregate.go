@@ -98,12 +98,15 @@ const DefaultGlobalTestAlpha = 0.05
 // factor (0 < α < 1).
 func (a *Aggregator) SetGlobalTestAlpha(alpha float64) { a.globalAlpha = alpha }
 
-// lineAcc accumulates one line's observations; 112 bytes.
+// lineAcc accumulates one line's observations; 128 bytes.
 type lineAcc struct {
 	from, to           int32 // point numbers, in the direction first observed
 	outliers, outOfTol int32
 	dirN               [2]int32 // observations from → to as first seen, and the other way
+	flagged            int32    // observations flagged (Aggregator.obsFlagged)
+	_                  int32    // free: the record is 8-aligned
 	mean, m2           float64  // Welford: mean reduced arc and sum of squared deviations
+	unflaggedMean      float64  // mean reduced arc of the unflagged observations
 	gridMean           float64  // mean reduced grid distance
 	min, max           float64
 	sumVar             float64 // Σσ² of the observations
@@ -168,7 +171,8 @@ func (a *Aggregator) Add(r *job.Result) {
 	if e.Outlier {
 		a.outliers++
 	}
-	if e.Outlier || (a.hasTol && e.OutOfTolerance) {
+	flagged := a.obsFlagged(red)
+	if flagged {
 		a.counts.Flagged++
 	} else {
 		a.unflaggedW2 += w2
@@ -198,6 +202,11 @@ func (a *Aggregator) Add(r *job.Result) {
 	if n == 1 || arc > l.max {
 		l.max = arc
 	}
+	if flagged {
+		l.flagged++
+	} else {
+		l.unflaggedMean += (arc - l.unflaggedMean) / float64(n-l.flagged)
+	}
 	l.gridMean += (red.Grid.GridDistance - l.gridMean) / float64(n)
 	l.sumVar += e.Sigma * e.Sigma
 	l.maxAbsW = math.Max(l.maxAbsW, math.Abs(e.Standardized))
@@ -214,6 +223,14 @@ func (a *Aggregator) Add(r *job.Result) {
 	z, slope := float64(r.Obs.Zenith), red.SecondVelocity.Distance
 	l.zenith[dir] += z + (r.Obs.TargetHeight-r.Obs.InstrumentHeight)*math.Sin(z)/slope
 	l.slope[dir] += slope
+}
+
+// obsFlagged reports whether an observation is flagged: over the critical
+// value, or over the job's tolerance when it has one. The counts, the
+// lines' FlaggedObservations and the fit's leaving out all follow it.
+func (a *Aggregator) obsFlagged(red *reduce.Reduction) bool {
+	e := &red.EllipsoidResidual
+	return e.Outlier || (a.hasTol && e.OutOfTolerance)
 }
 
 // count is the line's observations, either way.
@@ -241,6 +258,10 @@ func (a *Aggregator) line(id int32, l *lineAcc, limits *spreadLimits) Line {
 	sigmaMean := math.Sqrt(l.sumVar) / float64(n)
 	out.ResidualMM, out.ResidualPPM, out.SigmaMM = res*1e3, res/out.Geodesic*1e6, sigmaMean*1e3
 	out.gridResidualMM = (l.gridMean - out.Grid) * 1e3
+	out.FlaggedObservations = int(l.flagged)
+	if l.flagged < n {
+		out.UnflaggedResidualMM = (l.unflaggedMean - out.Geodesic) * 1e3
+	}
 	if out.Reciprocal {
 		nf, nb := float64(l.dirN[0]), float64(l.dirN[1])
 		slope := (l.slope[0]/nf + l.slope[1]/nb) / 2
@@ -340,27 +361,30 @@ func (a *Aggregator) Finish(s *Summary) {
 	fit := make([]fitPoint, n) // each part's lines from its first place on
 	nfit := make([]int, parts)
 	worsts := make([][]flaggedLine, parts)
+	leftOutObs := make([]int, parts) // flagged observations each part leaves out of the fit
 	var wg sync.WaitGroup
 	for p := range parts {
 		lo, hi := min(p*words*64, n), min((p+1)*words*64, n)
 		wg.Go(func() {
-			k := lo
+			k, leftOut := lo, 0
 			var worst []flaggedLine
 			limits := spreadLimits{critical: a.critical}
 			for i := lo; i < hi; i++ {
 				rec, id := a.at(i)
 				l := a.line(id, rec, &limits)
 				ell[i], grid[i] = l.ResidualMM, l.gridResidualMM
-				if l.SigmaMM > 0 {
-					fit[k] = fitPoint{x: l.Geodesic, y: l.ResidualMM, w: 1 / (l.SigmaMM * l.SigmaMM)}
+				pt, obs, ok := fitPointOf(&l)
+				if ok {
+					fit[k] = pt
 					k++
 				}
+				leftOut += obs
 				if l.Flagged() {
 					a.flagged[i/64] |= 1 << (i % 64)
 					worst = append(worst, flaggedLine{i, l.MaxAbsW})
 				}
 			}
-			nfit[p], worsts[p] = k-lo, worst
+			nfit[p], worsts[p], leftOutObs[p] = k-lo, worst, leftOut
 		})
 	}
 	wg.Wait()
@@ -393,7 +417,12 @@ func (a *Aggregator) Finish(s *Summary) {
 	s.LinesNotListed = n - len(s.Lines)
 	wg.Go(func() { s.Residuals.Ellipsoid.MedianMM = median(ell) })
 	s.Residuals.Grid.MedianMM = median(grid)
-	s.Fit = fitLine(fit, a.critical)
+	if s.Fit = fitLine(fit, a.critical); s.Fit != nil {
+		s.Fit.LinesLeftOut = n - len(fit)
+		for _, k := range leftOutObs {
+			s.Fit.ObservationsLeftOut += k
+		}
+	}
 	wg.Wait()
 }
 

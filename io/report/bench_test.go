@@ -32,3 +32,39 @@ func BenchmarkAppendReducedRow(b *testing.B) {
 	}
 	b.SetBytes(int64(len(buf)))
 }
+
+// BenchmarkAggregatorAdd is the summary's part of the per-row path: one
+// reduced observation added to its line's record, over 200,000 lines
+// (one in five flagged), as a large job meets them.
+func BenchmarkAggregatorAdd(b *testing.B) {
+	const lines = 200000
+	a := NewAggregator(3.29, reduce.DistanceSpec{}, false, sameLine{})
+	r := &job.Result{Points: [2]int32{0, 1}}
+	red := &r.Reduction
+	red.Geometry.Arc, red.Grid.GridDistance, red.SecondVelocity.Distance = 2925.6123901, 2924.4441, 2925.773309
+	red.EllipsoidResidual = reduce.ResidualResult{Residual: 0.00041, PPM: 0.14, Sigma: 0.0047, Standardized: 0.087}
+	i := 0
+	for b.Loop() {
+		r.LineID = int32(i % lines)
+		red.EllipsoidResidual.Outlier = i%5 == 0
+		a.Add(r)
+		i++
+	}
+}
+
+// BenchmarkFitResiduals is the fit of residuals against distance with its
+// evidence, over 200,000 lines of which 1 % are blunders for its test.
+func BenchmarkFitResiduals(b *testing.B) {
+	lines := fitLines(200000, 1, 0.5, 2, 21)
+	for i := 0; i < len(lines); i += 100 {
+		lines[i].ResidualMM += 50
+		lines[i].UnflaggedResidualMM = lines[i].ResidualMM
+	}
+	var f *Fit
+	for b.Loop() {
+		f = FitResiduals(lines, 3.29)
+	}
+	if f == nil || f.LinesRejected < len(lines)/100 { // the blunders and about 0.1 % of the others
+		b.Fatalf("fit %+v", f)
+	}
+}

@@ -205,17 +205,21 @@ footer { margin-top: 2rem; }
 
 <section id="fit">
 <h2>Fit of residuals against distance</h2>
-<p>A least-squares line through the ellipsoid residuals: residual = constant + scale · distance.
-A significant constant suggests a wrong prism constant or additive constant; a significant scale, a wrong ppm or atmosphere setting.</p>
+<p>A weighted least-squares line through the lines' mean ellipsoid residuals: residual = constant + scale · distance.
+Each line weighs as one of its observations (repeated sets share their centring, heights and control); where a line's observations disagree, its flagged ones are left out of its mean.
+A significant constant suggests a wrong prism constant or additive constant; a significant scale, a wrong ppm or atmosphere setting. A diagnosis needs at least {{.FitMinLines}} lines, the longest at least {{.FitMinRatio}} times the shortest, and no line deciding the fit alone (leverage at most {{.FitMaxLeverage}}).</p>
 {{- with .Fit}}
+{{- if not .Enough}}
+<p class="note bad" id="fit-evidence"><strong>Not enough evidence for a diagnosis:</strong> {{.EvidenceReason}}. The estimates are shown for information only and are not a diagnosis; neither term is tested.</p>
+{{- end}}
 <table class="lines" id="fit-table">
 <thead><tr><th>term</th><th>estimate</th><th>σ</th><th>significant</th></tr></thead>
 <tbody>
-<tr><th scope="row">constant</th><td class="num">{{mm .ConstantMM}} mm</td><td class="num">{{mm .ConstantSigma}} mm</td><td>{{yesno .ConstantSignificant}}</td></tr>
-<tr><th scope="row">scale</th><td class="num">{{ppm .ScalePPM}} ppm</td><td class="num">{{ppm .ScaleSigma}} ppm</td><td>{{yesno .ScaleSignificant}}</td></tr>
+<tr><th scope="row">constant</th><td class="num">{{mm .ConstantMM}} mm</td><td class="num">{{mm .ConstantSigma}} mm</td><td>{{if .Enough}}{{yesno .ConstantSignificant}}{{else}}not tested{{end}}</td></tr>
+<tr><th scope="row">scale</th><td class="num">{{ppm .ScalePPM}} ppm</td><td class="num">{{ppm .ScaleSigma}} ppm</td><td>{{if .Enough}}{{yesno .ScaleSignificant}}{{else}}not tested{{end}}</td></tr>
 </tbody>
 </table>
-<p>Variance factor s₀² = {{f .VarianceFactor 2}} from {{.N}} observations.</p>
+<p>Variance factor s₀² = {{f .VarianceFactor 2}} from {{.N}} lines, {{m0 .ShortestM}} m to {{m0 .LongestM}} m; largest leverage {{f .MaxLeverage 2}}.{{with .LeftOut}} Left out of the fit: {{.}}.{{end}}</p>
 {{- end}}
 {{- range .FitReading}}
 <p>{{.}}</p>
@@ -275,6 +279,7 @@ var page = template.Must(template.New("report.html").Funcs(template.FuncMap{
 	"f1":    func(x float64) string { return fixed(x, 1) },
 	"f3":    func(x float64) string { return fixed(x, 3) },
 	"alpha": func(x float64) string { return strconv.FormatFloat(x, 'g', 3, 64) },
+	"m0":    func(x float64) string { return fixed(x, 0) },
 	"k":     refraction,
 	"flags": func(fs []string) string { return strings.Join(fs, ", ") },
 	"yesno": func(b bool) string {
@@ -310,6 +315,10 @@ type htmlView struct {
 	PlotUnlabelled, PlotMaxLabels int
 	// FitReading says in plain words what the fit's terms suggest.
 	FitReading []string
+	// FitMinLines, FitMinRatio and FitMaxLeverage are what a diagnosis
+	// needs (MinFitLines, MinFitLengthRatio, MaxFitLeverage).
+	FitMinLines                 int
+	FitMinRatio, FitMaxLeverage string
 	// FlagMeanings explain each flag that appears on the page.
 	FlagMeanings []flagMeaning
 }
@@ -338,6 +347,7 @@ func WriteHTML(w io.Writer, s *Summary) error {
 		CountsAddUp: s.Counts.Read == s.Counts.Reduced+s.Counts.Rejected,
 		PlotBars:    plotBars,
 		FitReading:  fitReading(s),
+		FitMinLines: MinFitLines, FitMinRatio: fixed(MinFitLengthRatio, 0), FitMaxLeverage: fixed(MaxFitLeverage, 1),
 	}
 	if v.Caution == "" {
 		v.Caution = Caution
@@ -381,7 +391,11 @@ func fitReading(s *Summary) []string {
 	if f == nil {
 		return nil
 	}
-	crit := fixed(s.Settings.CriticalValue, 2)
+	if !f.Enough() {
+		return []string{"No diagnosis: on this evidence a wrong prism or additive constant or a wrong ppm is neither shown nor ruled out. Observe more lines, over a wider spread of lengths, to tell."}
+	}
+	crit := fixed(f.Critical, 2) + " (Student's t with " + strconv.Itoa(f.N-2) + " degrees of freedom at the α of the job's critical value " +
+		fixed(s.Settings.CriticalValue, 2) + ")"
 	var r []string
 	if f.ConstantSignificant {
 		r = append(r, "The constant term differs from zero at the critical value "+crit+

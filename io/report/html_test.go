@@ -67,8 +67,10 @@ func testSummary() *Summary {
 			Grid:      Stats{N: 13, MeanMM: 2.2, RMSMM: 4.9, StdDevMM: 4.6, MedianMM: 1.36, MinMM: -2.97, MaxMM: 15.02, MeanPPM: 2.517, MaxAbsW: 5.14},
 		},
 		Fit: &Fit{
-			N: 13, ConstantMM: 1.84, ConstantSigma: 0.52, ScalePPM: 0.71, ScaleSigma: 0.9,
-			VarianceFactor: 1.37, ConstantSignificant: true, ScaleSignificant: false,
+			N: 13, LinesLeftOut: 1, LinesRejected: 1, ObservationsLeftOut: 2,
+			ConstantMM: 1.84, ConstantSigma: 0.52, ScalePPM: 0.71, ScaleSigma: 0.9,
+			VarianceFactor: 1.37, Evidence: EvidenceEnough, ShortestM: 88.5091, LongestM: 1208.43317, MaxLeverage: 0.41,
+			Critical: 4.5, ConstantSignificant: true, ScaleSignificant: false,
 		},
 		Lines: []Line{
 			{From: "P3", To: hostileID, Count: 2, Reciprocal: false, Geodesic: 1208.43317, Grid: 1208.0452,
@@ -184,7 +186,8 @@ func TestWriteHTMLContent(t *testing.T) {
 		"Σw²/n = 4.210, bounds 0.385 to 1.897 at α 0.05: <strong>too large</strong>; 0.930 without the flagged observations.",
 		"chance alone would give about 0.0",
 		`obs.csv:9: target &#34;&lt;Q9&gt;&#34; is not in the points file`,
-		"Variance factor s₀² = 1.37 from 13 observations.",
+		"Variance factor s₀² = 1.37 from 13 lines, 89 m to 1208 m; largest leverage 0.41. Left out of the fit: 2 flagged observation(s) from the means of lines whose observations disagree; 1 line(s) whose observations disagree and are all flagged; 1 line(s) removed by the fit&#39;s own test.",
+		"differs from zero at the critical value 4.50 (Student&#39;s t with 11 degrees of freedom",
 		"suggests a wrong prism constant",
 		"no sign of a wrong ppm or atmosphere setting",
 		"Brücke &amp; Ufer.csv",

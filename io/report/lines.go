@@ -9,7 +9,8 @@ import (
 func LinesHeader(u Units) []string {
 	l := "_" + u.suffix()
 	return []string{"from", "to", "count", "reciprocal", "control_geodesic" + l, "control_grid" + l, "mean_ellipsoid_distance" + l,
-		"spread_mm", "std_dev_mm", "residual_mm", "residual_ppm", "sigma_mm", "max_abs_w", "k_reciprocal", "flags"}
+		"spread_mm", "std_dev_mm", "residual_mm", "residual_ppm", "sigma_mm", "max_abs_w",
+		"flagged_observations", "unflagged_residual_mm", "k_reciprocal", "flags"}
 }
 
 // AppendLineRow writes one line of lines.csv.
@@ -29,6 +30,12 @@ func AppendLineRow(b []byte, l *Line, u Units) []byte {
 	for _, v := range [...]float64{l.SpreadMM, l.StdDevMM, l.ResidualMM, l.ResidualPPM, l.SigmaMM, l.MaxAbsW} {
 		b = append(b, ',')
 		b = appendFixed(b, v, 2)
+	}
+	b = append(b, ',')
+	b = strconv.AppendInt(b, int64(l.FlaggedObservations), 10)
+	b = append(b, ',')
+	if l.FlaggedObservations < l.Count {
+		b = appendFixed(b, l.UnflaggedResidualMM, 2)
 	}
 	b = append(b, ',')
 	if l.K != nil {

@@ -224,8 +224,12 @@ func residualPlot(s *Summary) ([]byte, error) {
 		fit.Width = vg.Points(1.5)
 		fit.Dashes = []vg.Length{vg.Points(6), vg.Points(3)}
 		p.Add(fit)
-		p.Legend.Add(fmt.Sprintf("fit: %s mm %s %s ppm · distance",
-			fixed(c, 1), signWord(k), fixed(math.Abs(k), 2)), fit)
+		name := "fit"
+		if !s.Fit.Enough() {
+			name = "fit, not a diagnosis"
+		}
+		p.Legend.Add(fmt.Sprintf("%s: %s mm %s %s ppm · distance",
+			name, fixed(c, 1), signWord(k), fixed(math.Abs(k), 2)), fit)
 	}
 
 	barStyle := draw.LineStyle{Color: plotBarColor, Width: vg.Points(0.8)}

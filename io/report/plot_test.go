@@ -41,6 +41,11 @@ func TestResidualPlotFitSign(t *testing.T) {
 	svg, err := residualPlot(s)
 	require.NoError(t, err)
 	assert.Contains(t, string(svg), "fit: 0.0 mm − 3.46 ppm · distance")
+
+	s.Fit.Evidence = EvidenceHighLeverage
+	svg, err = residualPlot(s)
+	require.NoError(t, err)
+	assert.Contains(t, string(svg), "fit, not a diagnosis: 0.0 mm − 3.46 ppm · distance")
 }
 
 func TestResidualPlotSkipsNonFinite(t *testing.T) {

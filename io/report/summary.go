@@ -26,8 +26,9 @@ type Summary struct {
 	// rejects.csv has them all.
 	FirstRejects []Reject `json:"first_rejects,omitempty"`
 	// Fit of the ellipsoid residuals against distance: residual =
-	// constant + scale · distance. A constant far from zero points at a
-	// wrong prism or additive constant, a scale at a wrong ppm setting.
+	// constant + scale · distance. A significant constant points at a
+	// wrong prism or additive constant, a scale at a wrong ppm setting;
+	// with too little evidence (Fit.Evidence) neither is tested.
 	Fit *Fit `json:"fit,omitempty"`
 
 	// Lines holds the flagged lines (at most MaxListedLines of them, the
@@ -181,22 +182,47 @@ type Stats struct {
 	MaxAbsW float64 `json:"max_abs_w"`
 }
 
-// Fit is a weighted least-squares line through the residuals: residual =
-// ConstantMM + ScalePPM · distance, with σ from the fit's a posteriori
-// variance factor.
+// Fit is a weighted least-squares line through the lines' residuals:
+// residual = ConstantMM + ScalePPM · distance, with σ from the fit's a
+// posteriori variance factor (see FitResiduals). Its terms are a diagnosis
+// of the instrument only when Evidence is EvidenceEnough; otherwise they
+// are shown for information and neither is significant.
 type Fit struct {
-	N             int     `json:"n"`
-	ConstantMM    float64 `json:"constant_mm"`
-	ConstantSigma float64 `json:"constant_sigma_mm"`
-	ScalePPM      float64 `json:"scale_ppm"`
-	ScaleSigma    float64 `json:"scale_sigma_ppm"`
+	// N is the lines in the fit. LinesLeftOut are lines that did not
+	// enter it (their observations disagree and every one is flagged),
+	// LinesRejected those its test removed; ObservationsLeftOut counts the
+	// flagged observations left out of their lines' means.
+	N                   int     `json:"n"`
+	LinesLeftOut        int     `json:"lines_left_out"`
+	LinesRejected       int     `json:"lines_rejected"`
+	ObservationsLeftOut int     `json:"observations_left_out"`
+	ConstantMM          float64 `json:"constant_mm"`
+	ConstantSigma       float64 `json:"constant_sigma_mm"`
+	ScalePPM            float64 `json:"scale_ppm"`
+	ScaleSigma          float64 `json:"scale_sigma_ppm"`
 	// VarianceFactor is the a posteriori variance factor s0² of the fit.
 	VarianceFactor float64 `json:"variance_factor"`
-	// Significant says which of the two terms differ from zero at the
-	// job's critical value.
+	// Evidence says whether the lines are enough for a diagnosis:
+	// "enough", or why not — "too_few_lines" (under MinFitLines),
+	// "narrow_spread" (the longest under MinFitLengthRatio times the
+	// shortest) or "high_leverage" (a line's leverage over
+	// MaxFitLeverage: it alone decides the fit). ShortestM and LongestM
+	// are the lines' lengths, MaxLeverage the largest hat value.
+	Evidence    string  `json:"evidence"`
+	ShortestM   float64 `json:"shortest_m"`
+	LongestM    float64 `json:"longest_m"`
+	MaxLeverage float64 `json:"max_leverage"`
+	// Critical is the critical value of Student's t with N − 2 degrees
+	// of freedom at the job's α, which a term's |estimate|/σ must pass.
+	Critical float64 `json:"critical_value"`
+	// Significant says which of the two terms differ from zero: never
+	// without enough evidence.
 	ConstantSignificant bool `json:"constant_significant"`
 	ScaleSignificant    bool `json:"scale_significant"`
 }
+
+// Enough reports whether the fit is evidence enough for a diagnosis.
+func (f *Fit) Enough() bool { return f.Evidence == EvidenceEnough }
 
 // Line summarises the observations of one line, either direction.
 type Line struct {
@@ -221,6 +247,12 @@ type Line struct {
 	ResidualPPM float64 `json:"residual_ppm"`
 	SigmaMM     float64 `json:"sigma_mm"`
 	MaxAbsW     float64 `json:"max_abs_w"`
+	// FlaggedObservations counts its observations flagged (over the
+	// critical value or the tolerance); UnflaggedResidualMM is the
+	// residual of the mean of the others, ResidualMM when none is flagged
+	// and 0 when all are.
+	FlaggedObservations int     `json:"flagged_observations"`
+	UnflaggedResidualMM float64 `json:"unflagged_residual_mm"`
 	// K is the coefficient of refraction from reciprocal zenith angles,
 	// where both directions were observed with zenith angles.
 	K *float64 `json:"k,omitempty"`
