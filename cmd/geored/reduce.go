@@ -93,8 +93,9 @@ Exit status, the same in summary.json, -json and report.html:
   0  rows were reduced, none rejected, none flagged, and the global test of
      the variance factor is not too large
   1  something needs a look: rows rejected, observations or lines flagged
-     (|w| over the critical value, over the tolerance, a line's spread), or
-     the global test failed high; the reasons go to stderr
+     (|w| over the critical value, over the tolerance, a line's spread), the
+     fit finds a significant constant or scale, or the global test failed
+     high; the reasons go to stderr
   2  could not run (bad flags, settings or input files), no row could be
      reduced (an empty file, every row rejected), or -strict and a row was
      rejected

@@ -223,9 +223,9 @@ func TestWriteHTMLNoFlaggedLines(t *testing.T) {
 	s.Lines, s.Counts.Flagged, s.Counts.FlaggedLines = clean, 0, 0
 	s.Counts.Read, s.Counts.Rejected, s.FirstRejects = 13, 0, nil
 	s.Testing.Outliers, s.Testing.Global.VarianceFactor, s.Testing.Global.Outcome = 0, 1.02, "pass"
+	s.Fit = nil
 	Decide(s, false)
 	require.Equal(t, StatusClean, s.ExitStatus, s.Reasons)
-	s.Fit = nil
 	page := render(t, s)
 	assert.NotContains(t, page, `id="flagged-lines"`)
 	assert.Contains(t, page, `<p id="no-flagged-lines">No flagged lines`)

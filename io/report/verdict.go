@@ -33,8 +33,10 @@ func globalTest(sumW2 float64, n int, alpha float64) *GlobalTest {
 //	2  no row could be reduced (an empty file, every row rejected), or
 //	   strict and a row was rejected
 //	1  rows were rejected, observations or lines flagged (|w| over the
-//	   critical value, over the tolerance, a line's spread), or the
-//	   global test's variance factor is too large
+//	   critical value, over the tolerance, a line's spread), the fit of
+//	   residuals against distance finds a significant constant or scale
+//	   on enough evidence, or the global test's variance factor is too
+//	   large
 //	0  otherwise: rows reduced, none rejected, none flagged
 //
 // A variance factor too small (σ overstated) is a note, not a flag: the
@@ -63,6 +65,14 @@ func Decide(s *Summary, strict bool) {
 	}
 	if c.FlaggedLines > 0 {
 		s.Reasons = append(s.Reasons, fmt.Sprintf("%d of %d lines flagged", c.FlaggedLines, c.Lines))
+	}
+	if f := s.Fit; f != nil && f.Enough() {
+		if f.ConstantSignificant {
+			s.Reasons = append(s.Reasons, fmt.Sprintf("the fit of residuals against distance finds a constant of %s ± %s mm: a wrong prism or additive constant?", fixed(f.ConstantMM, 1), fixed(f.ConstantSigma, 1)))
+		}
+		if f.ScaleSignificant {
+			s.Reasons = append(s.Reasons, fmt.Sprintf("the fit of residuals against distance finds a scale of %s ± %s ppm: a wrong ppm, atmosphere or scale?", fixed(f.ScalePPM, 2), fixed(f.ScaleSigma, 2)))
+		}
 	}
 	if g != nil {
 		switch g.Outcome {
