@@ -79,10 +79,11 @@ func NewAggregator(critical float64, tolerance reduce.DistanceSpec, hasTolerance
 	return &Aggregator{critical: critical, tolerance: tolerance, hasTol: hasTolerance, control: control}
 }
 
-// lineAcc accumulates one line's observations; 112 bytes.
+// lineAcc accumulates one line's observations; 120 bytes.
 type lineAcc struct {
 	from, to           int32 // point numbers, in the direction first observed
 	outliers, outOfTol int32
+	heightOff          int32    // observations whose target height disagrees with their zenith angle
 	dirN               [2]int32 // observations from → to as first seen, and the other way
 	mean, m2           float64  // Welford: mean reduced arc and sum of squared deviations
 	gridMean           float64  // mean reduced grid distance
@@ -141,7 +142,7 @@ func (a *Aggregator) Add(r *job.Result) {
 	a.counts.Reduced++
 	red := &r.Reduction
 	e := &red.EllipsoidResidual
-	if e.Outlier || (a.hasTol && e.OutOfTolerance) {
+	if e.Outlier || (a.hasTol && e.OutOfTolerance) || red.HeightCheck.Flagged {
 		a.counts.Flagged++
 	}
 	a.ell.add(e.Residual*1e3, e.PPM, e.Standardized)
@@ -177,6 +178,9 @@ func (a *Aggregator) Add(r *job.Result) {
 	if a.hasTol && e.OutOfTolerance {
 		l.outOfTol++
 	}
+	if red.HeightCheck.Flagged {
+		l.heightOff++
+	}
 	// Reciprocal zenith angles give k only along one chord: reduce each
 	// to the chord between the marks, z_m = z + (HT − HI) sin z / S
 	// (raising the target by HT lowers z by HT sin z / S; raising the
@@ -194,6 +198,7 @@ const (
 	FlagOutlier   = "outlier"   // an observation's |w| is over the critical value
 	FlagTolerance = "tolerance" // an observation or the mean is over the job's tolerance
 	FlagSpread    = "spread"    // the observations disagree more than their σ allows
+	FlagHeight    = "height"    // an observation's target height disagrees with its zenith angle
 )
 
 // line is the summary of line number id, whose record is l.
@@ -231,6 +236,9 @@ func (a *Aggregator) line(id int32, l *lineAcc, limits *spreadLimits) Line {
 	}
 	if tolFlag {
 		out.Flags = append(out.Flags, FlagTolerance)
+	}
+	if l.heightOff > 0 {
+		out.Flags = append(out.Flags, FlagHeight)
 	}
 	// The scatter of a line's observations against their σ: (n − 1)s²/σ²
 	// follows χ² with n − 1 degrees of freedom; the line is flagged above
