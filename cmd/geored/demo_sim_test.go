@@ -23,8 +23,9 @@ var update = flag.Bool("update", false, "rewrite golden files and the demo's sim
 // simulateDemo makes the demo's observations from its control: each line
 // of demo/lines.csv in both directions, two sets each, through the chain
 // run backwards (reduce.Predict) with realistic noise — the EDM's 1 mm +
-// 1.5 ppm, centring, 1.5″ of zenith angle, a coefficient of refraction
-// varying around the job's — and three deliberate blunders and two rows
+// 1.5 ppm, centring, 1.5″ of zenith angle read from the plumb line, a
+// coefficient of refraction varying around the job's — and three
+// deliberate blunders and two rows
 // that cannot be read. The values are invented; the seed fixes them.
 func simulateDemo(t *testing.T) []byte {
 	t.Helper()
@@ -92,7 +93,12 @@ func simulateDemo(t *testing.T) []byte {
 				d := p.Displayed.Slope
 				edm := math.Hypot(1e-3, 1.5e-6*d)
 				d += rng.NormFloat64()*edm + rng.NormFloat64()*0.5e-3*math.Sqrt2
-				z := p.Observation.Zenith + s1.Angle(rng.NormFloat64()*1.5/3600*math.Pi/180)
+				// The instrument reads its zenith angle from the plumb
+				// line, which the geoid tilts against the ellipsoid's
+				// normal by its slope along the line, (N_B − N_A)/s; the
+				// prediction's zenith is from the normal.
+				z := p.Observation.Zenith + s1.Angle((mTo.Separation.N-mFrom.Separation.N)/line.Inverse.Distance) +
+					s1.Angle(rng.NormFloat64()*1.5/3600*math.Pi/180)
 				ds := fmt.Sprintf("%.4f", d)
 				// Blunder 1: two digits swapped when set 1 of NB-PILLAR2 to
 				// SB-PILLAR1 was booked.

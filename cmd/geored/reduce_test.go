@@ -264,9 +264,9 @@ func TestReduceFlagsWrongTargetHeight(t *testing.T) {
 	rows := demoRows(t, func(r string) bool {
 		return strings.Contains(r, ",NB-PILLAR1,NB-PILLAR2,") || strings.Contains(r, ",NB-PILLAR2,NB-PILLAR1,")
 	})
-	const right = "9,NB-PILLAR1,NB-PILLAR2,593.9714,90.02255,1.576,1.500,"
+	const right = "9,NB-PILLAR1,NB-PILLAR2,593.9714,90.02221,1.576,1.500,"
 	require.Contains(t, rows, right)
-	planted := strings.Replace(rows, right, "9,NB-PILLAR1,NB-PILLAR2,593.9714,90.02255,1.576,2.000,", 1)
+	planted := strings.Replace(rows, right, "9,NB-PILLAR1,NB-PILLAR2,593.9714,90.02221,1.576,2.000,", 1)
 	zero := "99,NB-PILLAR1,NB-PILLAR2,593.9714,0.0000,1.576,1.500,9.3,1008.3,74,\n"
 
 	job := writeJob(t, rows, "")
