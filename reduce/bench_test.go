@@ -8,7 +8,7 @@ import (
 
 // benchSetup returns one realistic observation of a 2.5 km line, its job,
 // line and marks.
-func benchSetup(b *testing.B) (Observation, Job, Line, MarkHeight, MarkHeight) {
+func benchSetup(b testing.TB) (Observation, Job, Line, MarkHeight, MarkHeight) {
 	job := demoJob(b)
 	l := sphereLine{R: 6381000, s: 2500, hA: 151.6, hB: 212.1, k: job.K}
 	obs := Observation{
@@ -125,6 +125,27 @@ func BenchmarkEllipsoidDistanceFromZenith(b *testing.B) {
 		z = obs.Zenith + s1.Angle(g.Arc-line.Inverse.Distance)*1e-12
 	}
 	sink = float64(z)
+}
+
+// BenchmarkCheckTargetHeight is the heights route's check of the
+// reflector's height against the zenith angle, run on every row.
+func BenchmarkCheckTargetHeight(b *testing.B) {
+	obs, job, line, a, m := benchSetup(b)
+	r, err := Reduce(obs, job, line, a, m)
+	if err != nil {
+		b.Fatal(err)
+	}
+	g := r.Geometry
+	c := HeightCheck{Zenith: obs.Zenith, K: job.K, SigmaSlope: r.Uncertainty.Instrument}
+	b.ReportAllocs()
+	for b.Loop() {
+		h, err := CheckTargetHeight(&g, &c, &job.Budget, &job.Test)
+		if err != nil {
+			b.Fatal(err)
+		}
+		c.Zenith = obs.Zenith + s1.Angle(h.Difference)*1e-12
+	}
+	sink = float64(c.Zenith)
 }
 
 func BenchmarkReciprocal(b *testing.B) {

@@ -13,6 +13,7 @@
 //	EllipsoidDistanceFromZenith S3, z → s, hB  when the target's height is unknown
 //	GridDistance               s → d      Simpson line scale factor, grid arc-to-chord, elevation and combined factors
 //	DistanceUncertainty        σ of the reduced distance
+//	CheckTargetHeight          heights route: the reflector's height against its zenith angle, w-test
 //	CompareDistance            residual against the inverse from control, w-test, tolerance
 //
 // Reduce runs the whole chain for one observation of one line. Work that

@@ -189,7 +189,7 @@ func EllipsoidDistanceFromZenith(slope float64, zenith s1.Angle, heightA, k, rad
 	if err := needPositive(stage, "radius", radius, "m"); err != nil {
 		return GeometryResult{}, err
 	}
-	if err := needRange(stage, "zenith angle", zenith.Degrees(), "deg", 0, 180); err != nil {
+	if err := needZenith(stage, zenith); err != nil {
 		return GeometryResult{}, err
 	}
 	if err := needRange(stage, "instrument height above the reference surface", heightA, "m", -radius/2, radius); err != nil {

@@ -144,13 +144,23 @@ func TestGeometryRejectsBadInput(t *testing.T) {
 		assert.Equalf(t, GeometryResult{}, g, "%s: no partial result", c.name)
 	}
 	_, err = EllipsoidDistanceFromZenith(100, 200*s1.Degree, 0, 0.13, meanRadius)
-	assert.EqualError(t, err, "geometry: zenith angle 200 deg, want a value in [0, 180] deg")
+	assert.EqualError(t, err, "geometry: zenith angle 200 deg, want a value strictly between 0 and 180 deg (face left: 0 is straight up, 180 straight down)")
 }
 
-// The zenith route on a plumb line: S straight up gives no arc.
-func TestZenithRouteVertical(t *testing.T) {
-	g, err := EllipsoidDistanceFromZenith(50, 0, 10, 0.13, meanRadius)
+// A zenith angle of exactly 0 or 180° (straight up or down) is no sight to
+// a target beside the instrument: both are refused (issue: a zenith angle
+// of 0 was reduced as if nothing were wrong). A sight 1″ off the plumb
+// line is still reduced: S sin z = 50 m · 4.8481e-6 = 0.2424 mm of arc,
+// and the target 50 cos(1″) ≈ 50 m above the axis.
+func TestZenithRouteNearVertical(t *testing.T) {
+	for _, z := range []s1.Angle{0, 180 * s1.Degree} {
+		_, err := EllipsoidDistanceFromZenith(50, z, 10, 0.13, meanRadius)
+		var ie *InputError
+		require.Truef(t, errors.As(err, &ie), "zenith %v°: want *InputError, got %v", z.Degrees(), err)
+		assert.Equal(t, "zenith angle", ie.Quantity)
+	}
+	g, err := EllipsoidDistanceFromZenith(50, s1.Degree/3600, 10, 0.13, meanRadius)
 	require.NoError(t, err)
-	assert.InDeltaf(t, 0, g.Arc, 1e-9, "arc of a plumb line, where the ray does not bend (m)")
-	assert.InDeltaf(t, 60, g.HeightB, 1e-6, "top of a plumb line (m)")
+	assert.InDeltaf(t, 0.2424*mm, g.Arc, 0.0001*mm, "arc of a sight 1″ off the plumb line (m)")
+	assert.InDeltaf(t, 60, g.HeightB, 1e-6, "top of a near-plumb line (m)")
 }

@@ -33,8 +33,9 @@ type Reduction struct {
 	Geometry          GeometryResult
 	Grid              GridResult
 	Uncertainty       UncertaintyResult
-	EllipsoidResidual ResidualResult // Geometry.Arc against Line.Inverse.Distance
-	GridResidual      ResidualResult // Grid.GridDistance against Line.GridDistance
+	HeightCheck       HeightCheckResult // the reflector's height against its zenith angle (heights route only)
+	EllipsoidResidual ResidualResult    // Geometry.Arc against Line.Inverse.Distance
+	GridResidual      ResidualResult    // Grid.GridDistance against Line.GridDistance
 }
 
 // Reduce runs the whole chain for one observation on a prepared line, with
@@ -42,6 +43,12 @@ type Reduction struct {
 // MarkHeight) the zenith route is taken and the target mark's height is
 // derived from the zenith angle; the mean mark height for the elevation
 // factor then uses that derived height.
+//
+// On the heights route the zenith angle is not needed for the distance,
+// but it is checked: it must lie strictly between 0 and the half circle on
+// either route, and the reflector's height it implies is compared with the
+// known one (CheckTargetHeight), with the geoid's rise N_B − N_A along the
+// line where both marks' N are known on DatumEllipsoid.
 //
 // The residuals compare with the control on the ellipsoid; on
 // DatumSeaLevel they show the legacy reduction's departure from it.
@@ -87,6 +94,19 @@ func ReduceTo(r *Reduction, obs *Observation, job *Job, line *Line, markA, markB
 	if r.Uncertainty, err = DistanceUncertainty(job.Budget, r.Geometry); err != nil {
 		return err
 	}
+	if r.Geometry.Route == RouteHeights {
+		// the geometry, k, the budget and σ_S were checked by the stages
+		// above: only the zenith angle is left to check
+		if err := needZenith("height check", obs.Zenith); err != nil {
+			return err
+		}
+		c := HeightCheck{Zenith: obs.Zenith, K: job.K, GeoidRise: geoidRise(&r.Heights), SigmaSlope: r.Uncertainty.Instrument}
+		if r.HeightCheck, err = checkTargetHeight(&r.Geometry, &c, &job.Budget, &job.Test); err != nil {
+			return err
+		}
+	} else {
+		r.HeightCheck = HeightCheckResult{}
+	}
 	if r.EllipsoidResidual, err = CompareDistance(r.Geometry.Arc, line.Inverse.Distance, r.Uncertainty.Total, job.Test); err != nil {
 		return err
 	}
@@ -94,4 +114,13 @@ func ReduceTo(r *Reduction, obs *Observation, job *Job, line *Line, markA, markB
 		return err
 	}
 	return nil
+}
+
+// geoidRise is N_B − N_A on DatumEllipsoid where both marks' N are known,
+// else 0: on DatumSeaLevel the heights are already on the geoid.
+func geoidRise(h *LineHeights) float64 {
+	if h.Datum != DatumEllipsoid || h.MarkA.Separation.Source == SeparationNone || h.MarkB.Separation.Source == SeparationNone {
+		return 0
+	}
+	return h.MarkB.Separation.N - h.MarkA.Separation.N
 }

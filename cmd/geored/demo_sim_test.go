@@ -23,8 +23,9 @@ var update = flag.Bool("update", false, "rewrite golden files and the demo's sim
 // simulateDemo makes the demo's observations from its control: each line
 // of demo/lines.csv in both directions, two sets each, through the chain
 // run backwards (reduce.Predict) with realistic noise — the EDM's 1 mm +
-// 1.5 ppm, centring, 1.5″ of zenith angle, a coefficient of refraction
-// varying around the job's — and three deliberate blunders and two rows
+// 1.5 ppm, centring, 1.5″ of zenith angle read from the plumb line, a
+// coefficient of refraction varying around the job's — and three
+// deliberate blunders and two rows
 // that cannot be read. The values are invented; the seed fixes them.
 func simulateDemo(t *testing.T) []byte {
 	t.Helper()
@@ -136,7 +137,10 @@ func (sim *simulator) close() { sim.s.close() }
 func (sim *simulator) profile() jobconfig.Profile { return sim.job.Profiles[sim.job.DefaultInstrument] }
 
 // predict is what an instrument whose chain is chain displays for obs
-// from point from to point to.
+// from point from to point to. Its zenith angle is read from the plumb
+// line, which the geoid tilts against the ellipsoid's normal by its
+// slope along the line, (N_B − N_A)/s: reduce.Predict's zenith is from
+// the normal.
 func (sim *simulator) predict(t *testing.T, obs reduce.Observation, chain reduce.Job, from, to string) reduce.Prediction {
 	t.Helper()
 	s := sim.s
@@ -147,6 +151,7 @@ func (sim *simulator) predict(t *testing.T, obs reduce.Observation, chain reduce
 	require.True(t, okFrom && okTo)
 	p, err := reduce.Predict(obs, chain, line, mFrom, mTo)
 	require.NoError(t, err)
+	p.Observation.Zenith += s1.Angle((mTo.Separation.N - mFrom.Separation.N) / line.Inverse.Distance)
 	return p
 }
 

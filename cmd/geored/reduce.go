@@ -55,7 +55,8 @@ the key's name:
                        rule = linear|rss (linear), level = 95|1sigma (95)
   [default_atmosphere] temperature_c (°C), pressure_hpa (hPa), humidity_pct (%)
   [centring]           instrument_mm, target_mm, height_mm, control_mm (σ, mm),
-                       zenith_arcsec (σ, ″), refraction_k_sigma (σ of k)
+                       zenith_arcsec (σ, ″; default 5), refraction_k_sigma
+                       (σ of k; default 0.1)
   [instrument.NAME]    wavelength_um (µm); one of reference_atmosphere =
                        { temperature_c, pressure_hpa, humidity_pct },
                        reference_refractivity (N_ref, ppm), or modulation_hz

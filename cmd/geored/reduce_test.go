@@ -7,6 +7,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -225,11 +226,7 @@ func TestReduceZenithRouteForUnknownTargetHeight(t *testing.T) {
 	code, _, stderr := exitCode(t, bin, "reduce", "-config", job, "-quiet")
 	require.Equal(t, 1, code, stderr)
 	out := filepath.Join(filepath.Dir(job), "out")
-	reduced := readCSV(t, filepath.Join(out, "reduced.csv"))
-	col := map[string]int{}
-	for i, h := range reduced[0] {
-		col[h] = i
-	}
+	reduced, col := readColumns(t, filepath.Join(out, "reduced.csv"))
 	zenith := 0
 	for _, r := range reduced[1:] {
 		if r[col["to"]] == "WATERTOWER" {
@@ -248,4 +245,78 @@ func TestReduceZenithRouteForUnknownTargetHeight(t *testing.T) {
 		}
 	}
 	assert.Equal(t, 4, stationRejects)
+}
+
+// A target height booked 0.5 m high on the 594 m line from NB-PILLAR1 to
+// NB-PILLAR2 (obs 9, 1.500 m booked as 2.000 m) is flagged by its zenith
+// angle: reduced.csv shows the difference and the flag, the line carries
+// "height" in lines.csv, the run exits 1 — while its distance alone moves
+// by only Δh/S · 0.5 m (the marks differ by 0.3 m: 0.25 mm) and is not an
+// outlier. A zenith angle of 0 on the same line is rejected with the
+// file, line, column and what was expected.
+//
+// Expected w by hand, with the defaults σ_z = 5″ and σ_k = 0.1 and the
+// demo's height_mm = 1: 594 · 2.4241e-5 = 14.40 mm, 0.1 · 594²/2R =
+// 2.77 mm, 1.41 mm for the heights: σ = 14.73 mm, w = 500/14.73 = 34,
+// give or take the simulated 1.5″ of zenith noise (4.3 mm, 0.3 in w).
+func TestReduceFlagsWrongTargetHeight(t *testing.T) {
+	bin := buildBinary(t)
+	rows := demoRows(t, func(r string) bool {
+		return strings.Contains(r, ",NB-PILLAR1,NB-PILLAR2,") || strings.Contains(r, ",NB-PILLAR2,NB-PILLAR1,")
+	})
+	const right = "9,NB-PILLAR1,NB-PILLAR2,593.9714,90.02221,1.576,1.500,"
+	require.Contains(t, rows, right)
+	planted := strings.Replace(rows, right, "9,NB-PILLAR1,NB-PILLAR2,593.9714,90.02221,1.576,2.000,", 1)
+	zero := "99,NB-PILLAR1,NB-PILLAR2,593.9714,0.0000,1.576,1.500,9.3,1008.3,74,\n"
+
+	job := writeJob(t, rows, "")
+	code, _, stderr := exitCode(t, bin, "reduce", "-config", job, "-quiet")
+	require.Equal(t, 0, code, "the line booked right is clean: %s", stderr)
+
+	job = writeJob(t, planted+zero, "")
+	code, _, stderr = exitCode(t, bin, "reduce", "-config", job, "-quiet")
+	require.Equal(t, 1, code, stderr)
+	out := filepath.Join(filepath.Dir(job), "out")
+	reduced, col := readColumns(t, filepath.Join(out, "reduced.csv"))
+	for _, name := range []string{"height_target_from_zenith_m", "height_target_difference_m", "height_w", "height_flagged"} {
+		require.Containsf(t, col, name, "reduced.csv has %s", name)
+	}
+	flagged := 0
+	for _, r := range reduced[1:] {
+		diff, err := strconv.ParseFloat(r[col["height_target_difference_m"]], 64)
+		require.NoError(t, err)
+		if r[col["obs_id"]] == "9" {
+			assert.Equal(t, "yes", r[col["height_flagged"]])
+			assert.InDelta(t, 0.5, diff, 0.02, "difference of the planted row (m)")
+			w, err := strconv.ParseFloat(r[col["height_w"]], 64)
+			require.NoError(t, err)
+			assert.InDelta(t, 34, w, 2, "w of the planted row")
+			assert.Equal(t, "no", r[col["outlier"]], "the distance alone does not expose it")
+			flagged++
+			continue
+		}
+		assert.Equalf(t, "no", r[col["height_flagged"]], "obs %s", r[col["obs_id"]])
+		assert.InDeltaf(t, 0, diff, 0.02, "difference of obs %s (m)", r[col["obs_id"]])
+	}
+	assert.Equal(t, 1, flagged)
+
+	lines := readCSV(t, filepath.Join(out, "lines.csv"))
+	require.Len(t, lines, 2)
+	assert.Contains(t, strings.Fields(lines[1][len(lines[1])-1]), report.FlagHeight)
+
+	rejects := readCSV(t, filepath.Join(out, "rejects.csv"))
+	require.Len(t, rejects, 2)
+	assert.Contains(t, rejects[1][3], `:5: zenith_angle "0.0000": want a zenith angle in dms within 0..180 deg exclusive`)
+}
+
+// readColumns reads a CSV output and the index of each of its header's
+// columns.
+func readColumns(t *testing.T, path string) ([][]string, map[string]int) {
+	t.Helper()
+	rows := readCSV(t, path)
+	col := map[string]int{}
+	for i, h := range rows[0] {
+		col[h] = i
+	}
+	return rows, col
 }

@@ -10,6 +10,8 @@ import (
 	"path/filepath"
 	"strings"
 
+	"github.com/golang/geo/s1"
+
 	"github.com/geored/geored/geodesic"
 	"github.com/geored/geored/io/jobconfig"
 	"github.com/geored/geored/io/obsfile"
@@ -206,7 +208,11 @@ func gen(args []string) error {
 			return fmt.Errorf("observation %d (%s → %s): %w", k, a, b, err)
 		}
 		d := p.Displayed.Slope + rng.NormFloat64()*math.Hypot(1e-3, 1.5e-6*p.Displayed.Slope)
-		z := p.Observation.Zenith.Degrees() + rng.NormFloat64()*1.5/3600
+		// read from the plumb line, which the geoid tilts against the
+		// prediction's ellipsoid normal by its slope along the line
+		// (reduce.CheckTargetHeight), with 1.5″ of noise
+		tilt := (mb.Separation.N - ma.Separation.N) / cache[li][dir].Inverse.Distance
+		z := (p.Observation.Zenith + s1.Angle(tilt)).Degrees() + rng.NormFloat64()*1.5/3600
 		fmt.Fprintf(ow, "%d,%s,%s,%.4f,%.6f,%.3f,%.3f,%.1f,%.1f,%.0f\n", k+1, a, b, d, z, hi, ht, met.TemperatureC, met.PressureHPa, met.HumidityPct)
 		ca, cb := control[a].LatLng, control[b].LatLng
 		fmt.Fprintf(gw, "%.10f %.10f %.10f %.10f\n", ca.Lat.Degrees(), ca.Lng.Degrees(), cb.Lat.Degrees(), cb.Lng.Degrees())

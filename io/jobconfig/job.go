@@ -21,6 +21,19 @@ const (
 	// DefaultGlobalTestAlpha is the α of the global test of the variance
 	// factor, 5 % (common practice for the overall test of a network).
 	DefaultGlobalTestAlpha = 0.05
+
+	// DefaultZenithSigmaArcsec is the σ of one zenith angle where the job
+	// gives no [centring] zenith_arcsec, in arc-seconds: pointing and
+	// reading of a 1″–3″ total station on a prism by day, with the
+	// deflection of the vertical that a geoid model's slope leaves out,
+	// a few arc-seconds each (common practice, from memory).
+	DefaultZenithSigmaArcsec = 5.0
+	// DefaultRefractionKSigma is the σ of the coefficient of refraction
+	// where the job gives no [centring] refraction_k_sigma: k of sights a
+	// few metres above the ground by day departs from 0.13 by about 0.1
+	// (more over hot ground, at sunrise and at sunset; common practice,
+	// from memory).
+	DefaultRefractionKSigma = 0.1
 )
 
 // Job is a validated job: what the commands and the pipeline run on.
@@ -264,6 +277,11 @@ func (j *Job) budget(c Centring, pr *problems) reduce.Budget {
 	}
 	b.HeightA = mm("height_mm", c.HeightMM)
 	b.HeightB = b.HeightA
+	// The σ of z and k serve the zenith route's distance and, on the
+	// heights route, the check of the target's height against its zenith
+	// angle: a job that gives none gets the defaults, not a zero that
+	// would flag every sight.
+	b.Zenith = s1.Angle(DefaultZenithSigmaArcsec / 3600 * math.Pi / 180)
 	if c.ZenithArcsec != nil {
 		if v := *c.ZenithArcsec; !finite(v) || v < 0 || v > 3600 {
 			pr.bad("centring.zenith_arcsec", "%v: want a σ in 0..3600″", v)
@@ -271,6 +289,7 @@ func (j *Job) budget(c Centring, pr *problems) reduce.Budget {
 			b.Zenith = s1.Angle(v / 3600 * math.Pi / 180)
 		}
 	}
+	b.K = DefaultRefractionKSigma
 	if c.KSigma != nil {
 		if v := *c.KSigma; !finite(v) || v < 0 || v > 1 {
 			pr.bad("centring.refraction_k_sigma", "%v: want a σ in 0..1", v)

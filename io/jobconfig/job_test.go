@@ -85,6 +85,22 @@ func TestResolveFullJob(t *testing.T) {
 	old := j.Profiles["old"]
 	assert.InDelta(t, (299792458/(2*14985520*10.0)-1)*1e6, old.Chain.Carrier.ReferenceRefractivity, 1e-6, "N_ref, ppm")
 	assert.Equal(t, reduce.Percent95, old.Chain.Budget.Instrument.Level)
+	// no zenith_arcsec or refraction_k_sigma: the defaults, 5″ and 0.1
+	assert.InDeltaf(t, 5/206264.80624709636, float64(ts1.Chain.Budget.Zenith), 1e-15, "default σ of z (rad)")
+	assert.Equal(t, 0.1, ts1.Chain.Budget.K, "default σ of k")
+}
+
+// The job's own σ of z and k replace the defaults, zero included.
+func TestCentringZenithAndK(t *testing.T) {
+	in := strings.Replace(full, "height_mm = 2\n", "height_mm = 2\nzenith_arcsec = 1.5\nrefraction_k_sigma = 0\n", 1)
+	require.NotEqual(t, full, in)
+	f, err := Parse([]byte(in), "job.toml")
+	require.NoError(t, err)
+	j, err := Resolve(f, "job.toml")
+	require.NoError(t, err)
+	b := j.Profiles["ts1"].Chain.Budget
+	assert.InDeltaf(t, 1.5/206264.80624709636, float64(b.Zenith), 1e-15, "σ of z (rad)")
+	assert.Equal(t, 0.0, b.K, "σ of k")
 }
 
 func TestParseErrors(t *testing.T) {

@@ -305,11 +305,17 @@ func (o *ObsReader) weather(ti, pi, hi int) (Weather, *FieldError) {
 func zenithWant(err error, u units.AngleUnit) string {
 	var re *units.RangeError
 	if errors.As(err, &re) {
-		return fmt.Sprintf("a zenith angle in %s within %s (face left)", u, rangeText(re))
+		return fmt.Sprintf("a zenith angle in %s within %s (face left: 0 is straight up, %s straight down)", u, rangeText(re), strconv.FormatFloat(re.Max, 'g', -1, 64))
 	}
 	return fmt.Sprintf("a zenith angle in %s", u)
 }
 
+// rangeText writes a range as "0..200 gon", with "exclusive" where both
+// ends are excluded.
 func rangeText(re *units.RangeError) string {
-	return strconv.FormatFloat(re.Min, 'g', -1, 64) + ".." + strconv.FormatFloat(re.Max, 'g', -1, 64) + " " + re.Unit
+	t := strconv.FormatFloat(re.Min, 'g', -1, 64) + ".." + strconv.FormatFloat(re.Max, 'g', -1, 64) + " " + re.Unit
+	if re.MinOpen && re.MaxOpen {
+		t += " exclusive"
+	}
+	return t
 }

@@ -83,19 +83,25 @@ func TestObservationsRejectBadRows(t *testing.T) {
 		"A,B,100,100,20,1000\n" +
 		"A,B,abc,100,,,\n" +
 		"A,B,100,100,20,1300,50\n" +
-		"A,B,100.5,99.9,,,\n" // the one good row, line 9
+		"A,B,100,0.00000,,,\n" +
+		"A,B,100,200,,,\n" +
+		"A,B,100.5,99.9,,,\n" // the one good row, line 11
 	obs, rejects, _, err := readAll(t, in, metresGon)
 	require.NoError(t, err)
 	require.Len(t, obs, 1)
-	assert.Equal(t, 9, obs[0].Line)
+	assert.Equal(t, 11, obs[0].Line)
 	want := []string{
-		`obs.csv:2:4: zenith_angle "412.5": want a zenith angle in gon within 0..200 gon (face left)`,
+		`obs.csv:2:4: zenith_angle "412.5": want a zenith angle in gon within 0..200 gon exclusive (face left: 0 is straight up, 200 straight down)`,
 		`obs.csv:3:3: slope_distance "-3": want a slope distance in m, > 0 and at most 100 km`,
 		`obs.csv:4:2: to "A": want a target other than the station "A"`,
 		`obs.csv:5:6: pressure_hpa "": want a value: temperature, pressure and humidity are given together or not at all`,
 		`obs.csv:6: want 7 fields as in the header, got 6`,
 		`obs.csv:7:3: slope_distance "abc": want a slope distance in m`,
 		`obs.csv:8:6: pressure_hpa "1300": want a pressure in 500..1100 hPa`,
+		// a zenith angle of 0 or of the half circle is no sight to a
+		// target beside the instrument (issue: 0 was accepted)
+		`obs.csv:9:4: zenith_angle "0.00000": want a zenith angle in gon within 0..200 gon exclusive (face left: 0 is straight up, 200 straight down)`,
+		`obs.csv:10:4: zenith_angle "200": want a zenith angle in gon within 0..200 gon exclusive (face left: 0 is straight up, 200 straight down)`,
 	}
 	require.Len(t, rejects, len(want))
 	for i, w := range want {

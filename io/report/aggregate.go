@@ -102,9 +102,9 @@ func (a *Aggregator) SetGlobalTestAlpha(alpha float64) { a.globalAlpha = alpha }
 type lineAcc struct {
 	from, to           int32 // point numbers, in the direction first observed
 	outliers, outOfTol int32
+	heightOff          int32    // observations whose target height disagrees with their zenith angle
 	dirN               [2]int32 // observations from → to as first seen, and the other way
 	flagged            int32    // observations flagged (Aggregator.obsFlagged)
-	_                  int32    // free: the record is 8-aligned
 	mean, m2           float64  // Welford: mean reduced arc and sum of squared deviations
 	unflaggedMean      float64  // mean reduced arc of the unflagged observations
 	gridMean           float64  // mean reduced grid distance
@@ -216,6 +216,9 @@ func (a *Aggregator) Add(r *job.Result) {
 	if a.hasTol && e.OutOfTolerance {
 		l.outOfTol++
 	}
+	if red.HeightCheck.Flagged {
+		l.heightOff++
+	}
 	// Reciprocal zenith angles give k only along one chord: reduce each
 	// to the chord between the marks, z_m = z + (HT − HI) sin z / S
 	// (raising the target by HT lowers z by HT sin z / S; raising the
@@ -230,7 +233,7 @@ func (a *Aggregator) Add(r *job.Result) {
 // lines' FlaggedObservations and the fit's leaving out all follow it.
 func (a *Aggregator) obsFlagged(red *reduce.Reduction) bool {
 	e := &red.EllipsoidResidual
-	return e.Outlier || (a.hasTol && e.OutOfTolerance)
+	return e.Outlier || (a.hasTol && e.OutOfTolerance) || red.HeightCheck.Flagged
 }
 
 // count is the line's observations, either way.
@@ -241,6 +244,7 @@ const (
 	FlagOutlier   = "outlier"   // an observation's |w| is over the critical value
 	FlagTolerance = "tolerance" // an observation or the mean is over the job's tolerance
 	FlagSpread    = "spread"    // the observations disagree more than their σ allows
+	FlagHeight    = "height"    // an observation's target height disagrees with its zenith angle
 )
 
 // line is the summary of line number id, whose record is l.
@@ -282,6 +286,9 @@ func (a *Aggregator) line(id int32, l *lineAcc, limits *spreadLimits) Line {
 	}
 	if tolFlag {
 		out.Flags = append(out.Flags, FlagTolerance)
+	}
+	if l.heightOff > 0 {
+		out.Flags = append(out.Flags, FlagHeight)
 	}
 	// The scatter of a line's observations against their σ: (n − 1)s²/σ²
 	// follows χ² with n − 1 degrees of freedom; the line is flagged above

@@ -331,6 +331,7 @@ var flagMeanings = []flagMeaning{
 	{"outlier", "a standardized residual |w| is over the critical value"},
 	{"tolerance", "the residual is over the job's tolerance"},
 	{"spread", "the observations of the line disagree with each other"},
+	{"height", "a zenith angle puts the target higher or lower than its booked height by more than its σ allows: a target height or a target booked wrong"},
 }
 
 // WriteHTML writes s as report.html: one self-contained page (inline CSS

@@ -52,6 +52,7 @@ func ReducedHeader(u Units) []string {
 		"k_from", "k_mid", "k_to", "line_scale_factor", "elevation_factor", "combined_factor", "grid_distance" + l,
 		"control_geodesic" + l, "control_grid" + l,
 		"residual_mm", "residual_ppm", "sigma_mm", "w", "grid_residual_mm", "tolerance_mm", "outlier", "out_of_tolerance",
+		"height_target_from_zenith" + l, "height_target_difference" + l, "height_w", "height_flagged",
 	}
 }
 
@@ -157,6 +158,21 @@ func AppendReducedRow(b []byte, r *job.Result, u Units) []byte {
 	b = appendBool(b, e.Outlier)
 	b = append(b, ',')
 	b = appendBool(b, e.OutOfTolerance)
+	// the reflector's height against its zenith angle, on the heights
+	// route only (blank on the zenith route, which has nothing to compare)
+	if g.Route == reduce.RouteHeights {
+		hc := &red.HeightCheck
+		b = append(b, ',')
+		b = length(b, hc.Implied)
+		b = append(b, ',')
+		b = length(b, hc.Difference)
+		b = append(b, ',')
+		b = appendFixed(b, hc.Standardized, 2)
+		b = append(b, ',')
+		b = appendBool(b, hc.Flagged)
+	} else {
+		b = append(b, ",,,,"...)
+	}
 	return append(b, '\n')
 }
 

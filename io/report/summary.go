@@ -154,7 +154,8 @@ type Counts struct {
 	Reduced  int `json:"reduced"`
 	Rejected int `json:"rejected"`
 	// Flagged counts reduced observations whose standardized residual is
-	// over the critical value or whose residual is over the tolerance.
+	// over the critical value, whose residual is over the tolerance, or
+	// whose target height disagrees with their zenith angle.
 	Flagged      int `json:"flagged"`
 	Lines        int `json:"lines"`
 	FlaggedLines int `json:"flagged_lines"`
@@ -257,7 +258,8 @@ type Line struct {
 	// where both directions were observed with zenith angles.
 	K *float64 `json:"k,omitempty"`
 	// Flags: "outlier" (|w| over the critical value), "tolerance" (over
-	// the job's tolerance), "spread" (observations disagree).
+	// the job's tolerance), "spread" (observations disagree), "height" (a
+	// target height disagrees with its zenith angle).
 	Flags []string `json:"flags,omitempty"`
 
 	gridResidualMM float64 // mean reduced grid distance − grid from control

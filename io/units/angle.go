@@ -125,28 +125,30 @@ func ParseAngle(quantity, s string, u AngleUnit) (s1.Angle, error) {
 }
 
 // ParseZenithAngle reads a zenith angle written in unit u and checks that
-// it lies in [0°, 180°] (face left: 0 is straight up, 90° horizontal). A
-// face-right reading (over 180°) must be reduced to face left first; it is
-// refused here rather than silently folded.
+// it lies strictly between 0 and 180° (face left: 0 is straight up, 90°
+// horizontal, 180° straight down; neither end is a sight to a target
+// beside the instrument). A face-right reading (over 180°) must be reduced
+// to face left first; it is refused here rather than silently folded.
 func ParseZenithAngle(s string, u AngleUnit) (s1.Angle, error) {
-	return parseInRange("zenith angle", s, u, u.halfTurn(), false)
+	return parseInRange("zenith angle", s, u, u.halfTurn(), true, true)
 }
 
 // ParseDirection reads a horizontal direction or azimuth written in unit u
 // and checks that it lies in [0, full turn).
 func ParseDirection(s string, u AngleUnit) (s1.Angle, error) {
-	return parseInRange("direction", s, u, 2*u.halfTurn(), true)
+	return parseInRange("direction", s, u, 2*u.halfTurn(), false, true)
 }
 
-// parseInRange reads an angle in unit u and checks it against [0, max] (or
-// [0, max) when maxOpen) in the unit's own numbers.
-func parseInRange(quantity, s string, u AngleUnit, max float64, maxOpen bool) (s1.Angle, error) {
+// parseInRange reads an angle in unit u and checks it against [0, max],
+// with 0 excluded when minOpen and max when maxOpen, in the unit's own
+// numbers.
+func parseInRange(quantity, s string, u AngleUnit, max float64, minOpen, maxOpen bool) (s1.Angle, error) {
 	v, err := unitValue(quantity, s, u)
 	if err != nil {
 		return 0, err
 	}
-	if v < 0 || v > max || (maxOpen && v == max) {
-		return 0, &RangeError{Quantity: quantity, Value: strings.TrimSpace(s), Unit: u.rangeUnit(), Min: 0, Max: max, MaxOpen: maxOpen}
+	if v < 0 || v > max || (minOpen && v == 0) || (maxOpen && v == max) {
+		return 0, &RangeError{Quantity: quantity, Value: strings.TrimSpace(s), Unit: u.rangeUnit(), Min: 0, Max: max, MinOpen: minOpen, MaxOpen: maxOpen}
 	}
 	per, _ := u.perUnit()
 	return s1.Angle(v) * per, nil

@@ -110,11 +110,11 @@ func TestParseZenithAngle(t *testing.T) {
 		unit AngleUnit
 		want s1.Angle
 	}{
-		{"0", Degrees, 0},
-		{"180", Degrees, math.Pi},
-		{"200", Gons, math.Pi},
+		{"0.0001", Degrees, 0.0001 * s1.Degree},
+		{"179.9999", Degrees, 179.9999 * s1.Degree},
+		{"199.9999", Gons, 199.9999 * math.Pi / 200},
 		{"89.5930", PackedDMS, (89 + 59.0/60 + 30.0/3600) * s1.Degree},
-		{"3.141592653589793", Radians, math.Pi},
+		{"3.14159", Radians, 3.14159},
 	}
 	for _, c := range ok {
 		got, err := ParseZenithAngle(c.text, c.unit)
@@ -126,11 +126,20 @@ func TestParseZenithAngle(t *testing.T) {
 		unit AngleUnit
 		msg  string
 	}{
-		{"200", Degrees, "zenith angle 200 deg is outside [0, 180] deg"},
-		{"412.5", Gons, "zenith angle 412.5 gon is outside [0, 200] gon"},
-		{"-0.0001", Gons, "zenith angle -0.0001 gon is outside [0, 200] gon"},
-		{"180.0001", PackedDMS, "zenith angle 180.0001 deg is outside [0, 180] deg"},
-		{"3.2", Radians, "zenith angle 3.2 rad is outside [0, 3.141592653589793] rad"},
+		{"200", Degrees, "zenith angle 200 deg is outside (0, 180) deg"},
+		{"412.5", Gons, "zenith angle 412.5 gon is outside (0, 200) gon"},
+		{"-0.0001", Gons, "zenith angle -0.0001 gon is outside (0, 200) gon"},
+		{"180.0001", PackedDMS, "zenith angle 180.0001 deg is outside (0, 180) deg"},
+		{"3.2", Radians, "zenith angle 3.2 rad is outside (0, 3.141592653589793) rad"},
+		// straight up and straight down are no sight to a target beside
+		// the instrument (issue: a zenith angle of 0 was accepted)
+		{"0", Degrees, "zenith angle 0 deg is outside (0, 180) deg"},
+		{"0.00000", Gons, "zenith angle 0.00000 gon is outside (0, 200) gon"},
+		{"0.0000", PackedDMS, "zenith angle 0.0000 deg is outside (0, 180) deg"},
+		{"180", Degrees, "zenith angle 180 deg is outside (0, 180) deg"},
+		{"200", Gons, "zenith angle 200 gon is outside (0, 200) gon"},
+		{"180.0000", PackedDMS, "zenith angle 180.0000 deg is outside (0, 180) deg"},
+		{"3.141592653589793", Radians, "zenith angle 3.141592653589793 rad is outside (0, 3.141592653589793) rad"},
 	}
 	for _, c := range bad {
 		_, err := ParseZenithAngle(c.text, c.unit)

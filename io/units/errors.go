@@ -26,15 +26,19 @@ type RangeError struct {
 	Value    string  // the text as given
 	Unit     string  // the unit of Value, Min and Max, e.g. "gon"
 	Min, Max float64 // the allowed range in Unit
+	MinOpen  bool    // whether Min itself is excluded
 	MaxOpen  bool    // whether Max itself is excluded
 }
 
 func (e *RangeError) Error() string {
-	closing := "]"
+	opening, closing := "[", "]"
+	if e.MinOpen {
+		opening = "("
+	}
 	if e.MaxOpen {
 		closing = ")"
 	}
-	return fmt.Sprintf("%s %s %s is outside [%g, %g%s %s", e.Quantity, e.Value, e.Unit, e.Min, e.Max, closing, e.Unit)
+	return fmt.Sprintf("%s %s %s is outside %s%g, %g%s %s", e.Quantity, e.Value, e.Unit, opening, e.Min, e.Max, closing, e.Unit)
 }
 
 // UnitError reports a unit name that is unknown or ambiguous.
