@@ -35,8 +35,11 @@ func benchObservationsWith(column string, value func(i int) string) []byte {
 
 // BenchmarkObsReader decodes a 12-column observation file with one reader
 // into a reused buffer of fields; ns/row is per row.
-func BenchmarkObsReader(b *testing.B) {
-	data := benchObservations()
+func BenchmarkObsReader(b *testing.B) { benchReader(b, benchObservations()) }
+
+// benchReader decodes data with one reader into a reused buffer of
+// fields, and reports ns/row.
+func benchReader(b *testing.B, data []byte) {
 	opt := ObsOptions{LengthUnit: units.Metre, AngleUnit: units.Degrees}
 	rowsRead := 0
 	var fields []string
@@ -62,19 +65,7 @@ func BenchmarkObsReaderFieldPrism(b *testing.B) {
 		}
 		return "-30"
 	})
-	opt := ObsOptions{LengthUnit: units.Metre, AngleUnit: units.Degrees}
-	rowsRead := 0
-	var fields []string
-	for b.Loop() {
-		r, _, err := NewObsReader(bytes.NewReader(data), "bench.csv", opt)
-		if err != nil {
-			b.Fatal(err)
-		}
-		var n int
-		n, fields = drainRows(b, r, fields)
-		rowsRead += n
-	}
-	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(rowsRead), "ns/row")
+	benchReader(b, data)
 }
 
 // BenchmarkObsChunks decodes the same file as a run does: split into
