@@ -243,24 +243,15 @@ func (o *ObsReader) parse(fields []string) (Observation, *FieldError) {
 		}
 		*h.dst = v * float64(u)
 	}
-	for _, c := range [...]struct {
-		i    int
-		what string
-		dst  *float64
-		has  *bool
-	}{{o.prism, "the target's prism constant", &ob.PrismConstant, &ob.HasPrismConstant},
-		{o.fieldPrism, "the prism constant the instrument applied", &ob.FieldPrismConstant, &ob.HasFieldPrismConstant}} {
-		if c.i < 0 || o.field(c.i) == "" {
-			continue
-		}
-		v, fe := o.number(c.i, func() string { return c.what + " in mm" })
-		if fe != nil {
+	if o.prism >= 0 { // the test here keeps the call off a file without the column
+		if ob.PrismConstant, ob.HasPrismConstant, fe = o.prismConstant(o.prism, wantTargetPrism); fe != nil {
 			return ob, fe
 		}
-		if math.Abs(v) > 1000 {
-			return ob, o.bad(c.i, c.what+" within ±1000 mm")
+	}
+	if o.fieldPrism >= 0 {
+		if ob.FieldPrismConstant, ob.HasFieldPrismConstant, fe = o.prismConstant(o.fieldPrism, wantAppliedPrism); fe != nil {
+			return ob, fe
 		}
-		*c.dst, *c.has = v/1000, true
 	}
 	var err2 *FieldError
 	if ob.AtInstrument, err2 = o.weather(o.temp, o.pres, o.hum); err2 != nil {
@@ -270,6 +261,28 @@ func (o *ObsReader) parse(fields []string) (Observation, *FieldError) {
 		return ob, err2
 	}
 	return ob, nil
+}
+
+// What a prism constant column holds, for its errors.
+const (
+	wantTargetPrism  = "the target's prism constant"
+	wantAppliedPrism = "the prism constant the instrument applied"
+)
+
+// prismConstant reads a prism constant in mm from column i (≥ 0), in
+// metres; has is false where the row has a blank.
+func (o *ObsReader) prismConstant(i int, what string) (m float64, has bool, fe *FieldError) {
+	if o.field(i) == "" {
+		return 0, false, nil
+	}
+	v, fe := o.number(i, func() string { return what + " in mm" })
+	if fe != nil {
+		return 0, false, fe
+	}
+	if math.Abs(v) > 1000 {
+		return 0, false, o.bad(i, what+" within ±1000 mm")
+	}
+	return v / 1000, true, nil
 }
 
 // weather reads one end's temperature, pressure and humidity: all three or
