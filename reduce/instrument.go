@@ -24,12 +24,13 @@ type FieldSettings struct {
 
 // InstrumentResult keeps the instrument stage's values, all in metres.
 type InstrumentResult struct {
-	Raw              float64 // the slope distance as the instrument stored it
-	Measured         float64 // Raw with the field settings removed
-	ScaleCorrection  float64 // Measured · ScalePPM · 1e-6
-	AdditiveConstant float64 // from the calibration
-	PrismConstant    float64 // of the target used
-	Distance         float64 // S1 = Measured + ScaleCorrection + AdditiveConstant + PrismConstant
+	Raw                float64 // the slope distance as the instrument stored it
+	FieldPrismConstant float64 // the prism constant the field instrument applied, removed from Raw
+	Measured           float64 // Raw with the field settings removed
+	ScaleCorrection    float64 // Measured · ScalePPM · 1e-6
+	AdditiveConstant   float64 // from the calibration
+	PrismConstant      float64 // the target's true constant
+	Distance           float64 // S1 = Measured + ScaleCorrection + AdditiveConstant + PrismConstant
 }
 
 // InstrumentCorrection applies the instrument's constants to a raw slope
@@ -49,6 +50,16 @@ type InstrumentResult struct {
 // 40 ppm. The atmospheric ppm is not reapplied here: FirstVelocityCorrection
 // applies the exact correction to Measured's scale, so a field ppm is
 // replaced, not added to.
+//
+// field.PrismConstant is what the instrument applied on the shot and
+// prismConstant the target's true constant; they differ where the
+// instrument was set to another constant than the target's. Where it
+// applied the target's own constant c, the two cancel but for the scales:
+//
+//	S1 = (raw − c)(1 + ScalePPM·1e-6)/(1 + field.PPM·1e-6) + AdditiveConstant + c
+//
+// and with no field ppm S1 = raw·(1 + ScalePPM·1e-6) + AdditiveConstant −
+// c·ScalePPM·1e-6 (the last term 0.03 µm for c = −34.4 mm at 0.8 ppm).
 func InstrumentCorrection(raw float64, inst Instrument, prismConstant float64, field FieldSettings) (InstrumentResult, error) {
 	const stage = "instrument"
 	if err := needPositive(stage, "slope distance", raw, "m"); err != nil {
@@ -70,11 +81,12 @@ func InstrumentCorrection(raw float64, inst Instrument, prismConstant float64, f
 	}
 	measured := (raw - field.PrismConstant) / (1 + field.PPM*1e-6)
 	r := InstrumentResult{
-		Raw:              raw,
-		Measured:         measured,
-		ScaleCorrection:  measured * inst.ScalePPM * 1e-6,
-		AdditiveConstant: inst.AdditiveConstant,
-		PrismConstant:    prismConstant,
+		Raw:                raw,
+		FieldPrismConstant: field.PrismConstant,
+		Measured:           measured,
+		ScaleCorrection:    measured * inst.ScalePPM * 1e-6,
+		AdditiveConstant:   inst.AdditiveConstant,
+		PrismConstant:      prismConstant,
 	}
 	r.Distance = measured + r.ScaleCorrection + r.AdditiveConstant + r.PrismConstant
 	if r.Distance <= 0 {

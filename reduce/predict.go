@@ -37,7 +37,8 @@ type Prediction struct {
 	Instrument     InstrumentResult
 
 	// Displayed is what the instrument stores and shows, with its own
-	// field ppm and prism constant (the job's FieldSettings) applied;
+	// field ppm and prism constant (the job's FieldSettings, and the
+	// shot's obs.FieldPrismConstant where it has one) applied;
 	// Bare is the same sight without them, as with both set to zero.
 	Displayed, Bare Reading
 }
@@ -47,7 +48,8 @@ type Prediction struct {
 // between the marks) and the marks' heights markA and markB on one datum,
 // with the instrument height obs.InstrumentHeight over A, the reflector
 // obs.TargetHeight over B (metres), the reflector's prism constant
-// obs.PrismConstant, the air obs.Meteorology (both ends, one end, or none
+// obs.PrismConstant (and the one the instrument applies,
+// obs.FieldPrismConstant where HasFieldPrismConstant), the air obs.Meteorology (both ends, one end, or none
 // for job.DefaultAtmosphere) and the instrument profile job (its
 // calibration, carrier, field settings and coefficient of refraction
 // job.K), it returns the raw slope distance the instrument would store, the
@@ -189,12 +191,13 @@ func Predict(obs Observation, job Job, line Line, markA, markB MarkHeight) (Pred
 	if err := needPositive(stage, "measured slope distance", measured, "m"); err != nil {
 		return Prediction{}, err
 	}
-	raw := measured*(1+job.Field.PPM*1e-6) + job.Field.PrismConstant
+	field := obs.field(&job)
+	raw := measured*(1+field.PPM*1e-6) + field.PrismConstant
 
 	p := Prediction{Observation: obs, Heights: heights, ChordZenith: chordZenith}
 	p.Observation.SlopeDistance = raw
 	p.Observation.Zenith = zenith
-	if p.Instrument, err = InstrumentCorrection(raw, in, obs.PrismConstant, job.Field); err != nil {
+	if p.Instrument, err = InstrumentCorrection(raw, in, obs.PrismConstant, field); err != nil {
 		return Prediction{}, err
 	}
 	if p.FirstVelocity, err = FirstVelocityCorrection(p.Instrument.Distance, job.Carrier, obs.Meteorology, job.DefaultAtmosphere); err != nil {

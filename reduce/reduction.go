@@ -11,6 +11,23 @@ type Observation struct {
 	TargetHeight     float64     // HT, metres
 	PrismConstant    float64     // of the target used, metres
 	Meteorology      Meteorology // what the row recorded of the air
+
+	// FieldPrismConstant is the prism constant the field instrument
+	// applied on this shot, metres, where HasFieldPrismConstant; without
+	// it the instrument applied Job.Field.PrismConstant.
+	FieldPrismConstant    float64
+	HasFieldPrismConstant bool
+}
+
+// field is what the field instrument applied to this observation: the
+// job's field settings, with the shot's own prism constant where it has
+// one.
+func (obs *Observation) field(job *Job) FieldSettings {
+	f := job.Field
+	if obs.HasFieldPrismConstant {
+		f.PrismConstant = obs.FieldPrismConstant
+	}
+	return f
 }
 
 // Job is the per-job configuration of the chain.
@@ -65,7 +82,7 @@ func Reduce(obs Observation, job Job, line Line, markA, markB MarkHeight) (Reduc
 // left partly written.
 func ReduceTo(r *Reduction, obs *Observation, job *Job, line *Line, markA, markB *MarkHeight) error {
 	var err error
-	if r.Instrument, err = InstrumentCorrection(obs.SlopeDistance, job.Instrument, obs.PrismConstant, job.Field); err != nil {
+	if r.Instrument, err = InstrumentCorrection(obs.SlopeDistance, job.Instrument, obs.PrismConstant, obs.field(job)); err != nil {
 		return err
 	}
 	if r.FirstVelocity, err = FirstVelocityCorrection(r.Instrument.Distance, job.Carrier, obs.Meteorology, job.DefaultAtmosphere); err != nil {

@@ -18,7 +18,7 @@ type jobFlags struct {
 	geoidN, k, critical, jobAlpha, globalAlpha             float64
 	tolerance, atmosphere                                  string
 	workers                                                int
-	profile, wavelength, refAtmos, spec                    string
+	profile, wavelength, refAtmos, spec, rowPrism          string
 	refN, addMM, scalePPM, prismMM, fieldPPM, fieldPrismMM float64
 	set                                                    map[string]bool
 }
@@ -49,6 +49,7 @@ func (f *jobFlags) register(fs *flag.FlagSet) {
 	fs.Float64Var(&f.prismMM, "prism-constant-mm", 0, "prism constant of the targets where a row gives none, mm (config: prism_constant_mm)")
 	fs.Float64Var(&f.fieldPPM, "field-ppm", 0, "ppm the field instrument already applied, ppm (config: field_ppm)")
 	fs.Float64Var(&f.fieldPrismMM, "field-prism-constant-mm", 0, "prism constant the field instrument already applied, mm (config: field_prism_constant_mm)")
+	fs.StringVar(&f.rowPrism, "row-prism-constant", "", "what a row's prism_constant_mm is: 'target' (the instrument applied field_prism_constant_mm) or 'applied' (the instrument applied the row's own constant) (config: row_prism_constant)")
 	fs.StringVar(&f.spec, "spec", "", "EDM specification 'A mm + B ppm' (RSS, 1σ) (config: spec_mm, spec_ppm)")
 }
 
@@ -121,7 +122,7 @@ func (f *jobFlags) file(fs *flag.FlagSet) (jobconfig.File, string, error) {
 func (f *jobFlags) applyProfile(jf *jobconfig.File) error {
 	any := false
 	for _, n := range []string{"wavelength-um", "reference-atmosphere", "reference-refractivity", "additive-constant-mm", "scale-ppm",
-		"prism-constant-mm", "field-ppm", "field-prism-constant-mm", "spec"} {
+		"prism-constant-mm", "field-ppm", "field-prism-constant-mm", "row-prism-constant", "spec"} {
 		any = any || f.set[n]
 	}
 	if !any {
@@ -166,6 +167,9 @@ func (f *jobFlags) applyProfile(jf *jobconfig.File) error {
 	set("prism-constant-mm", &in.PrismConstantMM, f.prismMM)
 	set("field-ppm", &in.FieldPPM, f.fieldPPM)
 	set("field-prism-constant-mm", &in.FieldPrismConstantMM, f.fieldPrismMM)
+	if f.set["row-prism-constant"] {
+		in.RowPrismConstant = f.rowPrism
+	}
 	if f.set["spec"] {
 		a, b, ok := parseAPlusB(f.spec)
 		if !ok {

@@ -6,6 +6,7 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"strconv"
 	"strings"
@@ -201,11 +202,16 @@ func (w *jobWorld) predict(pairs string, sg obsfile.Sight) (predictedSight, erro
 	if err != nil {
 		return predictedSight{}, fmt.Errorf("%s: line %s → %s: %w", at, sg.From, sg.To, err)
 	}
-	prism := prof.PrismConstant
-	if sg.HasPrismConstant {
-		prism = sg.PrismConstant
+	// What the instrument will apply to a target of another constant than
+	// the one set in it is what row_prism_constant says.
+	prisms, conflict := prof.Prisms(sg.PrismConstant, sg.HasPrismConstant, 0, false)
+	if conflict != jobconfig.PrismsKnown {
+		mm := func(m float64) float64 { return math.Round(m*1e6) / 1e3 } // to the µm
+		return predictedSight{}, fmt.Errorf(`%s: prism_constant_mm %g mm differs from field_prism_constant_mm %g mm of [instrument.%s], and the job does not say which the instrument applies: say which with row_prism_constant = "target" or "applied"`,
+			at, mm(sg.PrismConstant), mm(prof.Chain.Field.PrismConstant), name)
 	}
-	obs := reduce.Observation{InstrumentHeight: sg.InstrumentHeight, TargetHeight: sg.TargetHeight, PrismConstant: prism,
+	obs := reduce.Observation{InstrumentHeight: sg.InstrumentHeight, TargetHeight: sg.TargetHeight, PrismConstant: prisms.Target,
+		FieldPrismConstant: prisms.Applied, HasFieldPrismConstant: true,
 		Meteorology: job.Meteorology(sg.AtInstrument, sg.AtTarget)}
 	p, err := reduce.Predict(obs, prof.Chain, line.Line, markA, markB)
 	if err != nil {
@@ -304,7 +310,7 @@ func writePredictCSV(w io.Writer, rows []predictedSight, lu units.LengthUnit, au
 			lengthText(r.sight.InstrumentHeight, lu, true), lengthText(r.sight.TargetHeight, lu, true),
 			lengthText(p.Displayed.Slope, lu, true), angleText(p.Observation.Zenith, au, true), lengthText(p.Displayed.Horizontal, lu, true),
 			lengthText(p.Bare.Slope, lu, true), lengthText(p.Bare.Horizontal, lu, true),
-			g(f.PPM), g(f.PrismConstant * 1000), g(p.Instrument.PrismConstant * 1000), p.FirstVelocity.Source.String(), g(p.FirstVelocity.PPM),
+			g(f.PPM), g(p.Instrument.FieldPrismConstant * 1000), g(p.Instrument.PrismConstant * 1000), p.FirstVelocity.Source.String(), g(p.FirstVelocity.PPM),
 			lengthText(p.Geometry.Slope, lu, true), angleText(p.Geometry.Refraction, au, true), angleText(p.ChordZenith, au, true),
 			lengthText(r.line.Geodesic.Distance, lu, true), lengthText(r.line.GridDistance, lu, true),
 			angleText(r.line.GridBearing, au, true), angleText(geodesic.NormalizeAzimuth(r.line.Geodesic.Azimuth1), au, true)})

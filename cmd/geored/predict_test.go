@@ -132,6 +132,27 @@ D,A,4.9213,6.5617,ts2,9,890,70,,,
 	}
 }
 
+// A sight to a −34.4 mm target with ts1 (8 ppm and −30 mm set): the
+// instrument displays the bare slope·(1 + 8e-6) plus what it applies,
+// −34.4 mm (−0.112861 US ft) if it applies the target's own constant,
+// −30 mm (−0.098425 US ft) if it keeps the one set in it.
+func TestPredictWithEachPrismReading(t *testing.T) {
+	dir := predictJob(t, "from,to,instrument_height,target_height,instrument,prism_constant_mm\nA,B,5.0853,5.9055,ts1,-34.4\n")
+	for reading, applied := range map[string]float64{"applied": -0.0344, "target": -0.030} {
+		code, out, stderr := runCmd(t, "predict", "-config", filepath.Join(dir, "job.toml"), "-pairs", filepath.Join(dir, "pairs.csv"), "-csv",
+			"-instrument", "ts1", "-row-prism-constant", reading)
+		require.Equal(t, exitOK, code, stderr)
+		recs, err := csv.NewReader(strings.NewReader(out)).ReadAll()
+		require.NoError(t, err)
+		require.Len(t, recs, 2)
+		col, r := columns(recs[0]), recs[1]
+		shown, bare := num(t, r[col["slope_distance_us-ft"]]), num(t, r[col["slope_distance_bare_us-ft"]])
+		assert.InDeltaf(t, bare*(1+8e-6)+applied*3937/1200, shown, 1e-9, "%s: displayed slope, US ft", reading)
+		assert.Equalf(t, strconv.FormatFloat(applied*1000, 'g', -1, 64), r[col["field_prism_constant_mm"]], "%s: the constant applied, mm", reading)
+		assert.Equalf(t, "-34.4", r[col["prism_constant_mm"]], "%s: the target's constant, mm", reading)
+	}
+}
+
 func TestPredictTable(t *testing.T) {
 	dir := predictJob(t, "from,to,instrument_height,target_height\nA,C,5,5\n")
 	code, out, stderr := runCmd(t, "predict", "-config", filepath.Join(dir, "job.toml"), "-pairs", filepath.Join(dir, "pairs.csv"),
@@ -174,6 +195,10 @@ func TestPredictBadInput(t *testing.T) {
 		{"no sights", "from,to,instrument_height,target_height\n", nil, []string{"no sights after the header"}},
 		{"no pairs flag", "from,to,instrument_height,target_height\n", []string{"-pairs", ""}, []string{"-pairs FILE is required"}},
 		{"bad k", "from,to,instrument_height,target_height,instrument\nA,B,5,5,ts1\n", []string{"-k", "NaN"}, []string{"refraction_k"}},
+		{"prism constant not said", "from,to,instrument_height,target_height,instrument,prism_constant_mm\nA,B,5,5,ts1,-34.4\n", nil,
+			[]string{`pairs.csv:2: prism_constant_mm -34.4 mm differs from field_prism_constant_mm -30 mm of [instrument.ts1], and the job does not say which the instrument applies: say which with row_prism_constant = "target" or "applied"`}},
+		{"bad row prism reading", "from,to,instrument_height,target_height,instrument\nA,B,5,5,ts1\n", []string{"-instrument", "ts1", "-row-prism-constant", "true"},
+			[]string{`instrument.ts1.row_prism_constant: "true": want "target"`}},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			dir := predictJob(t, tc.pairs)

@@ -64,7 +64,9 @@ the key's name:
                        scale_ppm (calibration); prism_constant_mm (targets);
                        field_ppm, field_prism_constant_mm (what the field
                        instrument applied); spec_mm, spec_ppm, spec_rule =
-                       linear|rss (rss), spec_level = 1sigma|95 (1sigma)
+                       linear|rss (rss), spec_level = 1sigma|95 (1sigma);
+                       row_prism_constant = target|applied: what a row's
+                       prism_constant_mm is (see Prism constants above)
 `
 
 func runReduce(args []string, stdout, stderr io.Writer) int {
@@ -88,7 +90,27 @@ reason), summary.json and report.html.
 Observation CSV columns: from, to, slope_distance, zenith_angle (required);
 instrument_height, target_height, temperature_c, pressure_hpa, humidity_pct
 (instrument end), temperature_c_to, pressure_hpa_to, humidity_pct_to (target
-end), prism_constant_mm, instrument, obs_id (optional).
+end), prism_constant_mm (the target's, mm), field_prism_constant_mm (applied
+by the instrument on the shot, mm), instrument, obs_id (optional).
+
+Prism constants: each row has the target's true constant, which the
+reduction adds, and the one the instrument applied on the shot, which it
+first takes out of the raw distance. reduced.csv records both
+(prism_constant_mm, field_prism_constant_mm) and where each came from
+(prism_source, field_prism_source):
+  target's  row: the row's prism_constant_mm; else profile: the profile's
+            prism_constant_mm
+  applied   row: the row's field_prism_constant_mm; else row-prism: with
+            row_prism_constant = "applied" (the instrument applied each
+            row's own constant, and the two cancel), the row's
+            prism_constant_mm; else profile: the profile's
+            field_prism_constant_mm (with row_prism_constant = "target",
+            a row's prism_constant_mm is the target's alone)
+Without row_prism_constant, a row whose prism_constant_mm differs from the
+profile's field_prism_constant_mm and which gives no field_prism_constant_mm
+is rejected: the two readings give two distances, and its reason names both
+and the setting to add. So is a row whose field_prism_constant_mm
+contradicts row_prism_constant = "applied".
 
 Exit status, the same in summary.json, -json and report.html:
   0  rows were reduced, none rejected, none flagged, and the global test of
@@ -431,10 +453,15 @@ func settings(j *jobconfig.Job, crs *geodesic.CRS, geoidGrid string, strict bool
 	}
 	for _, n := range j.ProfileNames() {
 		p := j.Profiles[n]
+		rowPrism := p.RowPrism.String()
+		if rowPrism == "" {
+			rowPrism = "not given"
+		}
 		st.Instruments = append(st.Instruments, report.InstrumentSettings{
 			Name: n, WavelengthUM: p.Chain.Carrier.WavelengthUM, ReferenceRefractivity: p.Chain.Carrier.ReferenceRefractivity,
 			AdditiveConstantMM: p.Source.AdditiveConstantMM, ScalePPM: p.Source.ScalePPM, PrismConstantMM: p.Source.PrismConstantMM,
-			AppliedPPM: p.Source.FieldPPM, AppliedPrismMM: p.Source.FieldPrismConstantMM, Spec: jobconfig.SpecText(p.Chain.Budget.Instrument)})
+			AppliedPPM: p.Source.FieldPPM, AppliedPrismMM: p.Source.FieldPrismConstantMM, RowPrismConstant: rowPrism,
+			Spec: jobconfig.SpecText(p.Chain.Budget.Instrument)})
 	}
 	return st
 }

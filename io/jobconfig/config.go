@@ -81,6 +81,11 @@ type Instrument struct {
 	// What the field instrument already applied to the stored distances.
 	FieldPPM             float64 `toml:"field_ppm"`
 	FieldPrismConstantMM float64 `toml:"field_prism_constant_mm"`
+	// RowPrismConstant says what a row's prism_constant_mm is where the
+	// row gives no field_prism_constant_mm: "target" (the target's true
+	// constant; the instrument applied field_prism_constant_mm) or
+	// "applied" (the instrument applied the row's own constant).
+	RowPrismConstant string `toml:"row_prism_constant"`
 
 	// The EDM specification a mm + b ppm.
 	SpecMM    float64 `toml:"spec_mm"`

@@ -87,6 +87,8 @@ type Profile struct {
 	// PrismConstant is the targets' prism constant where a row gives
 	// none, metres.
 	PrismConstant float64
+	// RowPrism says what a row's prism_constant_mm is (Prisms).
+	RowPrism RowPrismReading
 	// Settings as read, for the record.
 	Source Instrument
 }
@@ -349,6 +351,10 @@ func profile(name string, in Instrument, pr *problems) (Profile, bool) {
 			pr.bad(key+"."+v.k, "%v: want a value within ±1000 ppm", v.x)
 		}
 	}
+	rowPrism, err := rowPrismReading(in.RowPrismConstant)
+	if err != nil {
+		pr.bad(key+".row_prism_constant", "%v", err)
+	}
 	spec := reduce.DistanceSpec{Constant: in.SpecMM / 1000, PPM: in.SpecPPM}
 	if !(in.SpecMM > 0) || in.SpecPPM < 0 || !finite(in.SpecMM) || !finite(in.SpecPPM) {
 		pr.bad(key+".spec_mm", "spec_mm %v, spec_ppm %v: want the EDM's specification a mm + b ppm, a > 0", in.SpecMM, in.SpecPPM)
@@ -372,6 +378,7 @@ func profile(name string, in Instrument, pr *problems) (Profile, bool) {
 			Budget:     reduce.Budget{Instrument: spec},
 		},
 		PrismConstant: in.PrismConstantMM / 1000,
+		RowPrism:      rowPrism,
 		Source:        in,
 	}, true
 }

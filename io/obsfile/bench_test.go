@@ -11,20 +11,35 @@ import (
 )
 
 // benchObservations is a 12-column observation file of 10,000 rows.
-func benchObservations() []byte {
+func benchObservations() []byte { return benchObservationsWith("", nil) }
+
+// benchObservationsWith is benchObservations with one more column after
+// prism_constant_mm, and its value (mixed targets of −30 and −34.4 mm).
+func benchObservationsWith(column string, value func(i int) string) []byte {
 	var buf bytes.Buffer
-	buf.WriteString("obs_id,from,to,slope_distance,zenith_angle,instrument_height,target_height,temperature_c,pressure_hpa,humidity_pct,prism_constant_mm,instrument\n")
+	extra := ""
+	if column != "" {
+		extra = "," + column
+	}
+	buf.WriteString("obs_id,from,to,slope_distance,zenith_angle,instrument_height,target_height,temperature_c,pressure_hpa,humidity_pct,prism_constant_mm" + extra + ",instrument\n")
 	const rows = 10000
 	for i := range rows {
-		fmt.Fprintf(&buf, "%d,P%05d,P%05d,%.4f,%.6f,1.%03d,1.600,%.1f,1003.2,65,-30,ts\n", i, i%9973, (i+1)%9973, 1000+float64(i)*0.37, 89+float64(i%1000)/500, i%1000, 5+float64(i%200)/10)
+		prism := "-30"
+		if column != "" {
+			prism = value(i) + "," + value(i)
+		}
+		fmt.Fprintf(&buf, "%d,P%05d,P%05d,%.4f,%.6f,1.%03d,1.600,%.1f,1003.2,65,%s,ts\n", i, i%9973, (i+1)%9973, 1000+float64(i)*0.37, 89+float64(i%1000)/500, i%1000, 5+float64(i%200)/10, prism)
 	}
 	return buf.Bytes()
 }
 
 // BenchmarkObsReader decodes a 12-column observation file with one reader
 // into a reused buffer of fields; ns/row is per row.
-func BenchmarkObsReader(b *testing.B) {
-	data := benchObservations()
+func BenchmarkObsReader(b *testing.B) { benchReader(b, benchObservations()) }
+
+// benchReader decodes data with one reader into a reused buffer of
+// fields, and reports ns/row.
+func benchReader(b *testing.B, data []byte) {
 	opt := ObsOptions{LengthUnit: units.Metre, AngleUnit: units.Degrees}
 	rowsRead := 0
 	var fields []string
@@ -38,6 +53,19 @@ func BenchmarkObsReader(b *testing.B) {
 		rowsRead += n
 	}
 	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(rowsRead), "ns/row")
+}
+
+// BenchmarkObsReaderFieldPrism is BenchmarkObsReader on a file that also
+// gives, per row, the prism constant the instrument applied
+// (field_prism_constant_mm); ns/row is per row.
+func BenchmarkObsReaderFieldPrism(b *testing.B) {
+	data := benchObservationsWith("field_prism_constant_mm", func(i int) string {
+		if i%3 == 0 {
+			return "-34.4"
+		}
+		return "-30"
+	})
+	benchReader(b, data)
 }
 
 // BenchmarkObsChunks decodes the same file as a run does: split into

@@ -19,6 +19,7 @@ func FuzzObsReader(f *testing.F) {
 		"\uFEFFfrom,to,slope_distance,zenith_angle,temperature_c,pressure_hpa,humidity_pct\r\nA,B,1e3,89.5,20,1000,50\r\n",
 		"from,to,slope_distance,zenith_angle\n\"A,\"\"x\",B,NaN,-1\n",
 		"# c\nfrom,to,slope_distance,zenith_angle,instrument_height,target_height,prism_constant_mm\nA,B,1,0,1e308,-1e308,inf\n",
+		"from,to,slope_distance,zenith_angle,prism_constant_mm,field_prism_constant_mm\nA,B,100,90,-34.4,-30\nA,B,100,90,,1e-320\n",
 		"from,to\n",
 		"",
 	} {

@@ -25,8 +25,15 @@ type Observation struct {
 
 	InstrumentHeight, TargetHeight float64 // 0 where the file has no column or a blank
 
-	PrismConstant    float64 // metres (the file gives mm)
+	// PrismConstant is the row's prism_constant_mm, metres (the file
+	// gives mm): the target's true constant, or, where the job's profile
+	// says so, also the one the instrument applied.
+	PrismConstant    float64
 	HasPrismConstant bool
+	// FieldPrismConstant is the row's field_prism_constant_mm, metres:
+	// the prism constant the instrument applied on the shot.
+	FieldPrismConstant    float64
+	HasFieldPrismConstant bool
 
 	// Meteorology at the instrument and, where recorded, at the target.
 	AtInstrument, AtTarget Weather
@@ -66,13 +73,14 @@ const (
 	colPresTo    = "pressure_hpa_to"
 	colHumTo     = "humidity_pct_to"
 	colPrism     = "prism_constant_mm"
+	colField     = "field_prism_constant_mm"
 	colInstr     = "instrument"
 	colObsID     = "obs_id"
 	maxHeightAbs = 1000.0 // metres: an instrument or target height beyond this is a blunder
 )
 
 var obsColumns = []string{colFrom, colTo, colSlope, colZenith, colHI, colHT, colTemp, colPressure, colHumidity,
-	colTempTo, colPresTo, colHumTo, colPrism, colInstr, colObsID}
+	colTempTo, colPresTo, colHumTo, colPrism, colField, colInstr, colObsID}
 
 // An ObsReader streams an observation file row by row; it holds one row
 // at a time.
@@ -80,7 +88,7 @@ type ObsReader struct {
 	t   *table
 	opt ObsOptions
 	// column indexes, −1 where absent
-	from, to, slope, zenith, hi, ht, temp, pres, hum, tempTo, presTo, humTo, prism, instr, obsID int
+	from, to, slope, zenith, hi, ht, temp, pres, hum, tempTo, presTo, humTo, prism, fieldPrism, instr, obsID int
 }
 
 // A RowError is a row that cannot be used; the reader goes on after it.
@@ -117,7 +125,7 @@ func NewObsReader(r io.Reader, file string, opt ObsOptions) (*ObsReader, []Warni
 		from: idx(colFrom), to: idx(colTo), slope: idx(colSlope), zenith: idx(colZenith),
 		hi: idx(colHI), ht: idx(colHT), temp: idx(colTemp), pres: idx(colPressure), hum: idx(colHumidity),
 		tempTo: idx(colTempTo), presTo: idx(colPresTo), humTo: idx(colHumTo),
-		prism: idx(colPrism), instr: idx(colInstr), obsID: idx(colObsID)}
+		prism: idx(colPrism), fieldPrism: idx(colField), instr: idx(colInstr), obsID: idx(colObsID)}
 	if (o.temp >= 0) != (o.pres >= 0) || (o.temp >= 0) != (o.hum >= 0) {
 		return nil, warnings, &HeaderError{File: file, Line: t.line, Reason: "temperature_c, pressure_hpa and humidity_pct go together"}
 	}
@@ -235,15 +243,15 @@ func (o *ObsReader) parse(fields []string) (Observation, *FieldError) {
 		}
 		*h.dst = v * float64(u)
 	}
-	if o.prism >= 0 && o.field(o.prism) != "" {
-		v, fe := o.number(o.prism, wants("a prism constant in mm"))
-		if fe != nil {
+	if o.prism >= 0 { // the test here keeps the call off a file without the column
+		if ob.PrismConstant, ob.HasPrismConstant, fe = o.prismConstant(o.prism, wantTargetPrism); fe != nil {
 			return ob, fe
 		}
-		if math.Abs(v) > 1000 {
-			return ob, o.bad(o.prism, "a prism constant within ±1000 mm")
+	}
+	if o.fieldPrism >= 0 {
+		if ob.FieldPrismConstant, ob.HasFieldPrismConstant, fe = o.prismConstant(o.fieldPrism, wantAppliedPrism); fe != nil {
+			return ob, fe
 		}
-		ob.PrismConstant, ob.HasPrismConstant = v/1000, true
 	}
 	var err2 *FieldError
 	if ob.AtInstrument, err2 = o.weather(o.temp, o.pres, o.hum); err2 != nil {
@@ -253,6 +261,28 @@ func (o *ObsReader) parse(fields []string) (Observation, *FieldError) {
 		return ob, err2
 	}
 	return ob, nil
+}
+
+// What a prism constant column holds, for its errors.
+const (
+	wantTargetPrism  = "the target's prism constant"
+	wantAppliedPrism = "the prism constant the instrument applied"
+)
+
+// prismConstant reads a prism constant in mm from column i (≥ 0), in
+// metres; has is false where the row has a blank.
+func (o *ObsReader) prismConstant(i int, what string) (m float64, has bool, fe *FieldError) {
+	if o.field(i) == "" {
+		return 0, false, nil
+	}
+	v, fe := o.number(i, func() string { return what + " in mm" })
+	if fe != nil {
+		return 0, false, fe
+	}
+	if math.Abs(v) > 1000 {
+		return 0, false, o.bad(i, what+" within ±1000 mm")
+	}
+	return v / 1000, true, nil
 }
 
 // weather reads one end's temperature, pressure and humidity: all three or

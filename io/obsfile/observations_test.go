@@ -120,3 +120,53 @@ func TestObservationsHeaderErrors(t *testing.T) {
 	_, _, _, err = readAll(t, "from,to,slope_distance,zenith_angle\n", ObsOptions{})
 	assert.ErrorContains(t, err, "units not set")
 }
+
+// field_prism_constant_mm is the prism constant the instrument applied on
+// the shot, beside the target's own prism_constant_mm; either may be
+// blank, and both are millimetres whatever the length unit.
+func TestObservationsFieldPrismConstant(t *testing.T) {
+	in := "from,to,slope_distance,zenith_angle,prism_constant_mm,field_prism_constant_mm\n" +
+		"A,B,100,90,-34.4,-30\n" +
+		"A,B,100,90,-34.4,\n" +
+		"A,B,100,90,,-34.4\n" +
+		"A,B,100,90,,\n"
+	obs, rejects, warns, err := readAll(t, in, ObsOptions{LengthUnit: units.USSurveyFoot, AngleUnit: units.Degrees})
+	require.NoError(t, err)
+	assert.Empty(t, rejects)
+	assert.Empty(t, warns, "a known column")
+	require.Len(t, obs, 4)
+	assert.Equal(t, -34.4/1000, obs[0].PrismConstant, "target's constant, m")
+	assert.Equal(t, -30.0/1000, obs[0].FieldPrismConstant, "applied constant, m (not scaled by the length unit)")
+	assert.True(t, obs[0].HasPrismConstant && obs[0].HasFieldPrismConstant)
+	assert.True(t, obs[1].HasPrismConstant)
+	assert.False(t, obs[1].HasFieldPrismConstant, "blank: what the profile says")
+	assert.False(t, obs[2].HasPrismConstant)
+	assert.True(t, obs[2].HasFieldPrismConstant)
+	assert.Equal(t, -34.4/1000, obs[2].FieldPrismConstant)
+	assert.False(t, obs[3].HasPrismConstant || obs[3].HasFieldPrismConstant)
+}
+
+func TestObservationsRejectBadPrismConstants(t *testing.T) {
+	in := "from,to,slope_distance,zenith_angle,prism_constant_mm,field_prism_constant_mm\n" +
+		"A,B,100,90,-30,abc\n" +
+		"A,B,100,90,-30,-1000.5\n" +
+		"A,B,100,90,-30,NaN\n" +
+		"A,B,100,90,x,-30\n" +
+		"A,B,100,90,1e4,-30\n" +
+		"A,B,100,90,-30,-30\n"
+	obs, rejects, _, err := readAll(t, in, metresGon)
+	require.NoError(t, err)
+	require.Len(t, obs, 1)
+	assert.Equal(t, 7, obs[0].Line)
+	want := []string{
+		`obs.csv:2:6: field_prism_constant_mm "abc": want the prism constant the instrument applied in mm`,
+		`obs.csv:3:6: field_prism_constant_mm "-1000.5": want the prism constant the instrument applied within ±1000 mm`,
+		`obs.csv:4:6: field_prism_constant_mm "NaN": want the prism constant the instrument applied in mm`,
+		`obs.csv:5:5: prism_constant_mm "x": want the target's prism constant in mm`,
+		`obs.csv:6:5: prism_constant_mm "1e4": want the target's prism constant within ±1000 mm`,
+	}
+	require.Len(t, rejects, len(want))
+	for i, w := range want {
+		assert.Equal(t, w, rejects[i].Error())
+	}
+}

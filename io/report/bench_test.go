@@ -10,7 +10,7 @@ import (
 )
 
 // BenchmarkAppendReducedRow is the write stage: one row of reduced.csv,
-// 47 columns, into a reused buffer.
+// 50 columns, into a reused buffer.
 func BenchmarkAppendReducedRow(b *testing.B) {
 	r := &job.Result{
 		Obs:     obsfile.Observation{File: "observations.csv", Line: 1234, ObsID: "1233", From: "P00017", To: "P00118", SlopeDistance: 2925.7522},
@@ -18,7 +18,7 @@ func BenchmarkAppendReducedRow(b *testing.B) {
 		Line:    reduce.Line{Inverse: reduce.Inverse{Distance: 2925.61234567}, GridDistance: 2924.4434343, Radius: 6380123.4},
 	}
 	red := &r.Reduction
-	red.Instrument = reduce.InstrumentResult{Raw: 2925.7522, Measured: 2925.7822, Distance: 2925.7522, PrismConstant: -0.03}
+	red.Instrument = reduce.InstrumentResult{Raw: 2925.7522, FieldPrismConstant: -0.03, Measured: 2925.7822, Distance: 2925.7522, PrismConstant: -0.03}
 	red.FirstVelocity = reduce.FirstVelocityResult{Atmosphere: reduce.Atmosphere{TemperatureC: 12.3, PressureHPa: 1003.4, HumidityPct: 66}, Line: 279.1234, Reference: 286.338, PPM: 7.2146, Distance: 2925.77331}
 	red.SecondVelocity = reduce.SecondVelocityResult{Input: 2925.77331, Distance: 2925.773309}
 	red.Geometry = reduce.GeometryResult{Route: reduce.RouteHeights, Radius: 6380123.4, Chord: 2925.60123, Arc: 2925.6123901}

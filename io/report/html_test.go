@@ -52,6 +52,7 @@ func testSummary() *Summary {
 				PrismConstantMM:       -30,
 				AppliedPPM:            0,
 				AppliedPrismMM:        -30,
+				RowPrismConstant:      "target",
 				Spec:                  "1 mm + 1.5 ppm, RSS, 1σ",
 			}},
 			Strict: false,

@@ -38,12 +38,18 @@ func (u Units) angleSuffix() string {
 	return "deg"
 }
 
-// ReducedHeader is the first row of reduced.csv.
+// ReducedHeader is the first row of reduced.csv. prism_constant_mm is
+// the target's constant that the reduction applied and
+// field_prism_constant_mm the one the field instrument had applied, which
+// it removed first; their _source columns say where each came from
+// (jobconfig.PrismOrigin: row, row-prism or profile).
 func ReducedHeader(u Units) []string {
 	l, a := "_"+u.suffix(), "_"+u.angleSuffix()
 	return []string{
 		"file", "line", "obs_id", "from", "to", "instrument", "route",
-		"slope_raw" + l, "slope_instrument" + l, "prism_constant_mm", "additive_constant_mm", "scale_correction_mm",
+		"slope_raw" + l, "slope_instrument" + l,
+		"prism_constant_mm", "prism_source", "field_prism_constant_mm", "field_prism_source",
+		"additive_constant_mm", "scale_correction_mm",
 		"atmosphere", "temperature_c", "pressure_hpa", "humidity_pct", "refractivity_line", "refractivity_reference",
 		"first_velocity_ppm", "slope_first_velocity" + l, "second_velocity_mm", "slope_chord" + l,
 		"height_instrument" + l, "height_target" + l, "mean_mark_height" + l, "radius" + l,
@@ -87,6 +93,12 @@ func AppendReducedRow(b []byte, r *job.Result, u Units) []byte {
 	b = length(b, in.Distance)
 	b = append(b, ',')
 	b = appendFixed(b, in.PrismConstant*1e3, dmm)
+	b = append(b, ',')
+	b = append(b, r.PrismFrom.String()...)
+	b = append(b, ',')
+	b = appendFixed(b, in.FieldPrismConstant*1e3, dmm)
+	b = append(b, ',')
+	b = append(b, r.FieldPrismFrom.String()...)
 	b = append(b, ',')
 	b = appendFixed(b, in.AdditiveConstant*1e3, dmm)
 	b = append(b, ',')

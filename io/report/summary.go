@@ -137,7 +137,11 @@ type InstrumentSettings struct {
 	PrismConstantMM       float64 `json:"prism_constant_mm"`
 	AppliedPPM            float64 `json:"field_applied_ppm"`
 	AppliedPrismMM        float64 `json:"field_applied_prism_constant_mm"`
-	Spec                  string  `json:"spec"` // e.g. "1 mm + 1.5 ppm, RSS, 1σ"
+	// RowPrismConstant is how a row's prism_constant_mm was read where
+	// the row gave no field_prism_constant_mm: "target", "applied", or
+	// "not given" (rows where the readings differ are rejected).
+	RowPrismConstant string `json:"row_prism_constant"`
+	Spec             string `json:"spec"` // e.g. "1 mm + 1.5 ppm, RSS, 1σ"
 }
 
 // InputFile is one input as read.

@@ -168,6 +168,10 @@ type Result struct {
 	// Points are the plan's numbers of Obs.From and Obs.To (Plan.PointID).
 	Points    [2]int32
 	Reduction reduce.Reduction
+	// PrismFrom and FieldPrismFrom say where the target's prism constant
+	// (Reduction.Instrument.PrismConstant) and the one the instrument
+	// applied (Reduction.Instrument.FieldPrismConstant) came from.
+	PrismFrom, FieldPrismFrom jobconfig.PrismOrigin
 	// Rejected rows: File and LineNo say where, Raw is the row as written
 	// and Reason why it could not be reduced.
 	Rejected bool
@@ -461,17 +465,21 @@ func reduceOne(plan *Plan, p *geodesic.Projector, r *Result, readErr error) {
 		reject(fmt.Sprintf("%s: line %s → %s: %v", where, o.From, o.To, err))
 		return
 	}
-	prism := prof.PrismConstant
-	if o.HasPrismConstant {
-		prism = o.PrismConstant
+	pr, conflict := prof.Prisms(o.PrismConstant, o.HasPrismConstant, o.FieldPrismConstant, o.HasFieldPrismConstant)
+	if conflict != jobconfig.PrismsKnown {
+		reject(prismConflict(where, plan.Job.LengthUnit, prof, o, pr, conflict))
+		return
 	}
+	r.PrismFrom, r.FieldPrismFrom = pr.TargetFrom, pr.AppliedFrom
 	obs := reduce.Observation{
-		SlopeDistance:    o.SlopeDistance,
-		Zenith:           o.Zenith,
-		InstrumentHeight: o.InstrumentHeight,
-		TargetHeight:     o.TargetHeight,
-		PrismConstant:    prism,
-		Meteorology:      Meteorology(o.AtInstrument, o.AtTarget),
+		SlopeDistance:         o.SlopeDistance,
+		Zenith:                o.Zenith,
+		InstrumentHeight:      o.InstrumentHeight,
+		TargetHeight:          o.TargetHeight,
+		PrismConstant:         pr.Target,
+		FieldPrismConstant:    pr.Applied,
+		HasFieldPrismConstant: true,
+		Meteorology:           Meteorology(o.AtInstrument, o.AtTarget),
 	}
 	if !o.AtInstrument.Has && !o.AtTarget.Has && !plan.Job.HasDefaultAtmosphere {
 		reject(where.String() + ": the row records no temperature, pressure and humidity, and the job has no default_atmosphere")

@@ -34,7 +34,13 @@ spec_ppm = 1.5
 // testPlan is a plan over a few invented points near 52°N 9°E.
 func testPlan(t *testing.T, workers int) (*Plan, *geodesic.Projector) {
 	t.Helper()
-	f, err := jobconfig.Parse([]byte(runJob), "job.toml")
+	return planFor(t, runJob, workers)
+}
+
+// planFor is testPlan for the job file text jobText.
+func planFor(t *testing.T, jobText string, workers int) (*Plan, *geodesic.Projector) {
+	t.Helper()
+	f, err := jobconfig.Parse([]byte(jobText), "job.toml")
 	require.NoError(t, err)
 	j, err := jobconfig.Resolve(f, "job.toml")
 	require.NoError(t, err)
@@ -67,6 +73,25 @@ func observations(t *testing.T, plan *Plan, p *geodesic.Projector) string {
 	var b strings.Builder
 	b.WriteString("from,to,slope_distance,zenith_angle,instrument_height,target_height,temperature_c,pressure_hpa,humidity_pct,instrument\n")
 	prof := plan.Job.Profiles["ts"]
+	predicted(t, plan, p, func(a, c string) reduce.Observation {
+		return reduce.Observation{PrismConstant: prof.PrismConstant}
+	}, func(a, c string, pr reduce.Prediction) {
+		fmt.Fprintf(&b, "%s,%s,%.9f,%.12f,1.6,1.5,18,1001,70,\n", a, c, pr.Displayed.Slope, pr.Observation.Zenith.Degrees())
+	})
+	b.WriteString("M0,M9,100,90,1.6,1.5,18,1001,70,\n")    // unknown target
+	b.WriteString("M0,M1,100,90,1.6,1.5,18,1001,70,ts2\n") // unknown instrument
+	b.WriteString("M0,M1,100,90,1.6,1.5,,,,\n")            // no air, no job default
+	b.WriteString("M0,M1,1,90,1.6,1.5,18,1001,70,\n")      // shorter than the height difference
+	return b.String()
+}
+
+// predicted calls row with the sight from a to c over every pair of the
+// plan's marks, predicted from the control through the chain run
+// backwards with the "ts" profile: HI 1.6 m, HT 1.5 m, 18 °C, 1001 hPa
+// and 70 % at the instrument, and the prism constants that obs gives.
+func predicted(t *testing.T, plan *Plan, p *geodesic.Projector, obs func(a, c string) reduce.Observation, row func(a, c string, pr reduce.Prediction)) {
+	t.Helper()
+	prof := plan.Job.Profiles["ts"]
 	for i := range 6 {
 		for k := range 6 {
 			if i == k {
@@ -75,21 +100,17 @@ func observations(t *testing.T, plan *Plan, p *geodesic.Projector) string {
 			a, c := fmt.Sprintf("M%d", i), fmt.Sprintf("M%d", k)
 			line, _, err := NewReduceLine(plan.points[plan.index[a]].control(), plan.points[plan.index[c]].control(), plan.Geodesic, p)
 			require.NoError(t, err)
-			obs := reduce.Observation{InstrumentHeight: 1.6, TargetHeight: 1.5, PrismConstant: prof.PrismConstant,
-				Meteorology: reduce.Meteorology{Instrument: reduce.Atmosphere{TemperatureC: 18, PressureHPa: 1001, HumidityPct: 70}, HaveInstrument: true}}
+			o := obs(a, c)
+			o.InstrumentHeight, o.TargetHeight = 1.6, 1.5
+			o.Meteorology = reduce.Meteorology{Instrument: reduce.Atmosphere{TemperatureC: 18, PressureHPa: 1001, HumidityPct: 70}, HaveInstrument: true}
 			ma, okA := plan.Mark(a)
 			mc, okC := plan.Mark(c)
 			require.True(t, okA && okC)
-			pr, err := reduce.Predict(obs, prof.Chain, line, ma, mc)
+			pr, err := reduce.Predict(o, prof.Chain, line, ma, mc)
 			require.NoError(t, err)
-			fmt.Fprintf(&b, "%s,%s,%.9f,%.12f,1.6,1.5,18,1001,70,\n", a, c, pr.Displayed.Slope, pr.Observation.Zenith.Degrees())
+			row(a, c, pr)
 		}
 	}
-	b.WriteString("M0,M9,100,90,1.6,1.5,18,1001,70,\n")    // unknown target
-	b.WriteString("M0,M1,100,90,1.6,1.5,18,1001,70,ts2\n") // unknown instrument
-	b.WriteString("M0,M1,100,90,1.6,1.5,,,,\n")            // no air, no job default
-	b.WriteString("M0,M1,1,90,1.6,1.5,18,1001,70,\n")      // shorter than the height difference
-	return b.String()
 }
 
 // repeated is data with its 30 predicted rows repeated n times before its
