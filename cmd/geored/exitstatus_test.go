@@ -54,6 +54,7 @@ func TestExitStatusCases(t *testing.T) {
 		code, m, stderr := statusAgrees(t, bin, writeJob(t, clean, ""))
 		assert.Equal(t, 0, code, stderr)
 		assert.Equal(t, "clean: every row was reduced and no result is flagged", m["verdict"])
+		assert.Equal(t, "pass", m["global_test"])
 		assert.Empty(t, stderr, "a clean run says nothing on stderr")
 	})
 

@@ -593,11 +593,20 @@ func startProgress(on bool, read, rows *atomic.Int64, total int64) func() {
 
 // machineSummary is the one-line JSON of -json.
 func machineSummary(s *report.Summary, out string) map[string]any {
-	return map[string]any{
+	m := map[string]any{
 		"exit_status": s.ExitStatus, "verdict": s.Verdict, "reasons": s.Reasons, "read": s.Counts.Read, "reduced": s.Counts.Reduced, "rejected": s.Counts.Rejected,
 		"flagged": s.Counts.Flagged, "lines": s.Counts.Lines, "flagged_lines": s.Counts.FlaggedLines,
+		"outliers": s.Testing.Outliers, "expected_outliers_by_chance": s.Testing.ExpectedByChance, "critical_value": s.Testing.Critical,
 		"input_hash": s.InputHash, "out": out, "report": filepath.Join(out, "report.html"),
 	}
+	if g := s.Testing.Global; g != nil {
+		m["global_test"] = g.Outcome
+		m["variance_factor"] = g.VarianceFactor
+	}
+	if f := s.Fit; f != nil {
+		m["fit_evidence"] = f.Evidence
+	}
+	return m
 }
 
 // printVerdict prints the run's outcome for a person.
