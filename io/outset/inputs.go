@@ -67,7 +67,7 @@ func within(path, root string) bool {
 // holds the current folder. Paths are compared resolved (symbolic links
 // followed) and by os.SameFile on the file and every folder above it, so
 // that a hard link or a bind mount does not slip by. A file to keep that
-// does not exist is passed over: reading it will fail on its own.
+// does not exist yet (a profile to write) is compared by its path.
 func CheckInputs(out string, keep []Keep) error {
 	rout, err := resolve(out)
 	if err != nil {
@@ -100,9 +100,6 @@ func CheckInputs(out string, keep []Keep) error {
 	}
 	for _, k := range keep {
 		if k.Path == "" {
-			continue
-		}
-		if _, err := os.Stat(k.Path); err != nil {
 			continue
 		}
 		rp, err := resolve(k.Path)

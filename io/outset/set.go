@@ -278,10 +278,10 @@ func (s *Set) Commit(id Identity) error {
 	if err := syncDir(parent); err != nil {
 		return err
 	}
+	s.stage("complete")
 	if err := s.stopped(); err != nil {
 		return err
 	}
-	s.stage("complete")
 	old, err := s.swap()
 	if err != nil {
 		return fmt.Errorf("putting the outputs in place as %s: %w", s.name, err)
