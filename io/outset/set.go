@@ -221,8 +221,8 @@ func (s *Set) Create(name string) (*File, error) {
 	if err != nil {
 		return nil, err
 	}
-	file := &File{w: fileWriter{f: f, name: name, out: s.name}}
-	file.Writer = bufio.NewWriterSize(&file.w, fileBuffer)
+	file := &File{w: newFileWriter(f, name, s.name)}
+	file.Writer = bufio.NewWriterSize(file.w, fileBuffer)
 	s.files = append(s.files, file)
 	return file, nil
 }

@@ -84,7 +84,7 @@ func leftovers(t *testing.T, out string) []string {
 // every file with its size and SHA-256, and nothing is left beside it.
 func TestCommitReplacesTheWholeSet(t *testing.T) {
 	out := filepath.Join(t.TempDir(), "out")
-	first := map[string]string{"big.csv": strings.Repeat("row\n", 100000), "a.json": "{}\n", "gone.txt": "only in the first"}
+	first := map[string]string{"big.csv": strings.Repeat("row\n", 100000), "a.json": "{}\n", "gone.txt": "only in the first", "wide.csv": strings.Repeat("x,y\n", 200000)}
 	require.NoError(t, writeSet(t, out, first, Options{}))
 	assert.Equal(t, first, readSet(t, out))
 	second := map[string]string{"big.csv": "other\n", "a.json": "[]\n"}
