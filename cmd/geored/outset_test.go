@@ -184,6 +184,48 @@ func TestFullDiskLeavesTheOldSet(t *testing.T) {
 	assert.Empty(t, j.temporaries(t))
 }
 
+// mountTmpfs mounts a tmpfs of size bytes on a fresh folder and returns
+// it; the test is skipped where mounting is not allowed (not root).
+func mountTmpfs(t *testing.T, size int) string {
+	t.Helper()
+	dir := filepath.Join(t.TempDir(), "disk")
+	require.NoError(t, os.Mkdir(dir, 0o755))
+	if out, err := exec.Command("mount", "-t", "tmpfs", "-o", fmt.Sprintf("size=%d", size), "tmpfs", dir).CombinedOutput(); err != nil {
+		t.Skipf("cannot mount a tmpfs here: %v %s", err, out)
+	}
+	t.Cleanup(func() { exec.Command("umount", "-l", dir).Run() })
+	return dir
+}
+
+// A disk that is really full (a 512 kB tmpfs, where root may mount one):
+// ENOSPC, status 2, the old set whole, nothing left beside it. A mount
+// point as the output folder is refused before the run, since it cannot
+// be swapped.
+func TestFullTmpfsLeavesTheOldSet(t *testing.T) {
+	j := newSetJob(t, buildBinary(t), 20)
+	disk := mountTmpfs(t, 512<<10)
+	out := filepath.Join(disk, "out")
+	code, stderr := j.run(t, nil, "-out", out)
+	require.Equal(t, exitFlagged, code, stderr)
+	oldSet := snapshot(t, out)
+
+	code, stderr = j.run(t, nil, append([]string{"-out", out}, newer...)...)
+	assert.Equal(t, exitFailed, code)
+	assert.Regexp(t, `^geored reduce: writing reduced.csv in `+out+`: no space left on device; `+out+` is as it was before this run\n$`, stderr)
+	assert.Equal(t, oldSet, snapshot(t, out))
+	entries, err := os.ReadDir(disk)
+	require.NoError(t, err)
+	var names []string
+	for _, e := range entries {
+		names = append(names, e.Name())
+	}
+	assert.ElementsMatch(t, []string{"out", ".out.geored-lock"}, names, "no temporary left on the full disk")
+
+	code, stderr = j.run(t, nil, "-out", disk)
+	assert.Equal(t, exitFailed, code)
+	assert.Contains(t, stderr, "the output folder "+disk+" is a mount point")
+}
+
 // startPaused starts a run that pauses at the stage and returns once it
 // says so, with the lines it printed before.
 func (j setJob) startPaused(t *testing.T, stage string, args ...string) (*exec.Cmd, *bufio.Reader) {

@@ -247,7 +247,7 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 	}
 	defer out.Abort()
 	defer func() {
-		if err != nil && !errors.As(err, new(signalStop)) {
+		if err != nil && !errors.As(err, new(signalStop)) && !out.Committed() {
 			err = fmt.Errorf("%w; %s is as it was before this run", err, j.Out)
 		}
 	}()

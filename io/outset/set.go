@@ -10,6 +10,7 @@ import (
 	"path/filepath"
 	"slices"
 	"strings"
+	"syscall"
 
 	"golang.org/x/sys/unix"
 )
@@ -42,6 +43,7 @@ type Set struct {
 	files  []*File
 	hook   func(stage string)
 	closed bool
+	swapped bool
 }
 
 // Options are a set's inputs and behaviour.
@@ -110,7 +112,8 @@ func Begin(ctx context.Context, dir string, opt Options) (*Set, error) {
 		lock.Release()
 		return nil, err
 	}
-	if err := isSet(rdir, dir, opt.Earlier); err != nil {
+	mode, err := isSet(rdir, dir, opt.Earlier)
+	if err != nil {
 		lock.Release()
 		return nil, err
 	}
@@ -118,6 +121,9 @@ func Begin(ctx context.Context, dir string, opt Options) (*Set, error) {
 	if err := os.Mkdir(s.tmp, 0o755); err != nil {
 		lock.Release()
 		return nil, err
+	}
+	if mode != 0 {
+		os.Chmod(s.tmp, mode) // the new set keeps the folder's permissions
 	}
 	return s, nil
 }
@@ -160,41 +166,53 @@ func (s *Set) recover(log io.Writer) error {
 	return nil
 }
 
-// isSet checks that dir, if it exists, may be replaced (see Begin).
-func isSet(dir, name string, earlier []string) error {
+// isSet checks that dir, if it exists, may be replaced (see Begin), and
+// returns its permissions (0 if it does not exist). A mount point is
+// refused: it cannot be renamed.
+func isSet(dir, name string, earlier []string) (os.FileMode, error) {
 	st, err := os.Lstat(dir)
 	if errors.Is(err, os.ErrNotExist) {
-		return nil
+		return 0, nil
 	}
 	if err != nil {
-		return err
+		return 0, err
 	}
 	if !st.IsDir() {
-		return fmt.Errorf("the output folder %s is a file, not a folder", name)
+		return 0, fmt.Errorf("the output folder %s is a file, not a folder", name)
+	}
+	if pst, err := os.Stat(filepath.Dir(dir)); err == nil && !sameDevice(st, pst) {
+		return 0, fmt.Errorf("the output folder %s is a mount point, and a run replaces the folder whole: name a folder inside it", name)
 	}
 	entries, err := os.ReadDir(dir)
 	if err != nil {
-		return err
+		return 0, err
 	}
 	if len(entries) == 0 {
-		return nil
+		return st.Mode().Perm(), nil
 	}
 	if m, err := ReadManifest(dir); err == nil {
 		if err := m.onlyListed(name, entries); err != nil {
-			return fmt.Errorf("%w: a run replaces the output folder whole; move it away, or name another folder", err)
+			return 0, fmt.Errorf("%w: a run replaces the output folder whole; move it away, or name another folder", err)
 		}
-		return nil
+		return st.Mode().Perm(), nil
 	} else if !errors.Is(err, os.ErrNotExist) {
-		return fmt.Errorf("the output folder %s: %w", name, err)
+		return 0, fmt.Errorf("the output folder %s: %w", name, err)
 	}
 	for _, e := range entries {
 		if e.Type().IsRegular() && earlierName(e.Name(), earlier) {
 			continue
 		}
-		return fmt.Errorf("the output folder %s holds %s and no %s, so it is not a set of geored's outputs; "+
+		return 0, fmt.Errorf("the output folder %s holds %s and no %s, so it is not a set of geored's outputs; "+
 			"a run replaces the folder whole: name a new or empty folder", name, e.Name(), ManifestName)
 	}
-	return nil
+	return st.Mode().Perm(), nil
+}
+
+// sameDevice reports whether two files are on one filesystem.
+func sameDevice(a, b os.FileInfo) bool {
+	sa, ok1 := a.Sys().(*syscall.Stat_t)
+	sb, ok2 := b.Sys().(*syscall.Stat_t)
+	return !ok1 || !ok2 || sa.Dev == sb.Dev
 }
 
 // earlierName reports whether name is one of earlier or a temporary that
@@ -286,8 +304,10 @@ func (s *Set) Commit(id Identity) error {
 	if err != nil {
 		return fmt.Errorf("putting the outputs in place as %s: %w", s.name, err)
 	}
-	s.closed = true
-	err = syncDir(parent)
+	s.closed, s.swapped = true, true
+	if serr := syncDir(parent); serr != nil {
+		err = fmt.Errorf("the outputs are in place as %s, but syncing its parent folder failed: %w", s.name, serr)
+	}
 	s.stage("swapped")
 	if old != "" {
 		if rerr := os.RemoveAll(old); rerr == nil {
@@ -324,6 +344,10 @@ func (s *Set) swap() (string, error) {
 	}
 	return old, nil
 }
+
+// Committed reports whether the set was swapped in (even if Commit then
+// failed to sync or clean up).
+func (s *Set) Committed() bool { return s.swapped }
 
 // Abort discards the set: the temporary folder is removed and the lock
 // freed; the output folder is as it was. It is safe after Commit.

@@ -87,9 +87,13 @@ func TestCommitReplacesTheWholeSet(t *testing.T) {
 	first := map[string]string{"big.csv": strings.Repeat("row\n", 100000), "a.json": "{}\n", "gone.txt": "only in the first", "wide.csv": strings.Repeat("x,y\n", 200000)}
 	require.NoError(t, writeSet(t, out, first, Options{}))
 	assert.Equal(t, first, readSet(t, out))
+	require.NoError(t, os.Chmod(out, 0o750))
 	second := map[string]string{"big.csv": "other\n", "a.json": "[]\n"}
 	require.NoError(t, writeSet(t, out, second, Options{}))
 	assert.Equal(t, second, readSet(t, out), "no file of the first set is left")
+	st, err := os.Stat(out)
+	require.NoError(t, err)
+	assert.Equal(t, os.FileMode(0o750), st.Mode().Perm(), "the folder keeps its permissions")
 	assert.Empty(t, leftovers(t, out))
 
 	m, err := ReadManifest(out)
