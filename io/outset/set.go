@@ -35,14 +35,14 @@ import (
 // the next run (Begin, under the lock) puts back as the output folder.
 // Either way every complete set holds its manifest, which Verify checks.
 type Set struct {
-	dir    string // the output folder, resolved
-	name   string // the output folder as given, for messages
-	tmp    string // the temporary folder being written
-	ctx    context.Context
-	lock   *Lock
-	files  []*File
-	hook   func(stage string)
-	closed bool
+	dir     string // the output folder, resolved
+	name    string // the output folder as given, for messages
+	tmp     string // the temporary folder being written
+	ctx     context.Context
+	lock    *Lock
+	files   []*File
+	hook    func(stage string)
+	closed  bool
 	swapped bool
 }
 
