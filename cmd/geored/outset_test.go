@@ -10,6 +10,7 @@ import (
 	"os/exec"
 	"path/filepath"
 	"strings"
+	"sync"
 	"syscall"
 	"testing"
 
@@ -23,6 +24,28 @@ import (
 // the output set's stages, fill its disk, signal it, race it and point its
 // outputs at its inputs; after each, the folder holds the whole earlier
 // set or the whole new one, and nothing else is left.
+
+// builtOnce is the binary these tests share, built by the first that
+// needs it; TestMain removes its folder.
+var builtOnce struct {
+	once     sync.Once
+	dir, bin string
+	out      []byte
+	err      error
+}
+
+func setBinary(t *testing.T) string {
+	t.Helper()
+	b := &builtOnce
+	b.once.Do(func() {
+		if b.dir, b.err = os.MkdirTemp("", "geored-bin-"); b.err == nil {
+			b.bin = filepath.Join(b.dir, "geored")
+			b.out, b.err = exec.Command("go", "build", "-o", b.bin, ".").CombinedOutput()
+		}
+	})
+	require.NoError(t, b.err, string(b.out))
+	return b.bin
+}
 
 // setJob is a job of the demo's observations repeated (so that its
 // reduced.csv is some 300 kB), its folder and its output folder.
@@ -120,7 +143,7 @@ func (j setJob) reference(t *testing.T, args ...string) map[string]string {
 // succeeds. Before the output set (issue 16), a kill after reduced.csv was
 // renamed left a new reduced.csv beside the old rest.
 func TestKilledRunLeavesAWholeSet(t *testing.T) {
-	j := newSetJob(t, buildBinary(t), 20)
+	j := newSetJob(t, setBinary(t), 20)
 	oldSet, newSet := j.reference(t), j.reference(t, newer...)
 	require.NotEqual(t, oldSet["reduced.csv"], newSet["reduced.csv"])
 
@@ -164,7 +187,7 @@ func TestKilledRunLeavesAWholeSet(t *testing.T) {
 // file, leaves the old set whole and removes the temporaries. Before the
 // output set, the files that fitted were renamed over the old ones.
 func TestFullDiskLeavesTheOldSet(t *testing.T) {
-	j := newSetJob(t, buildBinary(t), 20)
+	j := newSetJob(t, setBinary(t), 20)
 	code, stderr := j.run(t, nil)
 	require.Equal(t, exitFlagged, code, stderr)
 	oldSet := snapshot(t, j.out)
@@ -202,7 +225,7 @@ func mountTmpfs(t *testing.T, size int) string {
 // point as the output folder is refused before the run, since it cannot
 // be swapped.
 func TestFullTmpfsLeavesTheOldSet(t *testing.T) {
-	j := newSetJob(t, buildBinary(t), 20)
+	j := newSetJob(t, setBinary(t), 20)
 	disk := mountTmpfs(t, 512<<10)
 	out := filepath.Join(disk, "out")
 	code, stderr := j.run(t, nil, "-out", out)
@@ -257,7 +280,7 @@ func waitLine(t *testing.T, r *bufio.Reader, want string) {
 // the signal killed the process with no message, leaving its hidden
 // temporaries for good.
 func TestSignalsStopCleanly(t *testing.T) {
-	j := newSetJob(t, buildBinary(t), 50)
+	j := newSetJob(t, setBinary(t), 50)
 	code, stderr := j.run(t, nil)
 	require.Equal(t, exitFlagged, code, stderr)
 	oldSet := snapshot(t, j.out)
@@ -291,7 +314,7 @@ func TestSignalsStopCleanly(t *testing.T) {
 // and start; with -wait it says so, waits, and succeeds once the first
 // ends. Before the lock, both reported success and one result was lost.
 func TestSecondRunRefusesOrWaits(t *testing.T) {
-	j := newSetJob(t, buildBinary(t), 2)
+	j := newSetJob(t, setBinary(t), 2)
 	first, _ := j.startPaused(t, "row")
 
 	code, stderr := j.run(t, nil, newer...)
@@ -306,6 +329,20 @@ func TestSecondRunRefusesOrWaits(t *testing.T) {
 	require.NoError(t, waiter.Start())
 	r := bufio.NewReader(pipe)
 	waitLine(t, r, fmt.Sprintf("geored: waiting for PID %d on ", first.Process.Pid))
+
+	// A waiter stopped while it waits exits as any stopped run.
+	quitter := j.command(nil, "-wait")
+	qpipe, err := quitter.StderrPipe()
+	require.NoError(t, err)
+	require.NoError(t, quitter.Start())
+	qr := bufio.NewReader(qpipe)
+	waitLine(t, qr, "geored: waiting for PID")
+	require.NoError(t, quitter.Process.Signal(syscall.SIGINT))
+	qrest, _ := io.ReadAll(qr)
+	var qe *exec.ExitError
+	require.ErrorAs(t, quitter.Wait(), &qe)
+	assert.Equal(t, exitInterrupted, qe.ExitCode())
+	assert.Equal(t, "geored reduce: stopped by SIGINT: this run's temporary files are removed and "+j.out+" is as it was before it\n", string(qrest))
 
 	require.NoError(t, first.Process.Signal(syscall.SIGTERM))
 	err = first.Wait()
@@ -324,7 +361,7 @@ func TestSecondRunRefusesOrWaits(t *testing.T) {
 
 // A lock file naming a process that is gone is taken over with a message.
 func TestStaleLockFileIsTakenOver(t *testing.T) {
-	j := newSetJob(t, buildBinary(t), 1)
+	j := newSetJob(t, setBinary(t), 1)
 	gone := exec.Command("true")
 	require.NoError(t, gone.Run())
 	stale := fmt.Sprintf(`{"pid":%d,"host":"survey-server","started":"2026-12-01T23:00:00Z","folder":%q}`, gone.Process.Pid, j.out)
@@ -340,7 +377,7 @@ func TestStaleLockFileIsTakenOver(t *testing.T) {
 // `-out clobber clobber/reduced.csv` replaced the observations with the
 // outputs.
 func TestOutputsNeverOverwriteInputs(t *testing.T) {
-	j := newSetJob(t, buildBinary(t), 1)
+	j := newSetJob(t, setBinary(t), 1)
 	obs, err := os.ReadFile(filepath.Join(j.dir, "observations.csv"))
 	require.NoError(t, err)
 	clobber := filepath.Join(j.dir, "clobber")
