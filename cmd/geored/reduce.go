@@ -103,7 +103,8 @@ Exit status, the same in summary.json, -json and report.html:
      empty file, every row rejected), or -strict and a row was rejected
   130, 143  stopped by SIGINT (Ctrl-C) or SIGTERM: the run's temporary
      files are removed and the output folder is as it was (128 + the
-     signal's number, as a shell reports a killed process)
+     signal's number, as a shell reports a killed process); a second
+     signal kills geored at once, and the next run removes what it left
 
 The outputs are written as one set: into a hidden folder beside the output
 folder, then swapped in whole with a manifest.json listing each file's size

@@ -105,6 +105,24 @@ func TestCommitReplacesTheWholeSet(t *testing.T) {
 	assert.NotContains(t, string(b), out, "the manifest holds no path")
 }
 
+// An output folder named through a symbolic link is replaced where the
+// link points; the link stays, and the lock is beside the real folder.
+func TestCommitThroughASymlink(t *testing.T) {
+	root := t.TempDir()
+	target := filepath.Join(root, "disk", "out")
+	require.NoError(t, os.MkdirAll(target, 0o755))
+	link := filepath.Join(root, "out")
+	require.NoError(t, os.Symlink(target, link))
+	require.NoError(t, writeSet(t, link, map[string]string{"a.csv": "1\n"}, Options{}))
+	require.NoError(t, writeSet(t, link, map[string]string{"a.csv": "2\n"}, Options{}))
+	st, err := os.Lstat(link)
+	require.NoError(t, err)
+	assert.True(t, st.Mode()&os.ModeSymlink != 0, "the link is kept")
+	assert.Equal(t, map[string]string{"a.csv": "2\n"}, readSet(t, target))
+	assert.FileExists(t, filepath.Join(root, "disk", ".out.geored-lock"))
+	assert.Empty(t, leftovers(t, target))
+}
+
 // The same files give the same manifest byte for byte.
 func TestManifestIsDeterministic(t *testing.T) {
 	files := map[string]string{"big.csv": "x,y\n1,2\n", "s.json": "{}\n"}
