@@ -28,11 +28,14 @@ func runDemo(args []string, stdout, stderr io.Writer) int {
 	out := fs.String("out", defaultDemoOut, "output folder")
 	workers := fs.Int("workers", 0, "worker goroutines; 0 uses every core")
 	quiet := fs.Bool("quiet", false, "print nothing but errors")
+	wait := fs.Bool("wait", false, "if another run is writing into the output folder, wait for it to end instead of refusing")
 	fs.Usage = func() {
 		fmt.Fprintln(stderr, "Usage: geored demo [-out DIR]\n\nReduces the embedded demo job — an invented river-crossing control network in")
 		fmt.Fprintln(stderr, "ETRS89 / UTM zone 32N with simulated observations and three deliberate blunders —")
 		fmt.Fprintln(stderr, "into DIR and names its report. It exits with the status reduce would give the")
-		fmt.Fprintln(stderr, "job, the one its report shows: 1, since its blunders are flagged by design.\n\nFlags:")
+		fmt.Fprintln(stderr, "job, the one its report shows: 1, since its blunders are flagged by design; 130 or")
+		fmt.Fprintln(stderr, "143 when SIGINT or SIGTERM stops it (DIR is then as it was). DIR is written as one")
+		fmt.Fprintln(stderr, "set with a manifest.json, as reduce writes its output folder.\n\nFlags:")
 		fs.PrintDefaults()
 	}
 	if ok, code := parseFlags(fs, args, stderr); !ok {
@@ -52,7 +55,13 @@ func runDemo(args []string, stdout, stderr io.Writer) int {
 	if !*quiet {
 		opt.warn = stderr
 	}
-	sum, err := reduceJob(j, opt)
+	ctx, stop := stopOnSignals()
+	defer stop()
+	opt.set = setOptions(ctx, stderr, nil, *wait)
+	sum, err := reduceJob(ctx, j, opt)
+	if code, ok := stopped(stderr, "demo", j.Out, err); ok {
+		return code
+	}
 	if err != nil {
 		return fail(stderr, "demo", err)
 	}

@@ -2,7 +2,8 @@
 // grid, and compares them with the inverse between control coordinates.
 //
 // Exit status: 0 success, 1 results flagged, 2 could not run (bad
-// invocation, bad settings, unreadable input).
+// invocation, bad settings, unreadable input, a full disk, an output
+// folder in use), 130 and 143 stopped by SIGINT and SIGTERM.
 package main
 
 import (

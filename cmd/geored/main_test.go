@@ -21,7 +21,11 @@ import (
 // tests check would show a row's string kept longer.
 func TestMain(m *testing.M) {
 	job.PoisonRecycledChunks = true
-	os.Exit(m.Run())
+	code := m.Run()
+	if builtOnce.dir != "" {
+		os.RemoveAll(builtOnce.dir)
+	}
+	os.Exit(code)
 }
 
 const mm = 1e-3

@@ -14,6 +14,7 @@ import (
 	"os"
 	"path/filepath"
 	"runtime/pprof"
+	"slices"
 	"strings"
 	"sync"
 	"sync/atomic"
@@ -22,6 +23,7 @@ import (
 	"github.com/geored/geored/geodesic"
 	"github.com/geored/geored/io/jobconfig"
 	"github.com/geored/geored/io/obsfile"
+	"github.com/geored/geored/io/outset"
 	"github.com/geored/geored/io/report"
 	"github.com/geored/geored/reduce/job"
 )
@@ -78,6 +80,7 @@ func runReduce(args []string, stdout, stderr io.Writer) int {
 	jsonOut := fs.Bool("json", false, "print a one-line machine summary (JSON) on stdout")
 	cpuProfile := fs.String("cpuprofile", "", "write a CPU profile (pprof) of the run to this file")
 	memProfile := fs.String("memprofile", "", "write a heap profile (pprof) to this file when the run ends: what it allocated, and what it held at the last collection")
+	wait := fs.Bool("wait", false, "if another run is writing into the output folder, wait for it to end instead of refusing")
 	fs.Usage = func() {
 		fmt.Fprint(stderr, `Usage: geored reduce [flags] [observations.csv ...]
 
@@ -119,9 +122,22 @@ Exit status, the same in summary.json, -json and report.html:
      (|w| over the critical value, over the tolerance, a line's spread), the
      fit finds a significant constant or scale, or the global test failed
      high; the reasons go to stderr
-  2  could not run (bad flags, settings or input files), no row could be
-     reduced (an empty file, every row rejected), or -strict and a row was
-     rejected
+  2  could not run (bad flags, settings or input files, an output folder
+     in use or not geored's, a full disk), no row could be reduced (an
+     empty file, every row rejected), or -strict and a row was rejected
+  130, 143  stopped by SIGINT (Ctrl-C) or SIGTERM: the run's temporary
+     files are removed and the output folder is as it was (128 + the
+     signal's number, as a shell reports a killed process); a second
+     signal kills geored at once, and the next run removes what it left
+
+The outputs are written as one set: into a hidden folder beside the output
+folder, then swapped in whole with a manifest.json listing each file's size
+and SHA-256, so the folder holds the whole earlier set or the whole new one,
+whatever stops the run. The output folder is geored's alone: a folder that
+holds other files, or any input, is refused. A second run into the same
+folder refuses, naming the first one's PID (or waits, with -wait); a run
+removes the temporaries a killed run left, and says so on stderr even with
+-quiet.
 Flags are decided by the critical value: by default 3.29 for each
 observation (α = 0.1 %), so a large job raises some by chance (the report
 says how many to expect); job_alpha instead holds α for the whole job.
@@ -146,6 +162,11 @@ Flags:
 	if j.Out == "" {
 		j.Out = defaultOut
 	}
+	keep := []outset.Keep{{Role: "the job file", Path: jf.config}, {Role: "the CPU profile", Path: *cpuProfile}, {Role: "the heap profile", Path: *memProfile}}
+	// Before anything is written, the profiles too.
+	if err := outset.CheckInputs(j.Out, append(slices.Clone(keep), jobInputs(j)...)); err != nil {
+		return fail(stderr, "reduce", err)
+	}
 	if *cpuProfile != "" {
 		stop, err := startCPUProfile(*cpuProfile)
 		if err != nil {
@@ -160,11 +181,17 @@ Flags:
 			}
 		}()
 	}
+	ctx, stop := stopOnSignals()
+	defer stop()
 	opts := reduceOptions{strict: *strict, progress: !*quiet && isTerminal(stderr)}
 	if !*quiet {
 		opts.warn = stderr
 	}
-	sum, err := reduceJob(j, opts)
+	opts.set = setOptions(ctx, stderr, keep, *wait)
+	sum, err := reduceJob(ctx, j, opts)
+	if code, ok := stopped(stderr, "reduce", j.Out, err); ok {
+		return code
+	}
 	if err != nil {
 		return fail(stderr, "reduce", err)
 	}
@@ -212,14 +239,20 @@ func printReasons(w io.Writer, cmd string, s *report.Summary, out string) {
 type reduceOptions struct {
 	strict     bool
 	progress   bool
-	warn       io.Writer    // nil: silent
-	inputs     []job.Source // observations given as readers (the embedded demo)
-	points     io.Reader    // points given as a reader (the embedded demo) ...
-	pointsName string       // ... and its name
+	warn       io.Writer      // nil: silent
+	inputs     []job.Source   // observations given as readers (the embedded demo)
+	points     io.Reader      // points given as a reader (the embedded demo) ...
+	pointsName string         // ... and its name
+	set        outset.Options // the output set's; reduceJob adds the inputs to Keep
 }
 
+// reduceFiles are the files of reduce's output set, besides its manifest.
+var reduceFiles = []string{"reduced.csv", "lines.csv", "rejects.csv", "summary.json", "report.html"}
+
 // reduceJob runs a job into its output folder and returns the summary.
-func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
+// The outputs are one set (outset), committed at the end; a run stopped by
+// ctx or failed leaves the folder as it was.
+func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *report.Summary, err error) {
 	if !j.HasTolerance {
 		return nil, errors.New("the job has no tolerance: give [tolerance] class, or constant_mm and ppm (or -tolerance)")
 	}
@@ -232,13 +265,24 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 	if len(j.Observations) == 0 && len(opt.inputs) == 0 {
 		return nil, errors.New("no observation files: name them after the flags or in the config's observations")
 	}
+	opt.set.Keep = append(slices.Clone(opt.set.Keep), jobInputs(j)...)
+	out, err := outset.Begin(ctx, j.Out, opt.set)
+	if err != nil {
+		return nil, err
+	}
+	defer out.Abort()
+	defer func() {
+		if err != nil && !errors.As(err, new(signalStop)) && !out.Committed() {
+			err = fmt.Errorf("%w; %s is as it was before this run", err, j.Out)
+		}
+	}()
 	s, err := openJobSession(j)
 	if err != nil {
 		return nil, err
 	}
 	defer s.close()
 
-	sum := &report.Summary{Tool: "geored", Version: version(), ProjVersion: projVersion(), Caution: report.Caution}
+	sum = &report.Summary{Tool: "geored", Version: version(), ProjVersion: projVersion(), Caution: report.Caution}
 	warn := func(w obsfile.Warning) {
 		sum.Warnings = append(sum.Warnings, w.String())
 		if opt.warn != nil {
@@ -307,16 +351,11 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 		sources = append(sources, job.Source{Name: src.Name, Reader: io.TeeReader(src.Reader, h)})
 	}
 
-	if err := os.MkdirAll(j.Out, 0o755); err != nil {
-		return nil, err
-	}
-	out := newOutputs(j.Out)
-	defer out.abort()
-	reduced, err := out.create("reduced.csv")
+	reduced, err := out.Create("reduced.csv")
 	if err != nil {
 		return nil, err
 	}
-	rejects, err := out.create("rejects.csv")
+	rejects, err := out.Create("rejects.csv")
 	if err != nil {
 		return nil, err
 	}
@@ -335,9 +374,12 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 	var perSource sourceCounter
 	var rows atomic.Int64
 	stop := startProgress(opt.progress, &read, &rows, total)
-	err = job.Run(context.Background(), plan, sources, warn, func(r *job.Result) error {
+	hook := opt.set.Hook
+	err = job.Run(ctx, plan, sources, warn, func(r *job.Result) error {
 		agg.Add(r)
-		rows.Add(1)
+		if rows.Add(1) == 1 && hook != nil {
+			hook("row")
+		}
 		if r.Rejected {
 			perSource.add(r.File)
 			_, err := rejects.Write(r.Row)
@@ -364,7 +406,7 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 	agg.Finish(sum)
 	report.Decide(sum, opt.strict)
 
-	lines, err := out.create("lines.csv")
+	lines, err := out.Create("lines.csv")
 	if err != nil {
 		return nil, err
 	}
@@ -377,14 +419,14 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 		lines.StartSync()
 	})
 	defer linesWG.Wait()
-	js, err := out.create("summary.json")
+	js, err := out.Create("summary.json")
 	if err != nil {
 		return nil, err
 	}
 	if err := report.WriteJSON(js, sum); err != nil {
 		return nil, err
 	}
-	html, err := out.create("report.html")
+	html, err := out.Create("report.html")
 	if err != nil {
 		return nil, err
 	}
@@ -394,10 +436,22 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 	if linesWG.Wait(); linesErr != nil {
 		return nil, linesErr
 	}
-	if err := out.commit(); err != nil {
+	if err := out.Commit(outset.Identity{Tool: "geored", Command: "reduce", InputHash: sum.InputHash}); err != nil {
 		return nil, err
 	}
 	return sum, nil
+}
+
+// jobInputs are the job's input files, which its outputs must not touch.
+func jobInputs(j *jobconfig.Job) []outset.Keep {
+	keep := []outset.Keep{{Role: "the points file", Path: j.Points}}
+	for _, o := range j.Observations {
+		keep = append(keep, outset.Keep{Role: "the observations file", Path: o})
+	}
+	if j.Geoid != "" && j.Geoid != "none" && strings.ContainsRune(j.Geoid, filepath.Separator) {
+		keep = append(keep, outset.Keep{Role: "the geoid grid", Path: j.Geoid})
+	}
+	return keep
 }
 
 // countObservationRows counts the data rows of the observation files and
@@ -476,38 +530,6 @@ func inputHash(s *report.Summary) string {
 	b, _ := json.Marshal(s.Settings)
 	h.Write(b)
 	return hex.EncodeToString(h.Sum(nil))
-}
-
-// outputs are the run's files, committed together at the end.
-type outputs struct {
-	dir   string
-	files []*report.AtomicFile
-}
-
-func newOutputs(dir string) *outputs { return &outputs{dir: dir} }
-
-func (o *outputs) create(name string) (*report.AtomicFile, error) {
-	f, err := report.CreateAtomic(filepath.Join(o.dir, name))
-	if err != nil {
-		return nil, err
-	}
-	o.files = append(o.files, f)
-	return f, nil
-}
-
-func (o *outputs) commit() error {
-	for _, f := range o.files {
-		if err := f.Commit(); err != nil {
-			return err
-		}
-	}
-	return nil
-}
-
-func (o *outputs) abort() {
-	for _, f := range o.files {
-		f.Abort()
-	}
 }
 
 // sourceCounter counts rows by file name; rows come in runs from one

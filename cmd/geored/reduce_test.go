@@ -7,6 +7,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
@@ -17,7 +18,8 @@ import (
 	"github.com/geored/geored/io/report"
 )
 
-var outputFiles = []string{"reduced.csv", "lines.csv", "rejects.csv", "summary.json", "report.html"}
+// outputFiles are the demo's outputs, golden files all: the set and its manifest.
+var outputFiles = append(slices.Clone(reduceFiles), "manifest.json")
 
 func runDemoInto(t *testing.T, dir string, workers string) {
 	t.Helper()

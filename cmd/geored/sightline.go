@@ -26,6 +26,7 @@ import (
 
 	"github.com/geored/geored/io/jobconfig"
 	"github.com/geored/geored/io/obsfile"
+	"github.com/geored/geored/io/outset"
 	"github.com/geored/geored/io/units"
 	"github.com/geored/geored/reduce"
 	"github.com/geored/geored/reduce/job"
@@ -45,6 +46,7 @@ type sightlineFlags struct {
 	hi, ht, distance, eye, target, radius float64
 	minClearance                          float64
 	csv                                   bool
+	pointsFile                            string // the job's, once resolved
 }
 
 func runSightline(args []string, stdout, stderr io.Writer) int {
@@ -128,7 +130,8 @@ Flags:
 		return fail(stderr, "sightline", err)
 	}
 	if f.plot != "" {
-		if err := writeSightlinePlot(f.plot, title, verdict, chk, unit); err != nil {
+		keep := []outset.Keep{{Role: "the job file", Path: jf.config}, {Role: "the points file", Path: f.pointsFile}, {Role: "the profile file", Path: f.profile}}
+		if err := writeSightlinePlot(f.plot, title, verdict, chk, unit, keep, stderr); err != nil {
 			return fail(stderr, "sightline", err)
 		}
 	}
@@ -246,6 +249,7 @@ func (f *sightlineFlags) sightline(fs *flag.FlagSet, jf *jobFlags, stderr io.Wri
 	if err != nil {
 		return reduce.Sightline{}, 0, "", err
 	}
+	f.pointsFile = j.Points
 	w, err := openJobWorld(j, stderr)
 	if err != nil {
 		return reduce.Sightline{}, 0, "", err
@@ -722,8 +726,9 @@ func roundExaggeration(f float64) string {
 
 // writeSightlinePlot writes the plot as SVG, or as an HTML page holding
 // the verdict, the SVG, the numbers and the caution, by the file's
-// extension.
-func writeSightlinePlot(path, title, verdict string, c reduce.SightlineCheck, u units.LengthUnit) error {
+// extension. The file is written whole or not at all (outset.WriteFile),
+// and never over one of the files to keep (the inputs); notes go to log.
+func writeSightlinePlot(path, title, verdict string, c reduce.SightlineCheck, u units.LengthUnit, keep []outset.Keep, log io.Writer) error {
 	svg, ex, err := sightlinePlot(title, verdict, c, u)
 	if err != nil {
 		return err
@@ -756,20 +761,7 @@ func writeSightlinePlot(path, title, verdict string, c reduce.SightlineCheck, u 
 	default:
 		return fmt.Errorf("-plot %q: want a file ending in .svg or .html", path)
 	}
-	tmp, err := os.CreateTemp(filepath.Dir(path), ".sightline-*")
-	if err != nil {
-		return err
-	}
-	if _, err := tmp.Write(out); err != nil {
-		tmp.Close()
-		os.Remove(tmp.Name())
-		return err
-	}
-	if err := tmp.Close(); err != nil {
-		os.Remove(tmp.Name())
-		return err
-	}
-	return os.Rename(tmp.Name(), path)
+	return outset.WriteFile(path, out, keep, log)
 }
 
 // svgBody drops the XML declaration of an SVG document so that it can
