@@ -7,6 +7,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -200,6 +201,25 @@ func TestReduceInStatePlaneFeet(t *testing.T) {
 			require.NoError(t, err)
 			grid := num(t, r[rc["grid_distance_"+suffix]]) * float64(lu)
 			assert.InDeltaf(t, g.planeDistance(a, b), grid, 0.1*mm, "%s %s: reduced grid distance against hypot(ΔE, ΔN), metres", name, line)
+		}
+
+		// report.html gives the lines' distances in the job's unit, as
+		// lines.csv does.
+		page, err := os.ReadFile(filepath.Join(outDir, "report.html"))
+		require.NoError(t, err)
+		label := map[string]string{"us-ft": "US ft", "intl-ft": "intl ft", "m": "m"}[g.lengthUnit]
+		assert.Contains(t, string(page), "<th>geodesic "+label+"</th><th>grid "+label+"</th>", name)
+		lines := readCSV(t, filepath.Join(outDir, "lines.csv"))
+		lc := columns(lines[0])
+		for _, l := range lines[1:] {
+			// lines.csv has 5 decimals and the page 4: the page's is
+			// the CSV's rounded, or one off where the 5th was a 5.
+			geodesic := num(t, l[lc["control_geodesic_"+suffix]])
+			found := false
+			for _, d := range []float64{0, -0.00005, 0.00005} {
+				found = found || strings.Contains(string(page), `<td class="num">`+strconv.FormatFloat(geodesic+d, 'f', 4, 64)+`</td>`)
+			}
+			assert.True(t, found, "%s %s → %s: geodesic %s %s in report.html", name, l[lc["from"]], l[lc["to"]], l[lc["control_geodesic_"+suffix]], label)
 		}
 
 		code, out, stderr = runCmd(t, "inverse", "-crs", g.crs, "-points", filepath.Join(dir, "pts.csv"), "-length-unit", g.lengthUnit, "-geoid", "none", "-csv")

@@ -30,8 +30,12 @@ type Aggregator struct {
 	// globalAlpha is the α of the global test of the variance factor.
 	globalAlpha float64
 
-	counts    Counts
-	ell, grid statsAcc
+	counts Counts
+	// res are the residuals' statistics and histograms, [0] of the
+	// unflagged observations and [1] of the flagged ones.
+	res [2]residualAcc
+	// worst are the worst flagged observations (MaxFlaggedObservations).
+	worst worstObservations
 	// The global test's sums: Σw² of every reduced observation and of the
 	// unflagged ones, with their counts, and the outliers (|w| over the
 	// critical value).
@@ -116,6 +120,13 @@ type lineAcc struct {
 	zenith, slope [2]float64
 }
 
+// residualAcc gathers the statistics of one set of observations'
+// ellipsoid and grid residuals.
+type residualAcc struct {
+	ell, grid         statsAcc
+	ellHist, gridHist residualHistogram
+}
+
 // statsAcc accumulates residual statistics.
 type statsAcc struct {
 	n            int
@@ -141,7 +152,27 @@ func (s *statsAcc) add(mm, ppm, w float64) {
 	s.maxAbsW = math.Max(s.maxAbsW, math.Abs(w))
 }
 
-func (s *statsAcc) stats() Stats {
+// merged is the statistics of both s and o: Welford's sums joined as
+// Chan, Golub & LeVeque (1979, "Updating formulae and a pairwise
+// algorithm for computing sample variances") do, δ = mean_o − mean_s,
+// m2 = m2_s + m2_o + δ² n_s n_o / n.
+func (s *statsAcc) merged(o *statsAcc) statsAcc {
+	if o.n == 0 {
+		return *s
+	}
+	if s.n == 0 {
+		return *o
+	}
+	n := s.n + o.n
+	d := o.mean - s.mean
+	return statsAcc{n: n, mean: s.mean + d*float64(o.n)/float64(n),
+		m2: s.m2 + o.m2 + d*d*float64(s.n)*float64(o.n)/float64(n), sq: s.sq + o.sq,
+		min: math.Min(s.min, o.min), max: math.Max(s.max, o.max), sumPPM: s.sumPPM + o.sumPPM, maxAbsW: math.Max(s.maxAbsW, o.maxAbsW)}
+}
+
+// stats are the statistics of s, with the median and robust σ read from
+// the histogram h of the same residuals.
+func (s *statsAcc) stats(h *residualHistogram) Stats {
 	if s.n == 0 {
 		return Stats{}
 	}
@@ -150,7 +181,19 @@ func (s *statsAcc) stats() Stats {
 	if s.n > 1 {
 		st.StdDevMM = math.Sqrt(s.m2 / float64(s.n-1))
 	}
+	median, mad := h.medianMAD()
+	st.MedianMM, st.RobustSigmaMM = median, madToSigma*mad
 	return st
+}
+
+// residualStats are the statistics of every reduced observation and of
+// the unflagged ones.
+func (a *Aggregator) residualStats() ResidualStats {
+	u, f := &a.res[0], &a.res[1]
+	ell, grid := u.ell.merged(&f.ell), u.grid.merged(&f.grid)
+	ellHist, gridHist := u.ellHist.merged(&f.ellHist), u.gridHist.merged(&f.gridHist)
+	return ResidualStats{Ellipsoid: ell.stats(&ellHist), Grid: grid.stats(&gridHist),
+		EllipsoidUnflagged: u.ell.stats(&u.ellHist), GridUnflagged: u.grid.stats(&u.gridHist)}
 }
 
 // Add takes one result, in input order.
@@ -159,7 +202,7 @@ func (a *Aggregator) Add(r *job.Result) {
 	if r.Rejected {
 		a.counts.Rejected++
 		if len(a.firstRejects) < MaxFirstRejects {
-			a.firstRejects = append(a.firstRejects, Reject{File: r.File, Line: r.LineNo, Reason: strings.Clone(r.Reason)})
+			a.firstRejects = append(a.firstRejects, Reject{File: r.File, Line: r.LineNo, Row: strings.Clone(r.Raw), Reason: strings.Clone(r.Reason)})
 		}
 		return
 	}
@@ -172,14 +215,30 @@ func (a *Aggregator) Add(r *job.Result) {
 		a.outliers++
 	}
 	flagged := a.obsFlagged(red)
+	acc := &a.res[0]
 	if flagged {
 		a.counts.Flagged++
+		acc = &a.res[1]
+		var tests int
+		if e.Outlier {
+			tests |= 1
+		}
+		if a.hasTol && e.OutOfTolerance {
+			tests |= 2
+		}
+		if red.HeightCheck.Flagged {
+			tests |= 4
+		}
+		a.worst.offer(r, int64(a.counts.Read), observationFlags[tests], a.control)
 	} else {
 		a.unflaggedW2 += w2
 		a.unflaggedN++
 	}
-	a.ell.add(e.Residual*1e3, e.PPM, e.Standardized)
-	a.grid.add(red.GridResidual.Residual*1e3, red.GridResidual.PPM, red.GridResidual.Standardized)
+	mm, gridMM := e.Residual*1e3, red.GridResidual.Residual*1e3
+	acc.ell.add(mm, e.PPM, e.Standardized)
+	acc.grid.add(gridMM, red.GridResidual.PPM, red.GridResidual.Standardized)
+	acc.ellHist.add(mm)
+	acc.gridHist.add(gridMM)
 
 	from, to := r.Points[0], r.Points[1]
 	l := a.lines.get(r.LineID)
@@ -357,10 +416,13 @@ func (a *Aggregator) Finish(s *Summary) {
 		s.Testing.Global = g
 	}
 	s.Counts.Lines = len(a.order)
-	s.Residuals = ResidualStats{Ellipsoid: a.ell.stats(), Grid: a.grid.stats()}
+	var stats sync.WaitGroup
+	stats.Go(func() { s.Residuals = a.residualStats() })
+	defer stats.Wait()
+	var flaggedAt map[int32][]string // the listed flagged observations' places, by line
+	s.FlaggedObservations, flaggedAt = a.flaggedObservations()
+	s.FlaggedObservationsNotListed = a.counts.Flagged - len(s.FlaggedObservations)
 	n := len(a.order)
-	ell := make([]float64, n)
-	grid := make([]float64, n)
 	a.flagged = make([]uint64, (n+63)/64)
 	// Ranges of whole words of the flagged bitset, one per part.
 	parts := min(runtime.GOMAXPROCS(0), (n+finishGrain-1)/finishGrain)
@@ -379,7 +441,6 @@ func (a *Aggregator) Finish(s *Summary) {
 			for i := lo; i < hi; i++ {
 				rec, id := a.at(i)
 				l := a.line(id, rec, &limits)
-				ell[i], grid[i] = l.ResidualMM, l.gridResidualMM
 				pt, obs, ok := fitPointOf(&l)
 				if ok {
 					fit[k] = pt
@@ -411,7 +472,9 @@ func (a *Aggregator) Finish(s *Summary) {
 	limits := spreadLimits{critical: a.critical}
 	for _, f := range worst {
 		rec, id := a.at(f.i)
-		s.Lines = append(s.Lines, a.line(id, rec, &limits))
+		l := a.line(id, rec, &limits)
+		l.FlaggedAt = flaggedAt[id]
+		s.Lines = append(s.Lines, l)
 	}
 	if n <= MaxListedLines {
 		for i := range n {
@@ -422,15 +485,23 @@ func (a *Aggregator) Finish(s *Summary) {
 		}
 	}
 	s.LinesNotListed = n - len(s.Lines)
-	wg.Go(func() { s.Residuals.Ellipsoid.MedianMM = median(ell) })
-	s.Residuals.Grid.MedianMM = median(grid)
 	if s.Fit = fitLine(fit, a.critical); s.Fit != nil {
 		s.Fit.LinesLeftOut = n - len(fit)
 		for _, k := range leftOutObs {
 			s.Fit.ObservationsLeftOut += k
 		}
 	}
-	wg.Wait()
+}
+
+// flaggedObservations are the worst flagged observations, worst first,
+// and the places (file:line) of those of each line, worst first.
+func (a *Aggregator) flaggedObservations() ([]FlaggedObservation, map[int32][]string) {
+	obs, ids := a.worst.sorted()
+	at := map[int32][]string{}
+	for i := range obs {
+		at[ids[i]] = append(at[ids[i]], obs[i].Where())
+	}
+	return obs, at
 }
 
 // finishGrain is the fewest lines worth a goroutine of Finish.
@@ -482,19 +553,6 @@ func (a *Aggregator) EachLine(write func(*Line) error) error {
 		}
 	}
 	return nil
-}
-
-// median is the median of v; it sorts v.
-func median(v []float64) float64 {
-	if len(v) == 0 {
-		return 0
-	}
-	sort.Float64s(v)
-	n := len(v)
-	if n%2 == 1 {
-		return v[n/2]
-	}
-	return (v[n/2-1] + v[n/2]) / 2
 }
 
 // WriteLines writes lines.csv: its header, then EachLine's rows. After

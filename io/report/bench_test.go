@@ -1,6 +1,7 @@
 package report
 
 import (
+	"math"
 	"testing"
 
 	"github.com/geored/geored/io/obsfile"
@@ -66,5 +67,37 @@ func BenchmarkFitResiduals(b *testing.B) {
 	}
 	if f == nil || f.LinesRejected < len(lines)/100 { // the blunders and about 0.1 % of the others
 		b.Fatalf("fit %+v", f)
+	}
+}
+
+// BenchmarkResidualHistogram is the robust statistics' part of the
+// per-row path: one residual of a few mm counted in the histogram.
+func BenchmarkResidualHistogram(b *testing.B) {
+	var h residualHistogram
+	var res [4096]float64 // residuals spread over ±4.5 mm, made before the timing
+	for i := range res {
+		res[i] = math.Mod(float64(i)*1.618, 9) - 4.5
+	}
+	i := 0
+	for b.Loop() {
+		h.add(res[i&(len(res)-1)])
+		i++
+	}
+}
+
+// BenchmarkHistogramMedianMAD is the median and MAD read once per set of
+// residuals after the run, over its 51,200 bins.
+func BenchmarkHistogramMedianMAD(b *testing.B) {
+	var h residualHistogram
+	for i := range 100000 {
+		h.add(float64(i%997)*0.01 - 5)
+	}
+	h.add(258980)
+	var med float64
+	for b.Loop() {
+		med, _ = h.medianMAD()
+	}
+	if math.Abs(med) > 5 {
+		b.Fatalf("median %g mm", med)
 	}
 }

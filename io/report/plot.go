@@ -58,7 +58,7 @@ var (
 const plotOffScale = 5
 
 // residualPoints are lines of the plot: the residual of each line's mean
-// (mm) at its geodesic distance (m), the half-length of its error bar (mm),
+// (mm) at its geodesic distance (in the job's length unit), the half-length of its error bar (mm),
 // and, for flagged lines, a label.
 type residualPoints struct {
 	plotter.XYs
@@ -93,9 +93,11 @@ type plotLayout struct {
 	// Limit is the largest |residual| drawn to scale, mm; +Inf when every
 	// line is.
 	Limit float64
-	// The axes' ranges, m and mm. Between DataMax and YMax is room for
+	// The axes' ranges, the job's length unit and mm. Between DataMax and YMax is room for
 	// the legend, where arrows for lines off the scale above are drawn.
 	XMin, XMax, YMin, YMax, DataMin, DataMax float64
+	// Unit is the distance axis's unit: the job's length unit.
+	Unit reportLength
 }
 
 // layoutPlot sorts the summary's lines into the plot's sets and chooses
@@ -105,7 +107,8 @@ type plotLayout struct {
 // and room above for the legend. A range that would be empty is widened
 // to 1 mm.
 func layoutPlot(s *Summary) plotLayout {
-	var lay plotLayout
+	lay := plotLayout{Unit: lengthOf(s)}
+	lu := float64(lay.Unit.unit)
 	var flagged residualPoints
 	labelled := worstFlagged(s.Lines, plotMaxLabels)
 	for i, l := range s.Lines {
@@ -113,7 +116,7 @@ func layoutPlot(s *Summary) plotLayout {
 			lay.Skipped++
 			continue
 		}
-		pt := plotter.XY{X: l.Geodesic, Y: l.ResidualMM}
+		pt := plotter.XY{X: l.Geodesic / lu, Y: l.ResidualMM}
 		if l.Flagged() {
 			label := ""
 			if labelled[i] {
@@ -125,7 +128,7 @@ func layoutPlot(s *Summary) plotLayout {
 		} else {
 			lay.OK.add(pt, plotBars*l.SigmaMM, "")
 		}
-		lay.XMax = math.Max(lay.XMax, l.Geodesic)
+		lay.XMax = math.Max(lay.XMax, pt.X)
 	}
 	if lay.XMax <= 0 {
 		lay.XMax = 1
@@ -136,7 +139,7 @@ func layoutPlot(s *Summary) plotLayout {
 	// their bars, set the scale that flagged lines are measured against.
 	var fitEnds []float64
 	if f := s.Fit; f != nil && finite(f.ConstantMM) && finite(f.ScalePPM) {
-		fitEnds = []float64{f.ConstantMM + f.ScalePPM*lay.XMin/1000, f.ConstantMM + f.ScalePPM*lay.XMax/1000}
+		fitEnds = []float64{f.ConstantMM + f.ScalePPM*lay.XMin*lu/1000, f.ConstantMM + f.ScalePPM*lay.XMax*lu/1000}
 	}
 	lay.Limit = math.Inf(1)
 	if lay.OK.Len() > 0 {
@@ -202,7 +205,7 @@ func residualPlot(s *Summary) ([]byte, error) {
 	} {
 		*ts.font = font.From(plotSansFont, ts.size)
 	}
-	p.X.Label.Text = "geodesic distance from control (m)"
+	p.X.Label.Text = "geodesic distance from control (" + lay.Unit.label + ")"
 	p.Y.Label.Text = "residual of the mean, reduced − control (mm)"
 	p.X.Tick.Marker = plot.TickerFunc(fixedTicks)
 	p.Y.Tick.Marker = plot.TickerFunc(fixedTicks)
@@ -217,8 +220,9 @@ func residualPlot(s *Summary) ([]byte, error) {
 	p.Add(zero)
 
 	if s.Fit != nil && finite(s.Fit.ConstantMM) && finite(s.Fit.ScalePPM) {
-		c, k := s.Fit.ConstantMM, s.Fit.ScalePPM
-		fit := plotter.NewFunction(func(d float64) float64 { return c + k*d/1000 })
+		c, k, lu := s.Fit.ConstantMM, s.Fit.ScalePPM, float64(lay.Unit.unit)
+		// d in the job's unit, lu metres to it: k ppm of d·lu metres is k·d·lu/1000 mm.
+		fit := plotter.NewFunction(func(d float64) float64 { return c + k*d*lu/1000 })
 		fit.Samples = 2
 		fit.Color = plotFitColor
 		fit.Width = vg.Points(1.5)
