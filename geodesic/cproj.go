@@ -29,6 +29,8 @@ typedef struct {
 	char   unit_auth[32];   // authority of the axis unit's code, e.g. "EPSG"; "" if none
 	char   unit_code[32];   // e.g. "9003"
 	char   proj_string[2048];
+	int    has_area;        // the area of use is known
+	double west, south, east, north; // its bounding box, degrees
 	char   err[512];
 } geored_crs_info;
 
@@ -66,6 +68,9 @@ static int geored_inspect(const char *def, geored_crs_info *out) {
 	}
 	out->horiz_type = proj_get_type(horiz);
 	if (out->horiz_type != PJ_TYPE_PROJECTED_CRS) { rc = 0; goto done; }
+	// proj.db's area of use; a CRS from a PROJ string has none (-1000).
+	out->has_area = proj_get_area_of_use(ctx, crs, &out->west, &out->south, &out->east, &out->north, NULL) &&
+		out->west > -1000 && out->south > -1000 && out->east > -1000 && out->north > -1000;
 
 	ell = proj_get_ellipsoid(ctx, horiz);
 	if (ell == NULL) { geored_err(ctx, out, "no ellipsoid"); goto done; }
@@ -213,6 +218,7 @@ type crsInfo struct {
 	unitCode               string // "EPSG:9003"; "" when PROJ gives the unit no code
 	metresPerUnit          float64
 	projString             string // PROJ-5 string of the horizontal CRS, "" if it has none
+	area                   Area   // proj.db's area of use, if any
 }
 
 // crsKind is PROJ's PJ_TYPE, reduced to the cases a job needs to tell apart.
@@ -273,6 +279,9 @@ func inspectCRS(def string) (crsInfo, error) {
 	}
 	if auth, code := C.GoString(&out.unit_auth[0]), C.GoString(&out.unit_code[0]); auth != "" && code != "" {
 		info.unitCode = auth + ":" + code
+	}
+	if out.has_area != 0 {
+		info.area = Area{West: float64(out.west), South: float64(out.south), East: float64(out.east), North: float64(out.north), Known: true}
 	}
 	if out.has_proj_string != 0 {
 		info.projString = C.GoString(&out.proj_string[0])

@@ -20,6 +20,16 @@ type CRS struct {
 	metresPerUnit float64
 	projection    string
 	conformal     bool
+	area          Area
+}
+
+// Area is a CRS's area of use as proj.db gives it: a bounding box in
+// degrees of longitude (West, East; East < West where it crosses the
+// antimeridian) and latitude (South, North). Known is false for a CRS
+// that has none, such as one given as a PROJ string.
+type Area struct {
+	West, South, East, North float64
+	Known                    bool
 }
 
 // OpenCRS opens a projected CRS from "AUTHORITY:CODE" (e.g. "EPSG:32633"),
@@ -73,6 +83,7 @@ func OpenCRS(definition string) (*CRS, error) {
 		metresPerUnit: info.metresPerUnit,
 		projection:    projectionInMetres(info.projString, ell),
 		conformal:     conformalMethods[projName(info.projString)],
+		area:          info.area,
 	}, nil
 }
 
@@ -173,3 +184,7 @@ func (c *CRS) Projection() string { return c.projection }
 
 // String is the CRS's definition and name.
 func (c *CRS) String() string { return fmt.Sprintf("%s (%s)", c.definition, c.name) }
+
+// AreaOfUse is the CRS's area of use from proj.db (Known false if it has
+// none).
+func (c *CRS) AreaOfUse() Area { return c.area }

@@ -175,10 +175,12 @@ func TestReduceInStatePlaneFeet(t *testing.T) {
 		require.NoError(t, err)
 		require.Len(t, recs, 7, name)
 		col := columns(recs[0])
+		// predict -csv spells its units as reduced.csv does
+		suffix := map[string]string{"us-ft": "usft", "intl-ft": "ift", "m": "m"}[g.lengthUnit]
 		var obs strings.Builder
 		obs.WriteString("from,to,slope_distance,zenith_angle,instrument_height,target_height\n")
 		for _, r := range recs[1:] {
-			obs.WriteString(strings.Join([]string{r[col["from"]], r[col["to"]], r[col["slope_distance_"+g.lengthUnit]], r[col["zenith_angle_deg"]], "5.25", "6.5"}, ",") + "\n")
+			obs.WriteString(strings.Join([]string{r[col["from"]], r[col["to"]], r[col["slope_distance_"+suffix]], r[col["zenith_angle_deg"]], "5.25", "6.5"}, ",") + "\n")
 		}
 		obsFile := filepath.Join(dir, "obs.csv")
 		require.NoError(t, os.WriteFile(obsFile, []byte(obs.String()), 0o644))
@@ -190,7 +192,6 @@ func TestReduceInStatePlaneFeet(t *testing.T) {
 		reduced := readCSV(t, filepath.Join(outDir, "reduced.csv"))
 		require.Len(t, reduced, 7, "%s: every sight reduced", name)
 		rc := columns(reduced[0])
-		suffix := map[string]string{"us-ft": "usft", "intl-ft": "ift", "m": "m"}[g.lengthUnit]
 		for _, r := range reduced[1:] {
 			line := r[rc["from"]] + " → " + r[rc["to"]]
 			for _, c := range []string{"residual_mm", "grid_residual_mm"} {
@@ -232,7 +233,7 @@ func TestReduceInStatePlaneFeet(t *testing.T) {
 			var a, b int
 			_, err := fmt.Sscanf(r[ic["from"]]+" "+r[ic["to"]], "M%d M%d", &a, &b)
 			require.NoError(t, err)
-			grid := num(t, r[ic["grid_distance_"+g.lengthUnit]]) * float64(lu)
+			grid := num(t, r[ic["grid_distance_"+suffix]]) * float64(lu)
 			assert.InDeltaf(t, g.planeDistance(a, b), grid, 0.01*mm, "%s inverse M%d → M%d: grid distance against hypot(ΔE, ΔN), metres", name, a, b)
 		}
 

@@ -22,20 +22,23 @@ import (
 )
 
 type inverseFlags struct {
-	crs, points, from, to, lines, geoid, unit, a, b string
-	csv                                             bool
+	job                   jobFlags
+	points                string // the job's points file, as resolved
+	from, to, lines, a, b string
+	csv                   bool
 }
 
+// inverseJobFlags are the job flags inverse uses: the CRS, the points,
+// the geoid and the units.
+var inverseJobFlags = []string{"config", "crs", "points", "length-unit", "angle-unit", "geoid", "geoid-separation-m"}
+
 func (f *inverseFlags) register(fs *flag.FlagSet) {
-	fs.StringVar(&f.crs, "crs", "", "projected CRS of the job: EPSG:nnnn or a PROJ string (required)")
-	fs.StringVar(&f.points, "points", "", "points CSV: id and lat,lon[,ellipsoid_height] or easting,northing[,elevation] (CRS unit)")
+	f.job.registerOnly(fs, inverseJobFlags...)
 	fs.StringVar(&f.from, "from", "", "id of the first point (with -to)")
 	fs.StringVar(&f.to, "to", "", "id of the second point (with -from)")
 	fs.StringVar(&f.lines, "lines", "", "CSV of from,to point ids; default: every pair of the points file")
 	fs.StringVar(&f.a, "a", "", "first point as 'lat,lon' in decimal degrees (instead of -points)")
 	fs.StringVar(&f.b, "b", "", "second point as 'lat,lon' in decimal degrees (instead of -points)")
-	fs.StringVar(&f.geoid, "geoid", "", "geoid grid for N where a point gives elevation: a PROJ grid name or file (default "+"egm96_15.gtx"+"), or 'none'")
-	fs.StringVar(&f.unit, "length-unit", "m", "unit of heights in the points file and of printed lengths: m, us-ft (US survey foot, 1200/3937 m) or intl-ft (international foot, 0.3048 m)")
 	fs.BoolVar(&f.csv, "csv", false, "print CSV with full precision instead of a table")
 }
 
@@ -44,22 +47,27 @@ func runInverse(args []string, stdout, stderr io.Writer) int {
 	var f inverseFlags
 	f.register(fs)
 	fs.Usage = func() {
-		fmt.Fprintln(stderr, "Usage: geored inverse -crs CRS (-points FILE [-from ID -to ID | -lines FILE] | -a LAT,LON -b LAT,LON) [flags]")
+		fmt.Fprintln(stderr, "Usage: geored inverse (-config job.toml | -crs CRS) (-points FILE [-from ID -to ID | -lines FILE] | -a LAT,LON -b LAT,LON) [flags]")
 		fmt.Fprintln(stderr, "\nGeodesic distance and azimuths on the CRS's ellipsoid, grid distance and bearing,")
-		fmt.Fprintln(stderr, "point and line scale factors (Simpson's rule) and meridian convergence.\n\nFlags:")
+		fmt.Fprintln(stderr, "point and line scale factors (Simpson's rule) and meridian convergence. With -config,")
+		fmt.Fprintln(stderr, "the job's crs, points, geoid, length_unit and angle_unit are used (flags win over")
+		fmt.Fprintln(stderr, "them); lengths are printed in the length unit and angles in the angle unit (a")
+		fmt.Fprintln(stderr, "table shows dms as d°m′s″).\n\nFlags:")
 		fs.PrintDefaults()
+		fmt.Fprintln(stderr, "\n"+cautionText)
 	}
 	if ok, code := parseFlags(fs, args, stderr); !ok {
 		return code
 	}
-	if f.crs == "" {
-		return fail(stderr, "inverse", errors.New("-crs is required"))
+	if f.job.config == "" && f.job.crs == "" {
+		return fail(stderr, "inverse", errors.New("-crs is required (or -config with a job file that gives crs)"))
 	}
-	unit, err := units.ParseLengthUnit(f.unit)
+	j, err := f.job.resolve(fs)
 	if err != nil {
 		return fail(stderr, "inverse", err)
 	}
-	s, err := openSession(f.crs, f.geoid, unit)
+	f.points = j.Points
+	s, err := openJobSession(j)
 	if err != nil {
 		return fail(stderr, "inverse", err)
 	}
@@ -77,9 +85,9 @@ func runInverse(args []string, stdout, stderr io.Writer) int {
 		lines = append(lines, l)
 	}
 	if f.csv {
-		err = writeInverseCSV(stdout, lines, unit)
+		err = writeInverseCSV(stdout, lines, j.LengthUnit, j.AngleUnit)
 	} else {
-		err = writeInverseTable(stdout, s, lines, unit)
+		err = writeInverseTable(stdout, s, lines, j.LengthUnit, j.AngleUnit)
 	}
 	if err != nil {
 		return fail(stderr, "inverse", err)
@@ -208,10 +216,11 @@ func groundFactors(l job.InverseLine) (reduce.GridResult, bool) {
 	return g, err == nil
 }
 
-func writeInverseTable(w io.Writer, s *session, lines []job.InverseLine, unit units.LengthUnit) error {
+func writeInverseTable(w io.Writer, s *session, lines []job.InverseLine, unit units.LengthUnit, au units.AngleUnit) error {
 	u := unit.String()
+	ang := func(a s1.Angle) string { return angleText(a, au, false) }
 	fmt.Fprintf(w, "CRS %s — datum %s, ellipsoid %s\n", s.crs, s.crs.Datum(), s.crs.Ellipsoid())
-	fmt.Fprintf(w, "lengths in %s; azimuths and bearings clockwise from north, d°m′s″\n\n", u)
+	fmt.Fprintf(w, "lengths in %s, angles in %s; azimuths and bearings clockwise from north\n\n", u, au)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
 	fmt.Fprintf(tw, "from\tto\tgeodesic\tazimuth\tgrid\tgrid bearing\tk line\tk from\tk to\tconvergence from\tcombined factor\tground\t\n")
 	for _, l := range lines {
@@ -223,8 +232,8 @@ func writeInverseTable(w io.Writer, s *session, lines []job.InverseLine, unit un
 			combined, ground = fmt.Sprintf("%.9f", g.CombinedFactor), fmt.Sprintf("%.4f", gd)
 		}
 		fmt.Fprintf(tw, "%s\t%s\t%.4f\t%s\t%.4f\t%s\t%.9f\t%.9f\t%.9f\t%s\t%s\t%s\t\n",
-			l.From.ID, l.To.ID, geo, dms(azimuth(l), 2), grid, dms(l.GridBearing, 2),
-			l.LineScale, l.Line.Scale.A, l.Line.Scale.B, dms(l.ConvergenceA, 2), combined, ground)
+			l.From.ID, l.To.ID, geo, ang(azimuth(l)), grid, ang(l.GridBearing),
+			l.LineScale, l.Line.Scale.A, l.Line.Scale.B, ang(l.ConvergenceA), combined, ground)
 	}
 	if err := tw.Flush(); err != nil {
 		return err
@@ -238,13 +247,14 @@ func writeInverseTable(w io.Writer, s *session, lines []job.InverseLine, unit un
 // azimuth is the geodesic's forward azimuth at A in [0, 2π).
 func azimuth(l job.InverseLine) s1.Angle { return geodesic.NormalizeAzimuth(l.Geodesic.Azimuth1) }
 
-func writeInverseCSV(w io.Writer, lines []job.InverseLine, unit units.LengthUnit) error {
+func writeInverseCSV(w io.Writer, lines []job.InverseLine, unit units.LengthUnit, au units.AngleUnit) error {
 	cw := csv.NewWriter(w)
-	u := unit.String()
-	cw.Write([]string{"from", "to", "geodesic_" + u, "azimuth_deg", "back_azimuth_deg", "grid_distance_" + u, "scaled_geodesic_" + u,
-		"grid_bearing_deg", "back_grid_bearing_deg", "k_from", "k_mid", "k_to", "k_line", "convergence_from_deg", "convergence_to_deg",
+	u, a := unit.ColumnSuffix(), au.ColumnSuffix()
+	cw.Write([]string{"from", "to", "geodesic_" + u, "azimuth_" + a, "back_azimuth_" + a, "grid_distance_" + u, "scaled_geodesic_" + u,
+		"grid_bearing_" + a, "back_grid_bearing_" + a, "k_from", "k_mid", "k_to", "k_line", "convergence_from_" + a, "convergence_to_" + a,
 		"elevation_factor", "combined_factor", "ground_distance_" + u})
 	g := func(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
+	ang := func(x s1.Angle) string { return angleText(x, au, true) }
 	for _, l := range lines {
 		geo, _ := unit.FromMetres(l.Geodesic.Distance)
 		grid, _ := unit.FromMetres(l.GridDistance)
@@ -254,9 +264,9 @@ func writeInverseCSV(w io.Writer, lines []job.InverseLine, unit units.LengthUnit
 			gd, _ := unit.FromMetres(gr.GroundDistance)
 			elev, comb, ground = g(gr.ElevationFactor), g(gr.CombinedFactor), g(gd)
 		}
-		cw.Write([]string{l.From.ID, l.To.ID, g(geo), g(azimuth(l).Degrees()), g(l.Geodesic.BackAzimuth().Degrees()), g(grid), g(scaled),
-			g(l.GridBearing.Degrees()), g(l.BackGridBearing().Degrees()), g(l.Line.Scale.A), g(l.Line.Scale.Mid), g(l.Line.Scale.B), g(l.LineScale),
-			g(l.ConvergenceA.Degrees()), g(l.ConvergenceB.Degrees()), elev, comb, ground})
+		cw.Write([]string{l.From.ID, l.To.ID, g(geo), ang(azimuth(l)), ang(l.Geodesic.BackAzimuth()), g(grid), g(scaled),
+			ang(l.GridBearing), ang(l.BackGridBearing()), g(l.Line.Scale.A), g(l.Line.Scale.Mid), g(l.Line.Scale.B), g(l.LineScale),
+			ang(l.ConvergenceA), ang(l.ConvergenceB), elev, comb, ground})
 	}
 	cw.Flush()
 	return cw.Error()

@@ -185,6 +185,13 @@ func (f *jobFlags) applyProfile(jf *jobconfig.File) error {
 // takes the paths it names (points, out, observations) relative to it,
 // and validates the job.
 func (f *jobFlags) resolve(fs *flag.FlagSet) (*jobconfig.Job, error) {
+	return f.resolveFor(fs, jobconfig.Needs{}, nil)
+}
+
+// resolveFor is resolve for a command that cannot run without what need
+// names. Observation files named on the command line (obsArgs, relative
+// to the working folder) replace the job file's list.
+func (f *jobFlags) resolveFor(fs *flag.FlagSet, need jobconfig.Needs, obsArgs []string) (*jobconfig.Job, error) {
 	file, name, err := f.file(fs)
 	if err != nil {
 		return nil, err
@@ -207,7 +214,10 @@ func (f *jobFlags) resolve(fs *flag.FlagSet) (*jobconfig.Job, error) {
 			file.Observations[i] = rel(o)
 		}
 	}
-	return jobconfig.Resolve(file, name)
+	if len(obsArgs) > 0 {
+		file.Observations = obsArgs
+	}
+	return jobconfig.ResolveFor(file, name, need)
 }
 
 // parseAPlusB reads "5mm+5ppm", "5 mm + 5 ppm" or "5+5".
@@ -239,3 +249,27 @@ func parseAtmosphere(flagName, s string) (jobconfig.Atmosphere, error) {
 	}
 	return jobconfig.Atmosphere{TemperatureC: &v[0], PressureHPa: &v[1], HumidityPct: &v[2]}, nil
 }
+
+// registerOnly registers the job flags named, and no others: a command's
+// -help lists only the flags it uses.
+func (f *jobFlags) registerOnly(fs *flag.FlagSet, names ...string) {
+	all := flag.NewFlagSet("", flag.ContinueOnError)
+	f.register(all)
+	for _, n := range names {
+		fl := all.Lookup(n)
+		if fl == nil {
+			panic("no job flag -" + n)
+		}
+		fs.Var(fl.Value, fl.Name, fl.Usage)
+	}
+}
+
+// The job flags of the commands that use only some of them.
+var (
+	// siteFlags place the marks: the CRS, the points and their heights,
+	// refraction.
+	siteFlags = []string{"config", "crs", "points", "length-unit", "reduction-datum", "geoid", "geoid-separation-m", "k"}
+	// instrumentFlags set an instrument profile.
+	instrumentFlags = []string{"instrument", "wavelength-um", "reference-atmosphere", "reference-refractivity", "additive-constant-mm",
+		"scale-ppm", "prism-constant-mm", "field-ppm", "field-prism-constant-mm", "row-prism-constant", "spec"}
+)

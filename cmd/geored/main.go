@@ -7,7 +7,6 @@
 package main
 
 import (
-	"errors"
 	"flag"
 	"fmt"
 	"io"
@@ -33,7 +32,8 @@ func commands() []command {
 		{"inverse", "geodesic and grid inverse between control points", runInverse},
 		{"predict", "expected slope distance, zenith angle and horizontal distance from control", runPredict},
 		{"sightline", "whether a line of sight clears the curved Earth, with refraction", runSightline},
-		{"demo", "run geored on the embedded demo job", runDemo},
+		{"init", "write a commented starter job for a CRS and units, that runs as written", runInit},
+		{"demo", "run geored on the embedded demo job and write its input files to copy", runDemo},
 		{"version", "print geored's and PROJ's versions", runVersion},
 	}
 }
@@ -52,12 +52,23 @@ func main() {
 }
 
 func run(args []string, stdout, stderr io.Writer) int {
-	if len(args) == 0 || args[0] == "-h" || args[0] == "--help" || args[0] == "help" {
+	if len(args) == 0 {
 		usage(stderr)
-		if len(args) == 0 {
-			return exitFailed
-		}
+		return exitFailed
+	}
+	switch args[0] {
+	case "-h", "-help", "--help":
+		usage(stdout)
 		return exitOK
+	case "help":
+		if len(args) > 1 {
+			// geored help reduce: the command's own help
+			return run([]string{args[1], "-help"}, stdout, stderr)
+		}
+		usage(stdout)
+		return exitOK
+	case "-version", "--version":
+		return runVersion(nil, stdout, stderr)
 	}
 	for _, c := range commands() {
 		if c.name == args[0] {
@@ -75,25 +86,25 @@ func usage(w io.Writer) {
 	for _, c := range commands() {
 		fmt.Fprintf(w, "  %-9s %s\n", c.name, c.summary)
 	}
-	fmt.Fprintln(w, "\nRun 'geored <command> --help' for the command's flags.")
+	fmt.Fprintln(w, "\nRun 'geored <command> -help' (or 'geored help <command>') for the command's flags;")
+	fmt.Fprintln(w, "flags may come before or after file names. 'geored --version' prints the versions.")
+	fmt.Fprintln(w, "New job: 'geored init -crs EPSG:nnnn -dir myjob' writes a commented job file that runs as written.")
 	fmt.Fprintln(w, "\n"+cautionText)
 }
 
 // cautionText is printed under every table and every usage text.
 const cautionText = "Results support, and do not replace, the judgement of a licensed surveyor;\nlocal regulations and standards govern."
 
-// parseFlags parses a subcommand's flags; it reports whether to go on and,
-// if not, the exit code.
+// parseFlags parses a subcommand's flags, given anywhere among its
+// arguments, for a command that takes no other arguments; it reports
+// whether to go on and, if not, the exit code.
 func parseFlags(fs *flag.FlagSet, args []string, stderr io.Writer) (bool, int) {
-	fs.SetOutput(stderr)
-	if err := fs.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return false, exitOK
-		}
-		return false, exitFailed
+	rest, ok, code := parseCommand(fs, args, stderr)
+	if !ok {
+		return false, code
 	}
-	if fs.NArg() > 0 {
-		fmt.Fprintf(stderr, "geored %s: unexpected argument %q\n", fs.Name(), fs.Arg(0))
+	if len(rest) > 0 {
+		fmt.Fprintf(stderr, "geored %s: unexpected argument %q (this command takes flags only; see geored %s -help)\n", fs.Name(), rest[0], fs.Name())
 		return false, exitFailed
 	}
 	return true, exitOK

@@ -46,7 +46,7 @@ func TestInverseOnDemoPoints(t *testing.T) {
 	require.NoError(t, os.WriteFile(pts, mustDemo(t, "demo/points.csv"), 0o644))
 	lines := filepath.Join(dir, "lines.csv")
 	require.NoError(t, os.WriteFile(lines, mustDemo(t, "demo/lines.csv"), 0o644))
-	code, out, stderr := runCmd(t, "inverse", "-crs", demoCRS, "-points", pts, "-lines", lines)
+	code, out, stderr := runCmd(t, "inverse", "-crs", demoCRS, "-points", pts, "-lines", lines, "-angle-unit", "dms")
 	require.Equal(t, exitOK, code, stderr)
 	assert.Contains(t, out, "ETRS89 / UTM zone 32N")
 	assert.Contains(t, out, "licensed surveyor")
@@ -95,7 +95,7 @@ func TestInverseOverPointsFile(t *testing.T) {
 	require.Equal(t, exitOK, code, stderr)
 	assert.Equal(t, 1+3, strings.Count(out, "\n"), "every pair of three points")
 
-	code, out, stderr = runCmd(t, "inverse", "-crs", "EPSG:25832", "-points", pts, "-from", "A", "-to", "C", "-length-unit", "us-ft")
+	code, out, stderr = runCmd(t, "inverse", "-crs", "EPSG:25832", "-points", pts, "-from", "A", "-to", "C", "-length-unit", "us-ft", "-angle-unit", "dms")
 	require.Equal(t, exitOK, code, stderr)
 	assert.Contains(t, out, "lengths in us-ft")
 	assert.Contains(t, out, "0°00′00.00″", "A → C runs due north")

@@ -8,6 +8,7 @@ import (
 	"io"
 	"math"
 	"os"
+	"slices"
 	"strconv"
 	"strings"
 	"text/tabwriter"
@@ -22,10 +23,14 @@ import (
 	"github.com/geored/geored/reduce/job"
 )
 
+// predictFlags are the job flags predict uses: the marks, the units, the
+// air and the instrument; not the tests, the tolerance or the outputs.
+var predictFlags = append(append(slices.Clone(siteFlags), "angle-unit", "default-atmosphere"), instrumentFlags...)
+
 func runPredict(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("predict", flag.ContinueOnError)
 	var jf jobFlags
-	jf.register(fs)
+	jf.registerOnly(fs, predictFlags...)
 	pairs := fs.String("pairs", "", "CSV of the sights to predict: from,to,instrument_height,target_height[,instrument][,prism_constant_mm]\n[,temperature_c,pressure_hpa,humidity_pct][,temperature_c_to,pressure_hpa_to,humidity_pct_to] (required)")
 	asCSV := fs.Bool("csv", false, "print CSV with full precision instead of a table")
 	fs.Usage = func() {
@@ -53,12 +58,9 @@ Flags:
 	if *pairs == "" {
 		return fail(stderr, "predict", errors.New("-pairs FILE is required"))
 	}
-	j, err := jf.resolve(fs)
+	j, err := jf.resolveFor(fs, jobconfig.Needs{Points: true, Instrument: true}, nil)
 	if err != nil {
 		return fail(stderr, "predict", err)
-	}
-	if len(j.Profiles) == 0 {
-		return fail(stderr, "predict", errors.New("the job has no instrument profile: give [instrument.NAME] with wavelength_um, a reference, spec_mm and spec_ppm (or the instrument flags)"))
 	}
 	sights, err := readSightFile(*pairs, j.LengthUnit, stderr)
 	if err != nil {
@@ -295,7 +297,7 @@ func writePredictTable(w io.Writer, jw *jobWorld, rows []predictedSight) error {
 
 func writePredictCSV(w io.Writer, rows []predictedSight, lu units.LengthUnit, au units.AngleUnit) error {
 	cw := csv.NewWriter(w)
-	l, a := lu.String(), au.String()
+	l, a := lu.ColumnSuffix(), au.ColumnSuffix()
 	cw.Write([]string{"from", "to", "instrument", "instrument_height_" + l, "target_height_" + l,
 		"slope_distance_" + l, "zenith_angle_" + a, "horizontal_distance_" + l,
 		"slope_distance_bare_" + l, "horizontal_distance_bare_" + l,

@@ -78,7 +78,7 @@ D,A,4.9213,6.5617,ts2,9,890,70,,,
 	require.NoError(t, err)
 	require.Len(t, recs, 6)
 	col := columns(recs[0])
-	for _, h := range []string{"slope_distance_us-ft", "zenith_angle_dms", "horizontal_distance_us-ft", "slope_distance_bare_us-ft", "grid_bearing_dms", "geodetic_azimuth_dms"} {
+	for _, h := range []string{"slope_distance_usft", "zenith_angle_dms", "horizontal_distance_usft", "slope_distance_bare_usft", "grid_bearing_dms", "geodetic_azimuth_dms"} {
 		require.Contains(t, col, h)
 	}
 
@@ -91,7 +91,7 @@ D,A,4.9213,6.5617,ts2,9,890,70,,,
 	b.WriteString("from,to,slope_distance,zenith_angle,instrument_height,target_height,instrument,temperature_c,pressure_hpa,humidity_pct,temperature_c_to,pressure_hpa_to,humidity_pct_to\n")
 	for i, r := range recs[1:] {
 		p := pairs[i+1]
-		b.WriteString(strings.Join([]string{r[col["from"]], r[col["to"]], r[col["slope_distance_us-ft"]], r[col["zenith_angle_dms"]],
+		b.WriteString(strings.Join([]string{r[col["from"]], r[col["to"]], r[col["slope_distance_usft"]], r[col["zenith_angle_dms"]],
 			p[2], p[3], p[4], p[5], p[6], p[7], p[8], p[9], p[10]}, ",") + "\n")
 	}
 	obs := filepath.Join(dir, "obs.csv")
@@ -115,7 +115,7 @@ D,A,4.9213,6.5617,ts2,9,890,70,,,
 	// the displayed slope is the bare one with the field ppm and prism
 	// constant applied (ts1: 8 ppm, −30 mm = −0.0984 US ft); ts2 applies none
 	for _, r := range recs[1:] {
-		shown, bare := num(t, r[col["slope_distance_us-ft"]]), num(t, r[col["slope_distance_bare_us-ft"]])
+		shown, bare := num(t, r[col["slope_distance_usft"]]), num(t, r[col["slope_distance_bare_usft"]])
 		want := bare
 		if r[col["instrument"]] == "ts1" {
 			want = bare*(1+8e-6) - 0.030*3937/1200
@@ -146,7 +146,7 @@ func TestPredictWithEachPrismReading(t *testing.T) {
 		require.NoError(t, err)
 		require.Len(t, recs, 2)
 		col, r := columns(recs[0]), recs[1]
-		shown, bare := num(t, r[col["slope_distance_us-ft"]]), num(t, r[col["slope_distance_bare_us-ft"]])
+		shown, bare := num(t, r[col["slope_distance_usft"]]), num(t, r[col["slope_distance_bare_usft"]])
 		assert.InDeltaf(t, bare*(1+8e-6)+applied*3937/1200, shown, 1e-9, "%s: displayed slope, US ft", reading)
 		assert.Equalf(t, strconv.FormatFloat(applied*1000, 'g', -1, 64), r[col["field_prism_constant_mm"]], "%s: the constant applied, mm", reading)
 		assert.Equalf(t, "-34.4", r[col["prism_constant_mm"]], "%s: the target's constant, mm", reading)

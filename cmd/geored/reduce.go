@@ -30,6 +30,10 @@ import (
 
 const defaultOut = "geored-out"
 
+// reduceNeeds are the settings a reduction cannot run without, reported
+// together when missing.
+var reduceNeeds = jobconfig.Needs{Points: true, Observations: true, Tolerance: true, Instrument: true}
+
 // configHelp lists every setting of the job file with its unit.
 const configHelp = `
 Job file (TOML; -config). Paths are relative to the file. Every unit is in
@@ -53,8 +57,9 @@ the key's name:
   global_test_alpha    α of the global test of Σw²/n (default 0.05)
   workers              0 = every core
   default_instrument   profile for rows without an instrument column
-  [tolerance]          class = "<accuracy class>", or constant_mm, ppm,
-                       rule = linear|rss (linear), level = 95|1sigma (95)
+  [tolerance]          class = "<accuracy class>" (listed below), or
+                       constant_mm, ppm, rule = linear|rss (linear),
+                       level = 95|1sigma (95)
   [default_atmosphere] temperature_c (°C), pressure_hpa (hPa), humidity_pct (%)
   [centring]           instrument_mm, target_mm, height_mm, control_mm (σ, mm),
                        zenith_arcsec (σ, ″; default 5), refraction_k_sigma
@@ -83,6 +88,12 @@ func runReduce(args []string, stdout, stderr io.Writer) int {
 	wait := fs.Bool("wait", false, "if another run is writing into the output folder, wait for it to end instead of refusing")
 	fs.Usage = func() {
 		fmt.Fprint(stderr, `Usage: geored reduce [flags] [observations.csv ...]
+
+Observation files named on the command line replace the job file's
+observations list (they are read relative to the working folder, the job
+file's own paths relative to the job file); "-" reads observations from
+standard input. Flags may come before or after the files; "--" ends the
+flags, so that a file named "-x" can be given.
 
 Reduces observed slope distances to the ellipsoid and the map grid, compares
 each with the inverse between the control points, and writes to the output
@@ -146,19 +157,32 @@ Flags:
 `)
 		fs.PrintDefaults()
 		fmt.Fprint(stderr, configHelp)
+		fmt.Fprint(stderr, accuracyClassHelp())
 		fmt.Fprintln(stderr, "\n"+cautionText)
 	}
-	if err := fs.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return exitOK
-		}
-		return exitFailed
+	obsArgs, ok, code := parseCommand(fs, args, stderr)
+	if !ok {
+		return code
 	}
-	j, err := jf.resolve(fs)
+	if err := observationArgs(obsArgs); err != nil {
+		return fail(stderr, "reduce", err)
+	}
+	j, err := jf.resolveFor(fs, reduceNeeds, obsArgs)
 	if err != nil {
 		return fail(stderr, "reduce", err)
 	}
-	j.Observations = append(j.Observations, fs.Args()...)
+	var obsIn observationInput
+	if slices.Contains(j.Observations, stdinArg) {
+		obsIn.stdin = os.Stdin
+		if j.HasJobAlpha {
+			f, done, err := bufferStdin(os.Stdin)
+			if err != nil {
+				return fail(stderr, "reduce", err)
+			}
+			defer done()
+			obsIn.stdin = f
+		}
+	}
 	if j.Out == "" {
 		j.Out = defaultOut
 	}
@@ -183,7 +207,7 @@ Flags:
 	}
 	ctx, stop := stopOnSignals()
 	defer stop()
-	opts := reduceOptions{strict: *strict, progress: !*quiet && isTerminal(stderr)}
+	opts := reduceOptions{strict: *strict, progress: !*quiet && isTerminal(stderr), obsIn: obsIn}
 	if !*quiet {
 		opts.warn = stderr
 	}
@@ -239,11 +263,12 @@ func printReasons(w io.Writer, cmd string, s *report.Summary, out string) {
 type reduceOptions struct {
 	strict     bool
 	progress   bool
-	warn       io.Writer      // nil: silent
-	inputs     []job.Source   // observations given as readers (the embedded demo)
-	points     io.Reader      // points given as a reader (the embedded demo) ...
-	pointsName string         // ... and its name
-	set        outset.Options // the output set's; reduceJob adds the inputs to Keep
+	warn       io.Writer        // nil: silent
+	inputs     []job.Source     // observations given as readers (the embedded demo)
+	points     io.Reader        // points given as a reader (the embedded demo) ...
+	pointsName string           // ... and its name
+	set        outset.Options   // the output set's; reduceJob adds the inputs to Keep
+	obsIn      observationInput // what an observation file "-" reads
 }
 
 // reduceFiles are the files of reduce's output set, besides its manifest.
@@ -308,7 +333,7 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 	if j.HasJobAlpha {
 		// The critical value that holds α for the whole job depends on
 		// how many observations it tests: count the rows first.
-		n, err := countObservationRows(j.Observations, opt.inputs)
+		n, err := countObservationRows(j.Observations, opt.inputs, opt.obsIn)
 		if err != nil {
 			return nil, err
 		}
@@ -333,17 +358,17 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 	var total int64
 	var read atomic.Int64
 	for _, path := range j.Observations {
-		f, err := os.Open(path)
+		f, name, err := opt.obsIn.open(path)
 		if err != nil {
 			return nil, err
 		}
 		defer f.Close()
-		if st, err := f.Stat(); err == nil {
+		if st, err := f.Stat(); err == nil && st.Mode().IsRegular() {
 			total += st.Size()
 		}
 		h := sha256.New()
 		hashes = append(hashes, h)
-		sources = append(sources, job.Source{Name: path, Reader: io.TeeReader(&countingReader{r: f, n: &read}, h)})
+		sources = append(sources, job.Source{Name: name, Reader: io.TeeReader(&countingReader{r: f, n: &read}, h)})
 	}
 	for _, src := range opt.inputs {
 		h := sha256.New()
@@ -457,9 +482,19 @@ func jobInputs(j *jobconfig.Job) []outset.Keep {
 // countObservationRows counts the data rows of the observation files and
 // of the inputs given as readers, which must then be seekable: they are
 // read again by the run.
-func countObservationRows(paths []string, inputs []job.Source) (int, error) {
+func countObservationRows(paths []string, inputs []job.Source, obsIn observationInput) (int, error) {
 	n := 0
 	for _, path := range paths {
+		if path == stdinArg {
+			// standard input, copied to a file by runReduce: counted here
+			// and read again by the run
+			k, err := countAndRewind(stdinName, obsIn.stdin)
+			if err != nil {
+				return 0, err
+			}
+			n += k
+			continue
+		}
 		f, err := os.Open(path)
 		if err != nil {
 			return 0, err
@@ -476,16 +511,28 @@ func countObservationRows(paths []string, inputs []job.Source) (int, error) {
 		if !ok {
 			return 0, fmt.Errorf("%s: job_alpha needs to count the rows before the run, and this input cannot be read twice", src.Name)
 		}
-		k, err := obsfile.CountRows(rs)
+		k, err := countAndRewind(src.Name, rs)
 		if err != nil {
-			return 0, fmt.Errorf("%s: %w", src.Name, err)
-		}
-		if _, err := rs.Seek(0, io.SeekStart); err != nil {
-			return 0, fmt.Errorf("%s: %w", src.Name, err)
+			return 0, err
 		}
 		n += k
 	}
 	return n, nil
+}
+
+// countAndRewind counts the data rows of rs and seeks back to its start.
+func countAndRewind(name string, rs io.ReadSeeker) (int, error) {
+	if rs == nil || rs == (*os.File)(nil) {
+		return 0, fmt.Errorf("%s: job_alpha needs to count the rows before the run, and this input cannot be read twice", name)
+	}
+	k, err := obsfile.CountRows(rs)
+	if err != nil {
+		return 0, fmt.Errorf("%s: %w", name, err)
+	}
+	if _, err := rs.Seek(0, io.SeekStart); err != nil {
+		return 0, fmt.Errorf("%s: %w", name, err)
+	}
+	return k, nil
 }
 
 // settings records the job's settings as used.

@@ -52,7 +52,7 @@ type sightlineFlags struct {
 func runSightline(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("sightline", flag.ContinueOnError)
 	var jf jobFlags
-	jf.register(fs)
+	jf.registerOnly(fs, siteFlags...)
 	var f sightlineFlags
 	fs.StringVar(&f.from, "from", "", "id of the instrument's mark in the points file (with -to)")
 	fs.StringVar(&f.to, "to", "", "id of the target's mark in the points file (with -from)")
@@ -245,7 +245,7 @@ func (f *sightlineFlags) sightline(fs *flag.FlagSet, jf *jobFlags, stderr io.Wri
 		title := fmt.Sprintf("line of sight over %s %s, eye %s %s, target %s %s above the ground", fmtLen(f.distance*u, unit), unit, fmtLen(f.eye*u, unit), unit, fmtLen(f.target*u, unit), unit)
 		return s, unit, title, err
 	}
-	j, err := jf.resolve(fs)
+	j, err := jf.resolveFor(fs, jobconfig.Needs{Points: true}, nil)
 	if err != nil {
 		return reduce.Sightline{}, 0, "", err
 	}
@@ -415,7 +415,7 @@ func writeSightlineCSV(w io.Writer, c reduce.SightlineCheck, u units.LengthUnit)
 		return err
 	}
 	cw := csv.NewWriter(w)
-	n := u.String()
+	n := u.ColumnSuffix()
 	cw.Write([]string{"kind", "distance_" + n, "ray_height_" + n, "ground_height_" + n, "clearance_" + n, "below_minimum", "blocks_ray"})
 	for _, r := range rows {
 		ground := ""

@@ -105,7 +105,12 @@ func (j *Job) ProfileNames() []string {
 
 // Resolve validates f and builds the Job. Every problem is reported, each
 // naming its key.
-func Resolve(f File, name string) (*Job, error) {
+func Resolve(f File, name string) (*Job, error) { return ResolveFor(f, name, Needs{}) }
+
+// ResolveFor is Resolve for a command that cannot run without the
+// settings need names: a missing one is reported with every other
+// problem of the job, at once.
+func ResolveFor(f File, name string, need Needs) (*Job, error) {
 	pr := &problems{file: name}
 	j := &Job{CRS: strings.TrimSpace(f.CRS), Points: f.Points, Observations: f.Observations, Out: f.Out, Geoid: f.Geoid, Workers: f.Workers}
 	if j.CRS == "" {
@@ -197,6 +202,7 @@ func Resolve(f File, name string) (*Job, error) {
 			pr.bad("default_instrument", "%q is not an [instrument.NAME] profile", j.DefaultInstrument)
 		}
 	}
+	need.check(f, j, pr)
 	if len(pr.errs) > 0 {
 		return nil, errors.Join(pr.errs...)
 	}
@@ -313,22 +319,28 @@ func profile(name string, in Instrument, pr *problems) (Profile, bool) {
 			given++
 		}
 	}
-	switch {
-	case in.WavelengthUM == 0:
+	// The wavelength and the reference are reported together when both
+	// are missing or wrong.
+	wl := in.WavelengthUM != 0
+	if !wl {
 		pr.bad(key+".wavelength_um", "missing: want the carrier wavelength in µm (e.g. 0.658 for red, 0.850 for infrared)")
+	}
+	switch {
 	case given != 1:
-		pr.bad(key, "give exactly one of reference_atmosphere, reference_refractivity, or modulation_hz with unit_length_m")
+		pr.bad(key, "give exactly one of reference_atmosphere, reference_refractivity, or modulation_hz with unit_length_m (the EDM's reference for its ppm, from its manual)")
 	case in.ReferenceAtmosphere != nil:
 		a, ok := atmosphere(*in.ReferenceAtmosphere, key+".reference_atmosphere", pr)
-		if ok {
+		if ok && wl {
 			c, err = reduce.CarrierFromReferenceAtmosphere(in.WavelengthUM, a)
 		}
 	case in.ReferenceRefractivity != nil:
-		c, err = reduce.NewCarrier(in.WavelengthUM, *in.ReferenceRefractivity)
+		if wl {
+			c, err = reduce.NewCarrier(in.WavelengthUM, *in.ReferenceRefractivity)
+		}
 	default:
 		if in.ModulationHz == nil || in.UnitLengthM == nil {
 			pr.bad(key, "modulation_hz and unit_length_m go together")
-		} else {
+		} else if wl {
 			c, err = reduce.CarrierFromModulation(in.WavelengthUM, *in.ModulationHz, *in.UnitLengthM)
 		}
 	}

@@ -16,27 +16,9 @@ type Units struct {
 	Angle  units.AngleUnit
 }
 
-func (u Units) suffix() string {
-	switch u.Length {
-	case units.USSurveyFoot:
-		return "usft"
-	case units.InternationalFoot:
-		return "ift"
-	}
-	return "m"
-}
+func (u Units) suffix() string { return u.Length.ColumnSuffix() }
 
-func (u Units) angleSuffix() string {
-	switch u.Angle {
-	case units.Gons:
-		return "gon"
-	case units.PackedDMS:
-		return "dms"
-	case units.Radians:
-		return "rad"
-	}
-	return "deg"
-}
+func (u Units) angleSuffix() string { return u.Angle.ColumnSuffix() }
 
 // ReducedHeader is the first row of reduced.csv. prism_constant_mm is
 // the target's constant that the reduction applied and

@@ -114,3 +114,16 @@ rm -f pairs.tmp
 32613 4326 0.5 -107.9
 CASES
 } >stateplane_cs2cs.txt
+
+# --- Areas of use ------------------------------------------------------------
+# proj.db's bounding box of a CRS's area of use, as projinfo prints it in
+# its WKT (BBOX[south, west, north, east], degrees).
+{
+  echo "# Areas of use of projected CRSs from proj.db, printed by projinfo ($pjv), proj.db with the EPSG dataset $epsgv."
+  echo "# Command: projinfo -q -o WKT2_2019 EPSG:<crs> | grep BBOX   (BBOX[south,west,north,east])"
+  echo "# Columns: crs (EPSG code)  south west north east (degrees)"
+  for c in 25832 2231 32760 3031 27700; do
+    projinfo -q -o WKT2_2019 "EPSG:$c" | grep -o 'BBOX\[[^]]*\]' | tail -1 |
+      sed 's/BBOX\[//; s/\]//; s/,/ /g' | awk -v c="$c" '{ print c, $1, $2, $3, $4 }'
+  done
+} >areas_projinfo.txt
