@@ -1,7 +1,6 @@
 package main
 
 import (
-	"bytes"
 	"context"
 	"crypto/sha256"
 	"encoding/hex"
@@ -67,6 +66,15 @@ the key's name:
                        linear|rss (rss), spec_level = 1sigma|95 (1sigma);
                        row_prism_constant = target|applied: what a row's
                        prism_constant_mm is (see Prism constants above)
+  [limits]             what geored takes of any one input file at most, so
+                       that a broken or hostile file stops with an error
+                       naming the file and line, in bounded memory; the
+                       defaults are far beyond any real survey file:
+                       max_line_bytes (a row, bytes; 1048576), max_field_bytes
+                       (a field, bytes; 65536), max_columns (a header's
+                       columns; 1000), max_points (the points file's rows;
+                       1000000); flags -max-line-bytes, -max-field-bytes,
+                       -max-columns, -max-points
 `
 
 func runReduce(args []string, stdout, stderr io.Writer) int {
@@ -182,6 +190,9 @@ Flags:
 	return sum.ExitStatus
 }
 
+// maxWarnings is how many warnings a run shows one by one.
+const maxWarnings = 100
+
 // maxReasonRejects is how many rejected rows' reasons the terminal shows.
 const maxReasonRejects = 5
 
@@ -239,32 +250,41 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 	defer s.close()
 
 	sum := &report.Summary{Tool: "geored", Version: version(), ProjVersion: projVersion(), Caution: report.Caution}
+	// Warnings past the first maxWarnings are counted, and said once
+	// at the end of the run, on stderr and in summary.json alike.
+	var moreWarnings int
 	warn := func(w obsfile.Warning) {
+		if len(sum.Warnings) == maxWarnings {
+			moreWarnings++
+			return
+		}
 		sum.Warnings = append(sum.Warnings, w.String())
 		if opt.warn != nil {
 			fmt.Fprintf(opt.warn, "warning: %s\n", w)
 		}
 	}
 
-	// Points: read whole (they are held), hashed.
-	pointsName, pointsData := j.Points, []byte(nil)
-	if opt.points != nil {
-		pointsName = opt.pointsName
-		pointsData, err = io.ReadAll(opt.points)
+	// Points: streamed, hashed as they are read.
+	pointsName, points := j.Points, opt.points
+	if points == nil {
+		f, err := os.Open(j.Points)
+		if err != nil {
+			return nil, err
+		}
+		defer f.Close()
+		points = f
 	} else {
-		pointsData, err = os.ReadFile(j.Points)
+		pointsName = opt.pointsName
 	}
-	if err != nil {
-		return nil, err
-	}
-	nPoints, err := s.loadPoints(bytes.NewReader(pointsData), pointsName, warn)
+	pointsHash := sha256.New()
+	nPoints, err := s.loadPoints(io.TeeReader(points, pointsHash), pointsName, warn)
 	if err != nil {
 		return nil, err
 	}
 	if j.HasJobAlpha {
 		// The critical value that holds α for the whole job depends on
 		// how many observations it tests: count the rows first.
-		n, err := countObservationRows(j.Observations, opt.inputs)
+		n, err := countObservationRows(j.Observations, opt.inputs, j.Limits)
 		if err != nil {
 			return nil, err
 		}
@@ -280,8 +300,7 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 	// The plan holds what the run needs of the points: the session's map
 	// of them (about 300 bytes a point) is not kept through the run.
 	s.control, s.order = nil, nil
-	ph := sha256.Sum256(pointsData)
-	sum.Inputs = append(sum.Inputs, report.InputFile{Role: "points", Path: pointsName, SHA256: hex.EncodeToString(ph[:]), Rows: nPoints})
+	sum.Inputs = append(sum.Inputs, report.InputFile{Role: "points", Path: pointsName, SHA256: hex.EncodeToString(pointsHash.Sum(nil)), Rows: nPoints})
 
 	// Observation sources, hashed and counted as they stream.
 	var sources []job.Source
@@ -348,6 +367,13 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 		return err
 	})
 	stop()
+	if moreWarnings > 0 {
+		more := fmt.Sprintf("%d more warnings, not shown", moreWarnings)
+		sum.Warnings = append(sum.Warnings, more)
+		if opt.warn != nil {
+			fmt.Fprintf(opt.warn, "warning: %s\n", more)
+		}
+	}
 	if err != nil {
 		return nil, err
 	}
@@ -403,17 +429,17 @@ func reduceJob(j *jobconfig.Job, opt reduceOptions) (*report.Summary, error) {
 // countObservationRows counts the data rows of the observation files and
 // of the inputs given as readers, which must then be seekable: they are
 // read again by the run.
-func countObservationRows(paths []string, inputs []job.Source) (int, error) {
+func countObservationRows(paths []string, inputs []job.Source, lim obsfile.Limits) (int, error) {
 	n := 0
 	for _, path := range paths {
 		f, err := os.Open(path)
 		if err != nil {
 			return 0, err
 		}
-		k, err := obsfile.CountRows(f)
+		k, err := obsfile.CountRows(f, path, lim)
 		f.Close()
 		if err != nil {
-			return 0, fmt.Errorf("%s: %w", path, err)
+			return 0, err
 		}
 		n += k
 	}
@@ -422,9 +448,9 @@ func countObservationRows(paths []string, inputs []job.Source) (int, error) {
 		if !ok {
 			return 0, fmt.Errorf("%s: job_alpha needs to count the rows before the run, and this input cannot be read twice", src.Name)
 		}
-		k, err := obsfile.CountRows(rs)
+		k, err := obsfile.CountRows(rs, src.Name, lim)
 		if err != nil {
-			return 0, fmt.Errorf("%s: %w", src.Name, err)
+			return 0, err
 		}
 		if _, err := rs.Seek(0, io.SeekStart); err != nil {
 			return 0, fmt.Errorf("%s: %w", src.Name, err)
