@@ -26,6 +26,7 @@ type session struct {
 	control   map[string]job.Control
 	order     []string // point ids in file order
 	pointFile string
+	limits    obsfile.Limits // of the points file (zero: the defaults)
 }
 
 // openJobSession opens a job's CRS and its geoid: the named grid, none,
@@ -40,6 +41,7 @@ func openJobSession(j *jobconfig.Job) (*session, error) {
 		return nil, err
 	}
 	s.seps.Constant, s.seps.HasConstant = j.ConstantN, j.HasConstantN
+	s.limits = j.Limits
 	return s, nil
 }
 
@@ -103,6 +105,7 @@ func (s *session) loadPoints(r io.Reader, name string, warn func(obsfile.Warning
 	pts, warnings, err := obsfile.ReadPoints(r, name, obsfile.PointOptions{
 		GridUnit:   s.gridUnit,
 		HeightUnit: s.unit,
+		Limits:     s.limits,
 	})
 	for _, w := range warnings {
 		warn(w)

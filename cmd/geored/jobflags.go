@@ -21,6 +21,7 @@ type jobFlags struct {
 	profile, wavelength, refAtmos, spec, rowPrism          string
 	refN, addMM, scalePPM, prismMM, fieldPPM, fieldPrismMM float64
 	set                                                    map[string]bool
+	limits                                                 limitFlags
 }
 
 func (f *jobFlags) register(fs *flag.FlagSet) {
@@ -51,6 +52,7 @@ func (f *jobFlags) register(fs *flag.FlagSet) {
 	fs.Float64Var(&f.fieldPrismMM, "field-prism-constant-mm", 0, "prism constant the field instrument already applied, mm (config: field_prism_constant_mm)")
 	fs.StringVar(&f.rowPrism, "row-prism-constant", "", "what a row's prism_constant_mm is: 'target' (the instrument applied field_prism_constant_mm) or 'applied' (the instrument applied the row's own constant) (config: row_prism_constant)")
 	fs.StringVar(&f.spec, "spec", "", "EDM specification 'A mm + B ppm' (RSS, 1σ) (config: spec_mm, spec_ppm)")
+	f.limits.register(fs)
 }
 
 // file loads the config file (if any) and lays the set flags over it.
@@ -113,6 +115,7 @@ func (f *jobFlags) file(fs *flag.FlagSet) (jobconfig.File, string, error) {
 		}
 		jf.Atmosphere = &a
 	}
+	f.limits.apply(f.set, &jf)
 	if err := f.applyProfile(&jf); err != nil {
 		return jf, name, err
 	}

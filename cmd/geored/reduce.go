@@ -1,7 +1,6 @@
 package main
 
 import (
-	"bytes"
 	"context"
 	"crypto/sha256"
 	"encoding/hex"
@@ -74,6 +73,15 @@ the key's name:
                        linear|rss (rss), spec_level = 1sigma|95 (1sigma);
                        row_prism_constant = target|applied: what a row's
                        prism_constant_mm is (see Prism constants above)
+  [limits]             what geored takes of any one input file at most, so
+                       that a broken or hostile file stops with an error
+                       naming the file and line, in bounded memory; the
+                       defaults are far beyond any real survey file:
+                       max_line_bytes (a row, bytes; 1048576), max_field_bytes
+                       (a field, bytes; 65536), max_columns (a header's
+                       columns; 1000), max_points (the points file's rows;
+                       1000000); flags -max-line-bytes, -max-field-bytes,
+                       -max-columns, -max-points
 `
 
 func runReduce(args []string, stdout, stderr io.Writer) int {
@@ -233,6 +241,9 @@ Flags:
 	return sum.ExitStatus
 }
 
+// maxWarnings is how many warnings a run shows one by one.
+const maxWarnings = 100
+
 // maxReasonRejects is how many rejected rows' reasons the terminal shows.
 const maxReasonRejects = 5
 
@@ -308,32 +319,41 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 	defer s.close()
 
 	sum = &report.Summary{Tool: "geored", Version: version(), ProjVersion: projVersion(), Caution: report.Caution}
+	// Warnings past the first maxWarnings are counted, and said once
+	// at the end of the run, on stderr and in summary.json alike.
+	var moreWarnings int
 	warn := func(w obsfile.Warning) {
+		if len(sum.Warnings) == maxWarnings {
+			moreWarnings++
+			return
+		}
 		sum.Warnings = append(sum.Warnings, w.String())
 		if opt.warn != nil {
 			fmt.Fprintf(opt.warn, "warning: %s\n", w)
 		}
 	}
 
-	// Points: read whole (they are held), hashed.
-	pointsName, pointsData := j.Points, []byte(nil)
-	if opt.points != nil {
-		pointsName = opt.pointsName
-		pointsData, err = io.ReadAll(opt.points)
+	// Points: streamed, hashed as they are read.
+	pointsName, points := j.Points, opt.points
+	if points == nil {
+		f, err := os.Open(j.Points)
+		if err != nil {
+			return nil, err
+		}
+		defer f.Close()
+		points = f
 	} else {
-		pointsData, err = os.ReadFile(j.Points)
+		pointsName = opt.pointsName
 	}
-	if err != nil {
-		return nil, err
-	}
-	nPoints, err := s.loadPoints(bytes.NewReader(pointsData), pointsName, warn)
+	pointsHash := sha256.New()
+	nPoints, err := s.loadPoints(io.TeeReader(points, pointsHash), pointsName, warn)
 	if err != nil {
 		return nil, err
 	}
 	if j.HasJobAlpha {
 		// The critical value that holds α for the whole job depends on
 		// how many observations it tests: count the rows first.
-		n, err := countObservationRows(j.Observations, opt.inputs, opt.obsIn)
+		n, err := countObservationRows(j.Observations, opt.inputs, opt.obsIn, j.Limits)
 		if err != nil {
 			return nil, err
 		}
@@ -349,8 +369,7 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 	// The plan holds what the run needs of the points: the session's map
 	// of them (about 300 bytes a point) is not kept through the run.
 	s.control, s.order = nil, nil
-	ph := sha256.Sum256(pointsData)
-	sum.Inputs = append(sum.Inputs, report.InputFile{Role: "points", Path: pointsName, SHA256: hex.EncodeToString(ph[:]), Rows: nPoints})
+	sum.Inputs = append(sum.Inputs, report.InputFile{Role: "points", Path: pointsName, SHA256: hex.EncodeToString(pointsHash.Sum(nil)), Rows: nPoints})
 
 	// Observation sources, hashed and counted as they stream.
 	var sources []job.Source
@@ -415,6 +434,13 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 		return err
 	})
 	stop()
+	if moreWarnings > 0 {
+		more := fmt.Sprintf("%d more warnings, not shown", moreWarnings)
+		sum.Warnings = append(sum.Warnings, more)
+		if opt.warn != nil {
+			fmt.Fprintf(opt.warn, "warning: %s\n", more)
+		}
+	}
 	if err != nil {
 		return nil, err
 	}
@@ -482,13 +508,13 @@ func jobInputs(j *jobconfig.Job) []outset.Keep {
 // countObservationRows counts the data rows of the observation files and
 // of the inputs given as readers, which must then be seekable: they are
 // read again by the run.
-func countObservationRows(paths []string, inputs []job.Source, obsIn observationInput) (int, error) {
+func countObservationRows(paths []string, inputs []job.Source, obsIn observationInput, lim obsfile.Limits) (int, error) {
 	n := 0
 	for _, path := range paths {
 		if path == stdinArg {
 			// standard input, copied to a file by runReduce: counted here
 			// and read again by the run
-			k, err := countAndRewind(stdinName, obsIn.stdin)
+			k, err := countAndRewind(stdinName, obsIn.stdin, lim)
 			if err != nil {
 				return 0, err
 			}
@@ -499,10 +525,10 @@ func countObservationRows(paths []string, inputs []job.Source, obsIn observation
 		if err != nil {
 			return 0, err
 		}
-		k, err := obsfile.CountRows(f)
+		k, err := obsfile.CountRows(f, path, lim)
 		f.Close()
 		if err != nil {
-			return 0, fmt.Errorf("%s: %w", path, err)
+			return 0, err
 		}
 		n += k
 	}
@@ -511,7 +537,7 @@ func countObservationRows(paths []string, inputs []job.Source, obsIn observation
 		if !ok {
 			return 0, fmt.Errorf("%s: job_alpha needs to count the rows before the run, and this input cannot be read twice", src.Name)
 		}
-		k, err := countAndRewind(src.Name, rs)
+		k, err := countAndRewind(src.Name, rs, lim)
 		if err != nil {
 			return 0, err
 		}
@@ -521,13 +547,13 @@ func countObservationRows(paths []string, inputs []job.Source, obsIn observation
 }
 
 // countAndRewind counts the data rows of rs and seeks back to its start.
-func countAndRewind(name string, rs io.ReadSeeker) (int, error) {
+func countAndRewind(name string, rs io.ReadSeeker, lim obsfile.Limits) (int, error) {
 	if rs == nil || rs == (*os.File)(nil) {
 		return 0, fmt.Errorf("%s: job_alpha needs to count the rows before the run, and this input cannot be read twice", name)
 	}
-	k, err := obsfile.CountRows(rs)
+	k, err := obsfile.CountRows(rs, name, lim)
 	if err != nil {
-		return 0, fmt.Errorf("%s: %w", name, err)
+		return 0, err
 	}
 	if _, err := rs.Seek(0, io.SeekStart); err != nil {
 		return 0, fmt.Errorf("%s: %w", name, err)

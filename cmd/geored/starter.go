@@ -385,6 +385,15 @@ ppm = 5
 # pressure_hpa = 1013.25
 # humidity_pct = 60
 
+# [limits]: what geored takes from any one input file at most, so that a
+# broken or hostile file ends with a clear error in bounded memory. The
+# defaults are far beyond any real file.
+# [limits]
+# max_line_bytes = 1048576     # longest line, bytes
+# max_field_bytes = 65536      # longest field, bytes
+# max_columns = 1000           # widest header, columns
+# max_points = 1000000         # most points in the points file
+
 # [centring]: σ of setting up and of the heights. Defaults: 0 mm, and the
 # values shown for zenith_arcsec and refraction_k_sigma.
 # [centring]

@@ -35,6 +35,8 @@ type File struct {
 	Atmosphere *Atmosphere           `toml:"default_atmosphere"`
 	Centring   Centring              `toml:"centring"`
 	Instrument map[string]Instrument `toml:"instrument"`
+
+	Limits Limits `toml:"limits"` // what the readers take of a file at most
 }
 
 // Tolerance is the job's acceptance limit for a residual: a named accuracy

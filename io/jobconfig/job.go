@@ -9,6 +9,7 @@ import (
 
 	"github.com/golang/geo/s1"
 
+	"github.com/geored/geored/io/obsfile"
 	"github.com/geored/geored/io/units"
 	"github.com/geored/geored/reduce"
 )
@@ -77,6 +78,9 @@ type Job struct {
 	Profiles          map[string]Profile
 	DefaultInstrument string
 	Workers           int
+
+	// Limits bound what the readers take of any one input file.
+	Limits obsfile.Limits
 }
 
 // Profile is one instrument profile, ready for the chain.
@@ -171,6 +175,7 @@ func ResolveFor(f File, name string, need Needs) (*Job, error) {
 		pr.bad("workers", "%d: want 0 (all cores) or a positive count", f.Workers)
 	}
 	j.resolveTolerance(f.Tolerance, pr)
+	j.resolveLimits(f.Limits, pr)
 	if f.Atmosphere != nil {
 		a, ok := atmosphere(*f.Atmosphere, "default_atmosphere", pr)
 		j.DefaultAtmosphere, j.HasDefaultAtmosphere = a, ok

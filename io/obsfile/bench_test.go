@@ -123,7 +123,7 @@ func BenchmarkCountRows(b *testing.B) {
 	data := benchObservations()
 	rows := 0
 	for b.Loop() {
-		n, err := CountRows(bytes.NewReader(data))
+		n, err := CountRows(bytes.NewReader(data), "bench.csv", Limits{})
 		if err != nil {
 			b.Fatal(err)
 		}

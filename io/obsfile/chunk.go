@@ -22,7 +22,8 @@ type ObsChunker struct {
 
 // maxChunk bounds a chunk, in case a broken quote makes the rest of the
 // file look like one field: the chunk's reader then reports the broken
-// quote. No row of an observation file comes near it.
+// quote. The rowLimiter under the chunker stops a row long before, at
+// Limits.MaxLineBytes, unless that is set higher.
 const maxChunk = 64 << 20
 
 // NewObsChunker reads the header as NewObsReader does, with its warnings
@@ -32,7 +33,9 @@ func NewObsChunker(r io.Reader, file string, opt ObsOptions) (*ObsChunker, []War
 	if err != nil {
 		return nil, warnings, err
 	}
-	// The header has been read through its last line break.
+	// The header has been read through its last line break. The rows
+	// are followed here: the limiter under them need follow only lines.
+	o.t.limiter.fast = true
 	return &ObsChunker{head: o, line: o.t.afterHeader}, warnings, nil
 }
 
@@ -45,10 +48,11 @@ func (c *ObsChunker) Next(buf []byte, size int) (data []byte, firstLine int, err
 	if c.eof {
 		return data, firstLine, io.EOF
 	}
-	br := c.head.t.br
+	br, max := c.head.t.br, c.head.t.limiter.max
 	inQuote := false // inside a quoted field
 	lineStart := true
 	comment := false // the line being read is a comment
+	rowStart, rowLine := 0, c.line
 	for {
 		line, err := br.ReadSlice('\n')
 		data = append(data, line...)
@@ -57,9 +61,16 @@ func (c *ObsChunker) Next(buf []byte, size int) (data []byte, firstLine int, err
 		// comment line's quotes do not count.
 		if lineStart {
 			comment = !inQuote && len(line) > 0 && line[0] == '#'
+			if !inQuote {
+				rowStart, rowLine = len(data)-len(line), c.line
+			}
 		}
 		if !comment && bytes.Count(line, []byte{'"'})%2 == 1 {
 			inQuote = !inQuote
+		}
+		if inQuote && len(data)-rowStart > max {
+			// One line is bounded by the limiter; rows of many, here.
+			return data, firstLine, rowTooLong(c.head.t.file, rowLine, c.line, max)
 		}
 		lineStart = err == nil
 		switch {
@@ -72,7 +83,7 @@ func (c *ObsChunker) Next(buf []byte, size int) (data []byte, firstLine int, err
 			}
 			return data, firstLine, nil
 		case errors.Is(err, bufio.ErrBufferFull):
-			continue // a very long line: read on
+			continue // a long line: read on (the rowLimiter bounds it)
 		default:
 			return data, firstLine, c.head.t.csvError(err)
 		}
@@ -112,6 +123,7 @@ type plainRows struct {
 	s       string // what is left to read
 	line    int    // lines read
 	rowLine int    // line of the row last returned
+	lastLen int    // length of its line (table.checkFields)
 	rec     []string
 }
 
@@ -130,7 +142,7 @@ func (p *plainRows) Read() ([]string, error) {
 		if ln == "" || ln[0] == '#' {
 			continue
 		}
-		p.rowLine = p.line
+		p.rowLine, p.lastLen = p.line, len(ln)
 		p.rec = p.rec[:0]
 		for {
 			i := strings.IndexByte(ln, ',')

@@ -29,7 +29,7 @@ func TestCountRows(t *testing.T) {
 		{"quoted comma and quotes", "\"A,\"\"1\"\"\",B,100,90\n", 1},
 		{"long row", "A,B,100,90" + strings.Repeat(" ", 200<<10) + "\nB,A,100,90\n", 2},
 	} {
-		n, err := CountRows(strings.NewReader(header + c.body))
+		n, err := CountRows(strings.NewReader(header+c.body), "obs.csv", Limits{})
 		require.NoError(t, err, c.name)
 		assert.Equal(t, c.want, n, c.name)
 		r, _, err := NewObsReader(strings.NewReader(header+c.body), "obs.csv", ObsOptions{LengthUnit: units.Metre, AngleUnit: units.Degrees})

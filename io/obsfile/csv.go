@@ -18,7 +18,9 @@ import (
 type table struct {
 	file string
 	br   *bufio.Reader // under r, positioned after the rows read
-	r    rowReader
+	// limiter, under br, bounds the file's rows (Limits.MaxLineBytes).
+	limiter *rowLimiter
+	r       rowReader
 	// lineOffset is added to r's line numbers: the line before the first
 	// row r reads, when r reads a chunk of the file (ObsChunker).
 	lineOffset int
@@ -29,19 +31,28 @@ type table struct {
 	// headerLine is the line of the header row, afterHeader the line
 	// after it (further on if quoted names hold line breaks).
 	headerLine, afterHeader int
+	maxField                int // Limits.MaxFieldBytes
 }
 
 const bom = "\uFEFF"
 
-// openTable reads the header. known lists the columns the caller
-// understands; any other column is one warning.
-func openTable(r io.Reader, file string, known []string) (*table, []Warning, error) {
-	br := bufio.NewReaderSize(r, 64<<10)
+// maxUnknownWarnings is how many unknown columns get a warning each; the
+// rest are one warning that counts them.
+const maxUnknownWarnings = 5
+
+// openTable reads the header, within lim (already OrDefault). known
+// lists the columns the caller understands; each of the first five
+// others is one warning, and any more are one warning that counts them.
+func openTable(r io.Reader, file string, known []string, lim Limits) (*table, []Warning, error) {
+	limiter := limitedInput(r, file, lim)
+	br := bufio.NewReaderSize(limiter, 64<<10)
 	if b, err := br.Peek(len(bom)); err == nil && string(b) == bom {
 		br.Discard(len(bom))
 	}
 	cr := newCSVReader(br)
-	t := &table{file: file, br: br, r: cr, col: map[string]int{}}
+	t := &table{file: file, br: br, limiter: limiter, r: cr, col: map[string]int{}, maxField: lim.MaxFieldBytes}
+	// The header row is at most MaxLineBytes (the rowLimiter), so
+	// encoding/csv holds at most that and a string per column of it.
 	header, err := cr.Read()
 	if errors.Is(err, io.EOF) {
 		return nil, nil, &HeaderError{File: file, Line: 1, Reason: "the file is empty: want a header row"}
@@ -50,12 +61,19 @@ func openTable(r io.Reader, file string, known []string) (*table, []Warning, err
 		return nil, nil, t.csvError(err)
 	}
 	t.line, _ = cr.FieldPos(0)
+	if len(header) > lim.MaxColumns {
+		return nil, nil, &LimitError{File: file, Line: t.line, What: fmt.Sprintf("the header's %s columns", groupDigits(len(header))), Max: lim.MaxColumns, Unit: "columns", Key: LimitColumnKey}
+	}
 	t.headerLine, t.afterHeader = t.line, t.line+1
-	for _, h := range header {
+	for i, h := range header {
 		t.afterHeader += strings.Count(h, "\n")
+		if len(h) > lim.MaxFieldBytes {
+			return nil, nil, &LimitError{File: file, Line: t.line, What: fmt.Sprintf("the name of column %d (%s bytes)", i+1, groupDigits(len(h))), Max: lim.MaxFieldBytes, Unit: "bytes", Key: LimitFieldKey}
+		}
 	}
 	t.header = slices.Clone(header)
 	var warnings []Warning
+	var unknown []int // columns past the first warnings
 	for i, h := range t.header {
 		name := strings.ToLower(strings.TrimSpace(h))
 		t.header[i] = name
@@ -63,12 +81,20 @@ func openTable(r io.Reader, file string, known []string) (*table, []Warning, err
 			return nil, nil, &HeaderError{File: file, Line: t.line, Reason: fmt.Sprintf("column %d has no name", i+1)}
 		}
 		if j, dup := t.col[name]; dup {
-			return nil, nil, &HeaderError{File: file, Line: t.line, Reason: fmt.Sprintf("column %q appears twice (columns %d and %d)", name, j+1, i+1)}
+			return nil, nil, &HeaderError{File: file, Line: t.line, Reason: fmt.Sprintf("column %q appears twice (columns %d and %d)", Clip(name), j+1, i+1)}
 		}
 		t.col[name] = i
-		if !slices.Contains(known, name) {
-			warnings = append(warnings, Warning{File: file, Line: t.line, Text: fmt.Sprintf("unknown column %q (column %d) is ignored; known columns: %s", name, i+1, strings.Join(known, ", "))})
+		if slices.Contains(known, name) {
+			continue
 		}
+		if len(warnings) < maxUnknownWarnings {
+			warnings = append(warnings, Warning{File: file, Line: t.line, Text: fmt.Sprintf("unknown column %q (column %d) is ignored; known columns: %s", Clip(name), i+1, strings.Join(known, ", "))})
+		} else {
+			unknown = append(unknown, i+1)
+		}
+	}
+	if n := len(unknown); n > 0 {
+		warnings = append(warnings, Warning{File: file, Line: t.line, Text: fmt.Sprintf("%s more unknown columns (columns %d to %d) are ignored", groupDigits(n), unknown[0], unknown[n-1])})
 	}
 	return t, warnings, nil
 }
@@ -106,7 +132,7 @@ func (t *table) require(names ...string) error {
 		}
 	}
 	if len(missing) > 0 {
-		return &HeaderError{File: t.file, Line: t.line, Reason: fmt.Sprintf("missing required column(s) %s; found %s", strings.Join(missing, ", "), strings.Join(t.header, ", "))}
+		return &HeaderError{File: t.file, Line: t.line, Reason: fmt.Sprintf("missing required column(s) %s; found %s", strings.Join(missing, ", "), Clip(strings.Join(t.header, ", ")))}
 	}
 	return nil
 }
@@ -176,6 +202,9 @@ func (t *table) next() error {
 			return t.csvError(err)
 		}
 		t.line, _ = t.fieldPos(0)
+		if err := t.checkFields(row); err != nil {
+			return err
+		}
 		blank := true
 		for _, f := range row {
 			if strings.TrimSpace(f) != "" {
@@ -192,6 +221,29 @@ func (t *table) next() error {
 		}
 		return nil
 	}
+}
+
+// checkFields refuses a row with a field longer than maxField. A row
+// split by plainRows is looked at only when its line is longer.
+func (t *table) checkFields(row []string) error {
+	if p, ok := t.r.(*plainRows); ok && p.lastLen <= t.maxField {
+		return nil
+	}
+	for i, f := range row {
+		if len(f) > t.maxField {
+			line, _ := t.fieldPos(i)
+			return &LimitError{File: t.file, Line: line, What: fmt.Sprintf("field %d (%s bytes)", i+1, groupDigits(len(f))), Max: t.maxField, Unit: "bytes", Key: LimitFieldKey}
+		}
+	}
+	return nil
+}
+
+// stopsFile reports whether err is the rowLimiter's (a *LimitError or a
+// *LineEndError), which names the file and the line already.
+func stopsFile(err error) bool {
+	var le *LimitError
+	var ee *LineEndError
+	return errors.As(err, &le) || errors.As(err, &ee)
 }
 
 // get returns the trimmed value of a column in the current row ("" when the
@@ -244,10 +296,21 @@ func joinCSV(fields []string) string {
 	return strings.TrimRight(b.String(), "\n")
 }
 
+// csvError is a reading error as the file's: encoding/csv's with the
+// file's line (the line where the row began, for a quoted field never
+// closed: where the quote opened, not the end of the file), and the
+// rowLimiter's as they are.
 func (t *table) csvError(err error) error {
 	var pe *csv.ParseError
 	if errors.As(err, &pe) {
+		if errors.Is(pe.Err, csv.ErrQuote) && pe.StartLine != pe.Line {
+			start := pe.StartLine + t.lineOffset
+			return &FieldError{File: t.file, Line: start, Want: fmt.Sprintf("well-formed CSV: a quoted field opened in the row that begins on line %d is never closed, or text follows its closing quote (read on to line %d, column %d: %v)", start, pe.Line+t.lineOffset, pe.Column, pe.Err), Err: err}
+		}
 		return &FieldError{File: t.file, Line: pe.Line + t.lineOffset, Column: pe.Column, Want: "well-formed CSV: " + pe.Err.Error(), Err: err}
+	}
+	if stopsFile(err) {
+		return err
 	}
 	return fmt.Errorf("%s: %w", t.file, err)
 }

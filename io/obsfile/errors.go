@@ -11,7 +11,7 @@ type FieldError struct {
 	Line   int    // 1-based line of the file
 	Column int    // 1-based column (field number); 0 when the row as a whole is bad
 	Field  string // the column's header name
-	Value  string // the value as written
+	Value  string // the value as written (Error shows it Clipped)
 	Want   string // what was expected
 	Err    error  // the underlying cause, if any
 }
@@ -24,7 +24,7 @@ func (e *FieldError) Error() string {
 	if e.Field == "" {
 		return fmt.Sprintf("%s: want %s", where, e.Want)
 	}
-	return fmt.Sprintf("%s: %s %q: want %s", where, e.Field, e.Value, e.Want)
+	return fmt.Sprintf("%s: %s %q: want %s", where, Clip(e.Field), Clip(e.Value), e.Want)
 }
 
 func (e *FieldError) Unwrap() error { return e.Err }

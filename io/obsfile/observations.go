@@ -56,6 +56,7 @@ type Weather struct {
 type ObsOptions struct {
 	LengthUnit units.LengthUnit // slope distance and heights
 	AngleUnit  units.AngleUnit  // zenith angle
+	Limits     Limits           // zero fields: DefaultLimits
 }
 
 // Observation file columns.
@@ -108,7 +109,7 @@ func NewObsReader(r io.Reader, file string, opt ObsOptions) (*ObsReader, []Warni
 	if opt.LengthUnit == 0 || opt.AngleUnit == 0 {
 		return nil, nil, fmt.Errorf("%s: observation units not set", file)
 	}
-	t, warnings, err := openTable(r, file, obsColumns)
+	t, warnings, err := openTable(r, file, obsColumns, opt.Limits.OrDefault())
 	if err != nil {
 		return nil, nil, err
 	}

@@ -47,6 +47,9 @@ type PointOptions struct {
 	HeightUnit units.LengthUnit
 	// LatLonUnit is the angle unit of lat and lon (units.Degrees if zero).
 	LatLonUnit units.AngleUnit
+	// Limits bound the file (zero fields: DefaultLimits), MaxPoints its
+	// rows.
+	Limits Limits
 }
 
 // Point file columns.
@@ -64,7 +67,8 @@ func ReadPoints(r io.Reader, file string, opt PointOptions) ([]Point, []Warning,
 	if opt.LatLonUnit == 0 {
 		opt.LatLonUnit = units.Degrees
 	}
-	t, warnings, err := openTable(r, file, pointColumns)
+	lim := opt.Limits.OrDefault()
+	t, warnings, err := openTable(r, file, pointColumns, lim)
 	if err != nil {
 		return nil, nil, err
 	}
@@ -78,12 +82,15 @@ func ReadPoints(r io.Reader, file string, opt PointOptions) ([]Point, []Warning,
 	var pts []Point
 	seen := map[string]int{}
 	err = t.eachRow("points", func() error {
+		if len(pts) == lim.MaxPoints {
+			return &LimitError{File: file, Line: t.line, What: "this point", Max: lim.MaxPoints, Unit: "points", Key: LimitPointsKey}
+		}
 		p, err := t.point(opt, geo, grid)
 		if err != nil {
 			return err
 		}
 		if first, dup := seen[p.ID]; dup {
-			return t.fieldError("id", fmt.Sprintf("a unique id; %q is already on line %d", p.ID, first), nil)
+			return t.fieldError("id", fmt.Sprintf("a unique id; %q is already on line %d", Clip(p.ID), first), nil)
 		}
 		seen[p.ID] = p.Line
 		pts = append(pts, p)
@@ -121,7 +128,7 @@ func (t *table) point(opt PointOptions, geo, grid bool) (Point, error) {
 		p.HasGrid = true
 	}
 	if !p.HasLatLng && !p.HasGrid {
-		return p, &FieldError{File: t.file, Line: t.line, Want: fmt.Sprintf("point %q: lat and lon, or easting and northing", p.ID)}
+		return p, &FieldError{File: t.file, Line: t.line, Want: fmt.Sprintf("point %q: lat and lon, or easting and northing", Clip(p.ID))}
 	}
 	if p.EllipsoidHeight, p.HasEllipsoidHeight, err = t.optionalLength("ellipsoid_height", opt.HeightUnit); err != nil {
 		return p, err

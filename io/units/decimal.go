@@ -2,19 +2,62 @@ package units
 
 import "strconv"
 
-// ParseFloat is strconv.ParseFloat(s, 64), bit for bit and error for
-// error, with a short road for what observation files hold: an optional
+// ParseFloat reads a number in decimal syntax only — an optional sign,
+// digits with an optional decimal point, an optional exponent e or E
+// with an optional sign and digits — as strconv.ParseFloat(s, 64) does,
+// bit for bit and error for error. What strconv takes beyond that is a
+// syntax error here (a *strconv.NumError): hexadecimal floats (0x1p9,
+// which strconv reads as 512), underscores, Inf, Infinity and NaN, none
+// of which a surveyor's file means as a number.
+//
+// It has a short road for what observation files hold: an optional
 // sign, at most 19 digits and an optional decimal point. When the digits
 // make an integer m ≤ 2^53 and there are f ≤ 22 of them after the point,
 // m and 10^f are exact doubles and the one division m / 10^f is
 // correctly rounded, as strconv's own exact case is (Clinger, "How to
 // read floating point numbers accurately", PLDI 1990). Anything else
-// (exponents, more digits, spaces, words) goes to strconv.
+// (exponents, more digits, spaces, words) is checked for decimal syntax
+// and goes to strconv.
 func ParseFloat(s string) (float64, error) {
 	if v, ok := parseShortDecimal(s); ok {
 		return v, nil
 	}
+	if !decimalSyntax(s) {
+		return 0, &strconv.NumError{Func: "ParseFloat", Num: s, Err: strconv.ErrSyntax}
+	}
 	return strconv.ParseFloat(s, 64)
+}
+
+// decimalSyntax reports whether s is [+-]digits[.digits][(e|E)[+-]digits],
+// with digits on at least one side of the point.
+func decimalSyntax(s string) bool {
+	i := 0
+	if i < len(s) && (s[i] == '+' || s[i] == '-') {
+		i++
+	}
+	start := i
+	i, _ = appendDigits(s, i, 0)
+	mantissa := i - start
+	if i < len(s) && s[i] == '.' {
+		j, _ := appendDigits(s, i+1, 0)
+		mantissa += j - i - 1
+		i = j
+	}
+	if mantissa == 0 {
+		return false
+	}
+	if i < len(s) && (s[i] == 'e' || s[i] == 'E') {
+		i++
+		if i < len(s) && (s[i] == '+' || s[i] == '-') {
+			i++
+		}
+		j, _ := appendDigits(s, i, 0)
+		if j == i {
+			return false
+		}
+		i = j
+	}
+	return i == len(s)
 }
 
 // exactPow10 are the powers of ten that a double holds exactly.

@@ -4,20 +4,52 @@ import (
 	"math"
 	"math/rand/v2"
 	"strconv"
+	"strings"
 	"testing"
+
+	"github.com/stretchr/testify/require"
 )
 
 // sameAsStrconv checks ParseFloat against Go's strconv.ParseFloat, the
-// correctly rounded reference: the same bits, or an error from both.
+// correctly rounded reference: the same bits, or an error from both —
+// except that what is not decimal syntax (notDecimal) must be an error.
 func sameAsStrconv(t *testing.T, s string) {
 	t.Helper()
 	got, gotErr := ParseFloat(s)
 	want, wantErr := strconv.ParseFloat(s, 64)
+	if notDecimal(s) {
+		wantErr = strconv.ErrSyntax
+	}
 	if (gotErr != nil) != (wantErr != nil) {
 		t.Fatalf("ParseFloat(%q): error %v, strconv: %v", s, gotErr, wantErr)
 	}
 	if wantErr == nil && math.Float64bits(got) != math.Float64bits(want) {
 		t.Fatalf("ParseFloat(%q) = %v (%#x), strconv: %v (%#x)", s, got, math.Float64bits(got), want, math.Float64bits(want))
+	}
+}
+
+// notDecimal reports whether strconv.ParseFloat would take s as
+// something other than decimal syntax: a hexadecimal float, an
+// underscore, an infinity or a NaN (written independently of
+// decimalSyntax, as the opposite test).
+func notDecimal(s string) bool {
+	l := strings.ToLower(s)
+	return strings.ContainsAny(l, "x_") || strings.Contains(l, "inf") || strings.Contains(l, "nan")
+}
+
+// What strconv takes and a surveyor's file never means: every one is a
+// syntax error, and none reaches a reduction as a number (0x1p9 was a
+// 512 m slope distance and an easting before ParseFloat refused it).
+func TestParseFloatDecimalOnly(t *testing.T) {
+	for _, s := range []string{"0x1p9", "0X1P9", "-0x1.8p1", "0x10", "0x_1p0", "0x1_0p0", "1_000", "Inf", "+Inf", "-inf",
+		"infinity", "NaN", "nan", "1e", "1e+", "e5", ".", ".e1", "1.5.", "1,5", " 1", "1 ", "١٢"} {
+		_, err := ParseFloat(s)
+		require.ErrorIs(t, err, strconv.ErrSyntax, "ParseFloat(%q)", s)
+	}
+	for s, want := range map[string]float64{"1e3": 1000, "1.5E-3": 0.0015, "+2.": 2, "-.25e+1": -2.5, "000123.4500": 123.45} {
+		got, err := ParseFloat(s)
+		require.NoError(t, err, s)
+		require.Equal(t, want, got, s) // exact: each is a correctly rounded decimal
 	}
 }
 

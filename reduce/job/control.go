@@ -83,7 +83,7 @@ func ResolveControl(points []obsfile.Point, file string, p *geodesic.Projector, 
 	for _, pt := range points {
 		c, err := resolve(pt, p, seps)
 		if err != nil {
-			return nil, fmt.Errorf("%s:%d: point %q: %w", file, pt.Line, pt.ID, err)
+			return nil, fmt.Errorf("%s:%d: point %q: %w", file, pt.Line, obsfile.Clip(pt.ID), err)
 		}
 		out[pt.ID] = c
 	}

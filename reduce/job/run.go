@@ -132,7 +132,7 @@ func NewPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, control 
 		c := control[id]
 		m, ok, err := markHeight(c, j.Datum)
 		if err != nil {
-			return nil, fmt.Errorf("point %q (line %d): %w", id, c.Line, err)
+			return nil, fmt.Errorf("point %q (line %d): %w", obsfile.Clip(id), c.Line, err)
 		}
 		p.index[id] = int32(len(p.points))
 		p.points = append(p.points, planPoint{hasMark: ok, mark: m, ll: c.LatLng, grid: c.Grid, scale: c.Scale, hasScale: c.HasScale})
@@ -343,7 +343,7 @@ func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Wa
 // reading a source's rows travels with its chunk, in order; an error in
 // its header stops here.
 func readAll(ctx context.Context, sources []Source, plan *Plan, warn func(obsfile.Warning), todo chan<- *batch, free chan *batch) error {
-	opt := obsfile.ObsOptions{LengthUnit: plan.Job.LengthUnit, AngleUnit: plan.Job.AngleUnit}
+	opt := obsfile.ObsOptions{LengthUnit: plan.Job.LengthUnit, AngleUnit: plan.Job.AngleUnit, Limits: plan.Job.Limits}
 	var seq int64
 	for _, src := range sources {
 		c, warnings, err := obsfile.NewObsChunker(src.Reader, src.Name, opt)
@@ -437,7 +437,7 @@ func reduceOne(plan *Plan, p *geodesic.Projector, r *Result, readErr error) {
 		if name == "" {
 			reject(where.String() + ": no instrument column and no default_instrument in the job")
 		} else {
-			reject(fmt.Sprintf("%s: instrument %q has no [instrument.%s] profile in the job", where, name, name))
+			reject(fmt.Sprintf("%s: instrument %q has no [instrument.%s] profile in the job", where, obsfile.Clip(name), obsfile.Clip(name)))
 		}
 		return
 	}
@@ -446,17 +446,17 @@ func reduceOne(plan *Plan, p *geodesic.Projector, r *Result, readErr error) {
 	ib, okB := plan.index[o.To]
 	switch {
 	case !okA:
-		reject(fmt.Sprintf("%s: station %q is not in the points file", where, o.From))
+		reject(fmt.Sprintf("%s: station %q is not in the points file", where, obsfile.Clip(o.From)))
 		return
 	case !okB:
-		reject(fmt.Sprintf("%s: target %q is not in the points file", where, o.To))
+		reject(fmt.Sprintf("%s: target %q is not in the points file", where, obsfile.Clip(o.To)))
 		return
 	}
 	a, b := &plan.points[ia], &plan.points[ib]
 	o.From, o.To = plan.ids[ia], plan.ids[ib] // the plan's strings: the row's may go
 	r.Points = [2]int32{ia, ib}
 	if !a.hasMark {
-		reject(fmt.Sprintf("%s: station %q has no height on the reduction datum (%s)", where, o.From, plan.Job.Datum))
+		reject(fmt.Sprintf("%s: station %q has no height on the reduction datum (%s)", where, obsfile.Clip(o.From), plan.Job.Datum))
 		return
 	}
 	markA, markB := a.mark, b.mark // markB zero: the target's height comes from the zenith angle
