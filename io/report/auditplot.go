@@ -17,7 +17,13 @@ import (
 // auditPlot draws each delivered value's |misclosure| (distances: the
 // residual's size; vectors: the 3-D misclosure; loops: the loop's) in mm
 // against the control length, with the tolerance at each length: a point
-// above the curve fails. Nil when there is nothing to plot.
+// above the curve fails. The misclosure axis is logarithmic, from
+// plotFloorMM, so that a millimetre and a metre show on one plot. Nil when
+// there is nothing to plot.
+// plotFloorMM is the foot of the audit plot's misclosure axis: a smaller
+// misclosure is drawn on it.
+const plotFloorMM = 0.1
+
 func auditPlot(s *AuditSummary, tolerance func(float64) float64) ([]byte, error) {
 	var ok, bad, loops plotter.XYs
 	maxX, maxY := 0.0, 0.0
@@ -25,7 +31,7 @@ func auditPlot(s *AuditSummary, tolerance func(float64) float64) ([]byte, error)
 		if !finite(r.Reference) || !finite(r.Residual) {
 			continue
 		}
-		pt := plotter.XY{X: r.Reference, Y: math.Abs(r.Residual) * 1e3}
+		pt := plotter.XY{X: r.Reference, Y: math.Max(math.Abs(r.Residual)*1e3, plotFloorMM)}
 		if r.Pass {
 			ok = append(ok, pt)
 		} else {
@@ -34,7 +40,7 @@ func auditPlot(s *AuditSummary, tolerance func(float64) float64) ([]byte, error)
 		maxX, maxY = math.Max(maxX, pt.X), math.Max(maxY, pt.Y)
 	}
 	for _, l := range s.Loops {
-		loops = append(loops, plotter.XY{X: l.Length, Y: l.MM})
+		loops = append(loops, plotter.XY{X: l.Length, Y: math.Max(l.MM, plotFloorMM)})
 		maxX, maxY = math.Max(maxX, l.Length), math.Max(maxY, l.MM)
 	}
 	if len(ok)+len(bad)+len(loops) == 0 {
@@ -48,13 +54,14 @@ func auditPlot(s *AuditSummary, tolerance func(float64) float64) ([]byte, error)
 		*ts.font = font.From(plotSansFont, ts.size)
 	}
 	p.X.Label.Text = "control length (m)"
-	p.Y.Label.Text = "|misclosure| (mm)"
+	p.Y.Label.Text = "|misclosure| (mm, logarithmic)"
 	p.X.Tick.Marker = plot.TickerFunc(fixedTicks)
-	p.Y.Tick.Marker = plot.TickerFunc(fixedTicks)
+	p.Y.Scale = plot.LogScale{}
+	p.Y.Tick.Marker = plot.LogTicks{Prec: -1}
 	p.Add(plotter.NewGrid())
 	p.X.Min, p.X.Max = 0, maxX*1.05
 	tolMax := tolerance(maxX*1.05) * 1e3
-	p.Y.Min, p.Y.Max = 0, math.Max(maxY, tolMax)*1.1
+	p.Y.Min, p.Y.Max = plotFloorMM, math.Max(maxY, tolMax)*2
 	tol := plotter.NewFunction(func(d float64) float64 { return tolerance(d) * 1e3 })
 	tol.Samples = 50
 	tol.Color = plotFitColor
