@@ -29,6 +29,7 @@ type command struct {
 func commands() []command {
 	return []command{
 		{"reduce", "reduce observation files and compare with control", runReduce},
+		{"audit", "accept or reject delivered distances and GNSS vectors, line by line, and say why", runAudit},
 		{"inverse", "geodesic and grid inverse between control points", runInverse},
 		{"predict", "expected slope distance, zenith angle and horizontal distance from control", runPredict},
 		{"sightline", "whether a line of sight clears the curved Earth, with refraction", runSightline},

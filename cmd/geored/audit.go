@@ -1,0 +1,396 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"crypto/sha256"
+	"encoding/csv"
+	"encoding/hex"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+
+	"github.com/geored/geored/io/baselines"
+	"github.com/geored/geored/io/jobconfig"
+	"github.com/geored/geored/io/obsfile"
+	"github.com/geored/geored/io/outset"
+	"github.com/geored/geored/io/report"
+	"github.com/geored/geored/reduce/audit"
+	"github.com/geored/geored/reduce/job"
+)
+
+const defaultAuditOut = "geored-audit"
+
+func runAudit(args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("audit", flag.ContinueOnError)
+	var jf jobFlags
+	jf.register(fs)
+	quiet := fs.Bool("quiet", false, "print nothing but errors")
+	fs.Usage = func() {
+		fmt.Fprint(stderr, `Usage: geored audit [flags] baselines.csv ...
+
+Checks a subcontractor's delivered baselines line by line against the
+control points of the job (-config job.toml with crs, points and
+[tolerance], or the flags): every delivered distance against the control
+distance of its own kind, every GNSS vector's end against its end mark,
+every independent loop of the vectors, repeated baselines, and lines
+delivered both as a distance and a vector. A value that fails, or differs
+by more than its σ allows, is matched against the usual reduction errors
+and the one that fits is named. Writes to the output folder (-out, default
+geored-audit): audit.csv (a row per delivered value with every check),
+loops.csv, rejects.csv, summary.json and report.html.
+
+Baselines CSV columns: from, to, kind (grid, ellipsoid, ground, sea-level
+or vector); distance and sigma for a distance; dx, dy, dz (geocentric, the
+CRS datum's frame, start to end mark) with sigma_x, sigma_y, sigma_z or
+cov_xx, cov_xy, cov_xz, cov_yy, cov_yz, cov_zz for a vector; optional id,
+applied_ppm (ppm) and applied_prism_constant_mm (mm), which let the audit
+test whether either was applied twice. Lengths in the job's length_unit,
+covariances in its square.
+
+Kinds: grid is the plane distance between the projected marks; ellipsoid
+the geodesic; ground the horizontal distance at the marks' mean ellipsoidal
+height, s·(R + h_m)/R; sea-level the distance on the geoid, s·(R + N_m)/R.
+
+Exit status: 0 every delivered value and loop passes and no row was
+rejected; 1 some fail or were rejected (the reasons go to stderr); 2 could
+not run (bad flags, settings or files, or no value could be checked).
+
+Flags:
+`)
+		fs.PrintDefaults()
+		fmt.Fprintln(stderr, "\n"+cautionText)
+	}
+	if err := fs.Parse(args); err != nil {
+		if errors.Is(err, flag.ErrHelp) {
+			return exitOK
+		}
+		return exitFailed
+	}
+	j, err := jf.resolve(fs)
+	if err != nil {
+		return fail(stderr, "audit", err)
+	}
+	if j.Out == "" {
+		j.Out = defaultAuditOut
+	}
+	sum, err := auditJob(j, jf.config, fs.Args(), !*quiet, stderr)
+	if err != nil {
+		return fail(stderr, "audit", err)
+	}
+	if !*quiet {
+		printAuditVerdict(stdout, sum, j.Out)
+	}
+	if sum.ExitStatus != exitOK {
+		fmt.Fprintf(stderr, "geored audit: exit status %d, %s\n", sum.ExitStatus, sum.Verdict)
+		for _, r := range sum.Reasons {
+			fmt.Fprintf(stderr, "  %s\n", r)
+		}
+	}
+	return sum.ExitStatus
+}
+
+// auditJob audits the baselines files against the job's control and
+// writes the outputs.
+func auditJob(j *jobconfig.Job, jobFile string, files []string, verbose bool, stderr io.Writer) (*report.AuditSummary, error) {
+	if !j.HasTolerance {
+		return nil, errors.New("the job has no tolerance: give [tolerance] class, or constant_mm and ppm (or -tolerance)")
+	}
+	if j.Points == "" {
+		return nil, errors.New("no points file: give points in the config or -points")
+	}
+	if len(files) == 0 {
+		return nil, errors.New("no baselines file: name one or more after the flags")
+	}
+	s, err := openJobSession(j)
+	if err != nil {
+		return nil, err
+	}
+	defer s.close()
+	sum := &report.AuditSummary{Tool: "geored", Version: version(), ProjVersion: projVersion(), Caution: report.Caution,
+		Tolerance: j.ToleranceText, Critical: j.Critical, CRS: j.CRS, CRSName: s.crs.Name(),
+		Ellipsoid: s.crs.Ellipsoid().String(), Geoid: s.geoidGrid, LengthUnit: j.LengthUnit.String()}
+	if s.geoidGrid == "none" && j.HasConstantN {
+		sum.Geoid = fmt.Sprintf("constant N = %g m", j.ConstantN)
+	}
+	warn := func(text string) {
+		sum.Warnings = append(sum.Warnings, text)
+		if verbose {
+			fmt.Fprintf(stderr, "warning: %s\n", text)
+		}
+	}
+	pointsData, err := os.ReadFile(j.Points)
+	if err != nil {
+		return nil, err
+	}
+	nPoints, err := s.loadPoints(bytes.NewReader(pointsData), j.Points, func(w obsfile.Warning) { warn(w.String()) })
+	if err != nil {
+		return nil, err
+	}
+	sum.Inputs = append(sum.Inputs, inputFile("points", j.Points, pointsData, nPoints))
+	settings := audit.Settings{Tolerance: j.Tolerance, ToleranceText: j.ToleranceText, Critical: j.Critical, ControlSigma: controlSigma(j)}
+	sum.ControlSigma = settings.ControlSigma
+
+	var checks []checked
+	for _, path := range files {
+		data, err := os.ReadFile(path)
+		if err != nil {
+			return nil, err
+		}
+		res, err := baselines.Read(bytes.NewReader(data), path, j.LengthUnit)
+		if err != nil {
+			return nil, err
+		}
+		sum.Inputs = append(sum.Inputs, inputFile("baselines", path, data, res.Read))
+		for _, w := range res.Warnings {
+			warn(w.String())
+		}
+		sum.Counts.Read += res.Read
+		for _, r := range res.Rejects {
+			sum.Counts.Rejected++
+			sum.Rejects = append(sum.Rejects, r.Reason)
+		}
+		for i := range res.Baselines {
+			c, err := checkBaseline(s, &res.Baselines[i], settings)
+			if err != nil {
+				sum.Counts.Rejected++
+				sum.Rejects = append(sum.Rejects, err.Error())
+				continue
+			}
+			checks = append(checks, c)
+		}
+	}
+	if err := crossCheck(checks, settings); err != nil {
+		return nil, err
+	}
+	for _, c := range checks {
+		sum.Add(c.row)
+	}
+	if err := addLoops(sum, checks, settings); err != nil {
+		return nil, err
+	}
+	report.DecideAudit(sum)
+	keep := append(jobInputs(j), outset.Keep{Role: "the job file", Path: jobFile})
+	for _, f := range files {
+		keep = append(keep, outset.Keep{Role: "a baselines file", Path: f})
+	}
+	return sum, writeAudit(j, sum, keep, stderr)
+}
+
+// checked is one delivered value and its checks.
+type checked struct {
+	b    *audit.Baseline
+	line audit.LineControl
+	vec  *audit.VectorCheck
+	dist *audit.DistanceCheck
+	row  report.AuditRow
+}
+
+// checkBaseline checks one delivered value against control; an error is
+// a row that cannot be checked (an unknown mark, a height missing).
+func checkBaseline(s *session, b *audit.Baseline, st audit.Settings) (checked, error) {
+	where := fmt.Sprintf("%s:%d", b.File, b.Line)
+	a, ok := s.control[b.From]
+	if !ok {
+		return checked{}, fmt.Errorf("%s: start mark %q is not in the points file %s", where, b.From, s.pointFile)
+	}
+	e, ok := s.control[b.To]
+	if !ok {
+		return checked{}, fmt.Errorf("%s: end mark %q is not in the points file %s", where, b.To, s.pointFile)
+	}
+	c := checked{b: b}
+	if b.IsVector {
+		vc, err := job.AuditVector(b.Vector, a, e, s.geod, s.proj)
+		if err != nil {
+			return c, fmt.Errorf("%s: vector %s → %s: %w", where, b.From, b.To, err)
+		}
+		chk, err := audit.CheckVector(b.Vector, vc, st)
+		if err != nil {
+			return c, fmt.Errorf("%s: vector %s → %s: %w", where, b.From, b.To, err)
+		}
+		c.line, c.vec, c.row = vc.Line, &chk, report.VectorRow(b, &chk)
+		return c, nil
+	}
+	lc, _, err := job.AuditLine(a, e, s.geod, s.proj)
+	if err != nil {
+		return c, fmt.Errorf("%s: line %s → %s: %w", where, b.From, b.To, err)
+	}
+	chk, err := audit.CheckDistance(b.Distance, lc, st)
+	if err != nil {
+		return c, fmt.Errorf("%s: %s %s → %s: %w", where, b.What(), b.From, b.To, err)
+	}
+	c.line, c.dist, c.row = lc, &chk, report.DistanceRow(b, &chk)
+	return c, nil
+}
+
+// crossCheck compares each distance with the first vector delivered
+// between the same marks (either way), taken to the distance's kind.
+func crossCheck(checks []checked, st audit.Settings) error {
+	type pair struct{ a, b string }
+	key := func(a, b string) pair {
+		if a > b {
+			a, b = b, a
+		}
+		return pair{a, b}
+	}
+	vectors := map[pair]*checked{}
+	for i := range checks {
+		if c := &checks[i]; c.vec != nil {
+			if _, ok := vectors[key(c.b.From, c.b.To)]; !ok {
+				vectors[key(c.b.From, c.b.To)] = c
+			}
+		}
+	}
+	for i := range checks {
+		c := &checks[i]
+		v, ok := vectors[key(c.b.From, c.b.To)]
+		if c.dist == nil || !ok {
+			continue
+		}
+		val, err := c.line.FromEllipsoid(c.dist.Kind, v.vec.Ellipsoid, v.vec.Grid)
+		if err != nil {
+			continue // the kind needs what the job lacks; the distance's own check says so
+		}
+		tol, err := st.Tolerance.At(val)
+		if err != nil {
+			return err
+		}
+		c.row.CrossValue, c.row.CrossDiff = val, c.dist.Delivered-val
+		c.row.CrossPass = "pass"
+		if math.Abs(c.row.CrossDiff) > tol {
+			c.row.CrossPass = "fail"
+		}
+	}
+	return nil
+}
+
+// addLoops audits every independent loop of the vectors.
+func addLoops(sum *report.AuditSummary, checks []checked, st audit.Settings) error {
+	var edges []audit.Edge
+	var at []*checked
+	for i := range checks {
+		if c := &checks[i]; c.vec != nil {
+			edges = append(edges, audit.Edge{Index: len(edges), From: c.b.From, To: c.b.To, Delta: c.b.Vector.Delta, Cov: c.b.Vector.Cov})
+			at = append(at, c)
+		}
+	}
+	loops, err := audit.Loops(edges, st)
+	if err != nil {
+		return err
+	}
+	for n, l := range loops {
+		al := report.AuditLoop{Number: n + 1, Repeat: l.Repeat, Length: l.Length, MM: l.MM, PPM: l.PPM, Sigma: l.Sigma,
+			DX: l.Misclosure.X, DY: l.Misclosure.Y, DZ: l.Misclosure.Z, Tolerance: l.Tolerance, Margin: l.Margin, Pass: l.Pass}
+		var marks []string
+		for k, stp := range l.Steps {
+			c := at[stp.Index]
+			from, to, sign := c.b.From, c.b.To, ""
+			if stp.Reversed {
+				from, to, sign = to, from, "−"
+			}
+			if k == 0 {
+				marks = append(marks, from)
+			}
+			marks = append(marks, to)
+			al.Vectors = append(al.Vectors, fmt.Sprintf("%s%s:%d", sign, c.b.File, c.b.Line))
+		}
+		al.Marks = strings.Join(marks, " → ")
+		sum.AddLoop(al)
+	}
+	return nil
+}
+
+// controlSigma is the σ of a distance between control marks from the
+// job's [centring] control_mm, which every profile carries; 0 without a
+// profile.
+func controlSigma(j *jobconfig.Job) float64 {
+	if p, ok := j.Profiles[j.DefaultInstrument]; ok {
+		return p.Chain.Budget.Control
+	}
+	for _, n := range j.ProfileNames() {
+		return j.Profiles[n].Chain.Budget.Control
+	}
+	return 0
+}
+
+func inputFile(role, path string, data []byte, rows int) report.InputFile {
+	h := sha256.Sum256(data)
+	return report.InputFile{Role: role, Path: path, SHA256: hex.EncodeToString(h[:]), Rows: rows}
+}
+
+// auditFiles are the files of audit's output set, besides its manifest.
+var auditFiles = []string{"audit.csv", "loops.csv", "rejects.csv", "summary.json", "report.html"}
+
+// writeAudit writes the outputs as one set (outset), committed together;
+// keep lists the inputs, which the output folder must not hold.
+func writeAudit(j *jobconfig.Job, sum *report.AuditSummary, keep []outset.Keep, stderr io.Writer) error {
+	out, err := outset.Begin(context.Background(), j.Out, outset.Options{Keep: keep, Earlier: auditFiles, Log: stderr})
+	if err != nil {
+		return err
+	}
+	defer out.Abort()
+	write := func(name string, f func(io.Writer) error) error {
+		w, err := out.Create(name)
+		if err != nil {
+			return err
+		}
+		return f(w)
+	}
+	tol := func(d float64) float64 {
+		t, err := j.Tolerance.At(d)
+		if err != nil {
+			return 0
+		}
+		return t
+	}
+	for _, o := range []struct {
+		name string
+		f    func(io.Writer) error
+	}{
+		{"audit.csv", func(w io.Writer) error { return report.WriteAuditCSV(w, sum, j.LengthUnit) }},
+		{"loops.csv", func(w io.Writer) error { return report.WriteLoopsCSV(w, sum) }},
+		{"rejects.csv", func(w io.Writer) error { return writeRejectLines(w, sum.Rejects) }},
+		{"summary.json", func(w io.Writer) error { return report.WriteAuditJSON(w, sum) }},
+		{"report.html", func(w io.Writer) error { return report.WriteAuditHTML(w, sum, tol) }},
+	} {
+		if err := write(o.name, o.f); err != nil {
+			return err
+		}
+	}
+	return out.Commit(outset.Identity{Tool: "geored", Command: "audit"})
+}
+
+// writeRejectLines writes rejects.csv of an audit: a row per delivered
+// row that could not be checked, its reason naming file, line and
+// column.
+func writeRejectLines(w io.Writer, rejects []string) error {
+	cw := csv.NewWriter(w)
+	cw.Write([]string{"reason"})
+	for _, r := range rejects {
+		cw.Write([]string{r})
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+// printAuditVerdict prints the audit's outcome for a person.
+func printAuditVerdict(w io.Writer, s *report.AuditSummary, out string) {
+	c := s.Counts
+	fmt.Fprintf(w, "exit status %d, %s\n", s.ExitStatus, s.Verdict)
+	fmt.Fprintf(w, "read %d rows: %d checked (%d distances, %d vectors), %d rejected; %d pass, %d fail; %d loops, %d fail\n",
+		c.Read, c.Checked, c.Distances, c.Vectors, c.Rejected, c.Passed, c.Failed, c.Loops, c.LoopsFailed)
+	fmt.Fprintf(w, "tolerance: %s\n", s.Tolerance)
+	for _, r := range s.Failing {
+		fmt.Fprintf(w, "  fails %s → %s %s (%s:%d): %+.1f mm, tolerance %.1f mm: %s\n", r.From, r.To, r.What, r.File, r.Line, r.Residual*1e3, r.Tolerance*1e3, r.Cause)
+	}
+	for _, l := range s.FailingLoops {
+		fmt.Fprintf(w, "  loop %d fails: %.1f mm over %.0f m, tolerance %.1f mm: %s\n", l.Number, l.MM, l.Length, l.Tolerance*1e3, l.Marks)
+	}
+	fmt.Fprintf(w, "outputs in %s; report: %s\n", out, filepath.Join(out, "report.html"))
+	fmt.Fprintln(w, report.Caution)
+}

@@ -1,0 +1,96 @@
+package job
+
+import (
+	"bufio"
+	"math"
+	"os"
+	"strconv"
+	"strings"
+	"testing"
+
+	"github.com/golang/geo/r3"
+	"github.com/golang/geo/s2"
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+
+	"github.com/geored/geored/geodesic"
+	"github.com/geored/geored/io/obsfile"
+	"github.com/geored/geored/reduce/audit"
+)
+
+// TestAuditVectorTools lays each vector of ../../testdata/audit/vectors_utm32.txt
+// (ΔX = X_B − X_A from PROJ's cs2cs) from its start mark and wants its end
+// at B, its ellipsoid distance GeodSolve's geodesic and its grid distance
+// the plane distance between cs2cs's projected ends, to 0.1 mm. The chord
+// and the tangent-plane length are not the ellipsoid distance: on the
+// 28.6 km line they are metres and decimetres off.
+func TestAuditVectorTools(t *testing.T) {
+	f, err := os.Open("../../testdata/audit/vectors_utm32.txt")
+	require.NoError(t, err)
+	defer f.Close()
+	p := projector(t, "EPSG:25832")
+	g, err := geodesic.NewGeodesic(p.CRS().Ellipsoid())
+	require.NoError(t, err)
+	sc := bufio.NewScanner(f)
+	n := 0
+	for sc.Scan() {
+		line := sc.Text()
+		if strings.HasPrefix(line, "#") || strings.TrimSpace(line) == "" {
+			continue
+		}
+		var v [17]float64
+		for i, fl := range strings.Fields(line) {
+			v[i], err = strconv.ParseFloat(fl, 64)
+			require.NoError(t, err, line)
+		}
+		pts := []obsfile.Point{
+			{ID: "A", LatLng: s2.LatLngFromDegrees(v[0], v[1]), HasLatLng: true, EllipsoidHeight: v[2], HasEllipsoidHeight: true},
+			{ID: "B", LatLng: s2.LatLngFromDegrees(v[3], v[4]), HasLatLng: true, EllipsoidHeight: v[5], HasEllipsoidHeight: true},
+		}
+		ctl, err := ResolveControl(pts, "pts", p, Separations{})
+		require.NoError(t, err)
+		xa, xb := r3.Vector{X: v[6], Y: v[7], Z: v[8]}, r3.Vector{X: v[9], Y: v[10], Z: v[11]}
+		vc, err := AuditVector(audit.Vector{Delta: xb.Sub(xa)}, ctl["A"], ctl["B"], g, p)
+		require.NoError(t, err, line)
+		assert.InDelta(t, 0, vc.StartECEF.Distance(xa), 1e-4, "%s: A geocentric against cs2cs, m", line)
+		assert.InDelta(t, v[3], vc.End.Lat.Degrees(), 1e-9, "%s: end latitude, degrees", line)
+		assert.InDelta(t, v[4], vc.End.Lng.Degrees(), 1e-9, "%s: end longitude, degrees", line)
+		assert.InDelta(t, v[5], vc.EndHeight, 1e-4, "%s: end height, m", line)
+		assert.InDelta(t, v[16], vc.VectorEllipsoid, 1e-4, "%s: ellipsoid distance against GeodSolve, m", line)
+		assert.InDelta(t, math.Hypot(v[14]-v[12], v[15]-v[13]), vc.VectorGrid, 1e-4, "%s: grid distance against cs2cs, m", line)
+		assert.InDelta(t, v[16], vc.Line.Ellipsoid, 1e-4, "%s: control geodesic, m", line)
+		if v[16] > 20000 {
+			chord := xb.Sub(xa).Norm()
+			enu := audit.Topocentric(vc.A, xb.Sub(xa))
+			assert.Greater(t, chord-v[16], 0.1, "the chord is not the ellipsoid distance")
+			assert.Greater(t, math.Abs(math.Hypot(enu.X, enu.Y)-v[16]), 0.05, "nor is the tangent-plane length")
+		}
+		n++
+	}
+	require.NoError(t, sc.Err())
+	assert.Equal(t, 4, n)
+}
+
+// TestAuditLineKinds: the control line's ground and sea-level distances
+// follow from the geodesic, the heights and N as audit.LineControl says,
+// and its grid distance is the projected marks' plane distance.
+func TestAuditLineKinds(t *testing.T) {
+	p := projector(t, "EPSG:25832")
+	g, err := geodesic.NewGeodesic(p.CRS().Ellipsoid())
+	require.NoError(t, err)
+	pts := []obsfile.Point{
+		{ID: "A", LatLng: s2.LatLngFromDegrees(50.1, 8.6), HasLatLng: true, Elevation: 100, HasElevation: true, GeoidSeparation: 48, HasGeoidSeparation: true},
+		{ID: "B", LatLng: s2.LatLngFromDegrees(50.112, 8.622), HasLatLng: true, Elevation: 140, HasElevation: true, GeoidSeparation: 48.2, HasGeoidSeparation: true},
+	}
+	ctl, err := ResolveControl(pts, "pts", p, Separations{})
+	require.NoError(t, err)
+	lc, _, err := AuditLine(ctl["A"], ctl["B"], g, p)
+	require.NoError(t, err)
+	require.True(t, lc.HasHeights)
+	require.True(t, lc.HasSeparation)
+	assert.InDelta(t, 148, lc.HeightA, 1e-9)
+	assert.InDelta(t, 48.1, lc.MeanSeparation(), 1e-9)
+	ga, gb := ctl["A"].Grid, ctl["B"].Grid
+	assert.InDelta(t, math.Hypot(gb.Easting-ga.Easting, gb.Northing-ga.Northing), lc.Grid, 1e-9)
+	assert.InDelta(t, 0.9996, lc.LineScale, 1e-3, "UTM near 9°E")
+}
