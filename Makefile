@@ -13,7 +13,7 @@ BENCH_REPEAT   ?= 7
 # times in the same rounds, e.g. make bench BENCH_BASELINE=/tmp/geored-old
 BENCH_BASELINE ?=
 
-.PHONY: all deps chromium bench-tools build test demo bench profile pgo vet clean
+.PHONY: all deps chromium postgresql bench-tools build test demo bench profile pgo vet clean
 
 all: build
 
@@ -46,6 +46,13 @@ deps:
 chromium:
 	$(call apt_install,chromium,[ -x /usr/bin/chromium ],chromium)
 
+# postgresql: Debian's PostgreSQL server programs (initdb, pg_ctl,
+# postgres), for the tests of the nightly history on PostgreSQL
+# (io/history, cmd/geored): each starts a throwaway server in a temporary
+# folder as the user nobody. Only `make test` needs it.
+postgresql:
+	$(call apt_install,postgresql,command -v initdb >/dev/null 2>&1 || ls /usr/lib/postgresql/*/bin/initdb >/dev/null 2>&1,postgresql)
+
 # bench-tools: PROJ's geod, which make bench runs beside geored.
 bench-tools:
 	$(call apt_install,geod,command -v geod >/dev/null 2>&1,proj-bin)
@@ -56,7 +63,7 @@ build: deps
 vet: deps
 	$(GO) vet ./...
 
-test: deps vet chromium
+test: deps vet chromium postgresql
 	GEORED_CHROMIUM_TEST=1 $(GO) test -race -count=1 ./...
 
 # demo: the demo's blunders are flagged by design, so geored demo exits 1

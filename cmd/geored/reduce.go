@@ -274,12 +274,13 @@ func printReasons(w io.Writer, cmd string, s *report.Summary, out string) {
 type reduceOptions struct {
 	strict     bool
 	progress   bool
-	warn       io.Writer        // nil: silent
-	inputs     []job.Source     // observations given as readers (the embedded demo)
-	points     io.Reader        // points given as a reader (the embedded demo) ...
-	pointsName string           // ... and its name
-	set        outset.Options   // the output set's; reduceJob adds the inputs to Keep
-	obsIn      observationInput // what an observation file "-" reads
+	warn       io.Writer         // nil: silent
+	inputs     []job.Source      // observations given as readers (the embedded demo)
+	points     io.Reader         // points given as a reader (the embedded demo) ...
+	pointsName string            // ... and its name
+	set        outset.Options    // the output set's; reduceJob adds the inputs to Keep
+	each       func(*job.Result) // if set, sees every result (the nightly run's history); it must copy what it keeps
+	obsIn      observationInput  // what an observation file "-" reads
 }
 
 // reduceFiles are the files of reduce's output set, besides its manifest.
@@ -421,6 +422,9 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 	hook := opt.set.Hook
 	err = job.Run(ctx, plan, sources, warn, func(r *job.Result) error {
 		agg.Add(r)
+		if opt.each != nil {
+			opt.each(r)
+		}
 		if rows.Add(1) == 1 && hook != nil {
 			hook("row")
 		}

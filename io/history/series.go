@@ -1,0 +1,113 @@
+package history
+
+import (
+	"context"
+	"database/sql"
+)
+
+// A LinePoint is one night of a line: its residual by one instrument,
+// either direction.
+type LinePoint struct {
+	Night               string
+	Instrument          string
+	From, To            string
+	N                   int
+	Geodesic            float64 // m
+	ResidualMM, SigmaMM float64
+	Flagged             int
+}
+
+// LineSeries is the residual over the nights of the line between marks a
+// and b, either direction, of the job's reduced files, by night.
+func (s *Store) LineSeries(ctx context.Context, job, a, b string) ([]LinePoint, error) {
+	return s.lines(ctx, `SELECT f.night, l.instrument, l.from_mark, l.to_mark, l.n, l.geodesic_m, l.residual_mm, l.sigma_mm, l.flagged
+		FROM lines l JOIN files f ON f.id = l.file_id
+		WHERE f.job = ? AND ((l.from_mark = ? AND l.to_mark = ?) OR (l.from_mark = ? AND l.to_mark = ?))
+		ORDER BY f.night, f.id, l.instrument`, job, a, b, b, a)
+}
+
+// MarkSeries is every night's lines that meet at mark, by night.
+func (s *Store) MarkSeries(ctx context.Context, job, mark string) ([]LinePoint, error) {
+	return s.lines(ctx, `SELECT f.night, l.instrument, l.from_mark, l.to_mark, l.n, l.geodesic_m, l.residual_mm, l.sigma_mm, l.flagged
+		FROM lines l JOIN files f ON f.id = l.file_id
+		WHERE f.job = ? AND (l.from_mark = ? OR l.to_mark = ?)
+		ORDER BY f.night, f.id, l.from_mark, l.to_mark, l.instrument`, job, mark, mark)
+}
+
+// AllLines is every night's lines of the job, by night.
+func (s *Store) AllLines(ctx context.Context, job string) ([]LinePoint, error) {
+	return s.lines(ctx, `SELECT f.night, l.instrument, l.from_mark, l.to_mark, l.n, l.geodesic_m, l.residual_mm, l.sigma_mm, l.flagged
+		FROM lines l JOIN files f ON f.id = l.file_id
+		WHERE f.job = ? ORDER BY f.night, f.id, l.from_mark, l.to_mark, l.instrument`, job)
+}
+
+func (s *Store) lines(ctx context.Context, q string, args ...any) ([]LinePoint, error) {
+	rows, err := s.db.QueryContext(ctx, s.d.sql(q), args...)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	var out []LinePoint
+	for rows.Next() {
+		var p LinePoint
+		if err := rows.Scan(&p.Night, &p.Instrument, &p.From, &p.To, &p.N, &p.Geodesic, &p.ResidualMM, &p.SigmaMM, &p.Flagged); err != nil {
+			return nil, err
+		}
+		out = append(out, p)
+	}
+	return out, rows.Err()
+}
+
+// A FitPoint is one night's fit of one instrument.
+type FitPoint struct {
+	Night string
+	Fit
+}
+
+// InstrumentSeries is the nightly fits of an instrument ("" for every
+// instrument), by night.
+func (s *Store) InstrumentSeries(ctx context.Context, job, instrument string) ([]FitPoint, error) {
+	rows, err := s.db.QueryContext(ctx, s.d.sql(`SELECT f.night, x.instrument, x.n, x.constant_mm, x.constant_sigma_mm, x.scale_ppm, x.scale_sigma_ppm, x.evidence
+		FROM instrument_fits x JOIN files f ON f.id = x.file_id
+		WHERE f.job = ? AND (? = '' OR x.instrument = ?) ORDER BY f.night, f.id, x.instrument`), job, instrument, instrument)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	var out []FitPoint
+	for rows.Next() {
+		var p FitPoint
+		if err := rows.Scan(&p.Night, &p.Instrument, &p.N, &p.ConstantMM, &p.ConstantSigmaMM, &p.ScalePPM, &p.ScaleSigmaPPM, &p.Evidence); err != nil {
+			return nil, err
+		}
+		out = append(out, p)
+	}
+	return out, rows.Err()
+}
+
+// Counts are the rows a job holds, for checks.
+type Counts struct {
+	Files, Observations, Lines, Fits int
+}
+
+// Count counts the rows of a job.
+func (s *Store) Count(ctx context.Context, job string) (Counts, error) {
+	var c Counts
+	q := func(dst *int, query string) error {
+		return s.db.QueryRowContext(ctx, s.d.sql(query), job).Scan(dst)
+	}
+	for _, x := range []struct {
+		dst *int
+		q   string
+	}{
+		{&c.Files, `SELECT COUNT(*) FROM files WHERE job = ?`},
+		{&c.Observations, `SELECT COUNT(*) FROM observations o JOIN files f ON f.id = o.file_id WHERE f.job = ?`},
+		{&c.Lines, `SELECT COUNT(*) FROM lines l JOIN files f ON f.id = l.file_id WHERE f.job = ?`},
+		{&c.Fits, `SELECT COUNT(*) FROM instrument_fits x JOIN files f ON f.id = x.file_id WHERE f.job = ?`},
+	} {
+		if err := q(x.dst, x.q); err != nil && err != sql.ErrNoRows {
+			return c, err
+		}
+	}
+	return c, nil
+}
