@@ -66,11 +66,9 @@ Flags:
 		fs.PrintDefaults()
 		fmt.Fprintln(stderr, "\n"+cautionText)
 	}
-	if err := fs.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return exitOK
-		}
-		return exitFailed
+	files, ok, code := parseCommand(fs, args, stderr)
+	if !ok {
+		return code
 	}
 	j, err := jf.resolve(fs)
 	if err != nil {
@@ -79,7 +77,7 @@ Flags:
 	if j.Out == "" {
 		j.Out = defaultAuditOut
 	}
-	sum, err := auditJob(j, jf.config, fs.Args(), !*quiet, stderr)
+	sum, err := auditJob(j, jf.config, files, !*quiet, stderr)
 	if err != nil {
 		return fail(stderr, "audit", err)
 	}

@@ -96,11 +96,8 @@ Flags:
 		fs.PrintDefaults()
 		fmt.Fprintln(stderr, "\n"+cautionText)
 	}
-	if err := fs.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return exitOK
-		}
-		return exitFailed
+	if ok, code := parseFlags(fs, args, stderr); !ok {
+		return code
 	}
 	if jf.config == "" {
 		return fail(stderr, "nightly", errors.New("give the job file: -config JOBFOLDER/job.toml"))
