@@ -8,6 +8,8 @@ import (
 	"os"
 	"slices"
 	"strings"
+
+	"github.com/geored/geored/io/units"
 )
 
 // stdinArg is the observation file name that reads standard input, and
@@ -27,6 +29,10 @@ const (
 // parses, takes that argument, and parses the rest again, until none is
 // left.
 func parseArgs(fs *flag.FlagSet, args []string) ([]string, error) {
+	if err := decimalFlags(fs, args); err != nil {
+		fmt.Fprintf(fs.Output(), "geored %s: %v (see geored %s -help)\n", fs.Name(), err, fs.Name())
+		return nil, err
+	}
 	var positional []string
 	for {
 		if err := fs.Parse(args); err != nil {
@@ -42,6 +48,47 @@ func parseArgs(fs *flag.FlagSet, args []string) ([]string, error) {
 		positional = append(positional, rest[0])
 		args = rest[1:]
 	}
+}
+
+// decimalFlags checks the value of every number flag among args as the
+// files' numbers are checked (units.ParseFloat): decimal syntax only, so
+// that "-k 0x1p-3" or "-critical 3_29" is an error, not 0.125 or 329 as
+// Go's flag package reads them.
+func decimalFlags(fs *flag.FlagSet, args []string) error {
+	for i := 0; i < len(args); i++ {
+		a := args[i]
+		if a == "--" {
+			return nil
+		}
+		name, ok := strings.CutPrefix(a, "-")
+		if !ok || name == "" {
+			continue
+		}
+		name = strings.TrimPrefix(name, "-")
+		name, value, inline := strings.Cut(name, "=")
+		fl := fs.Lookup(name)
+		if fl == nil {
+			continue
+		}
+		if !inline {
+			if !takesValue(fs, args, i) || i+1 >= len(args) {
+				continue
+			}
+			i++
+			value = args[i]
+		}
+		g, ok := fl.Value.(flag.Getter)
+		if !ok {
+			continue
+		}
+		if _, isFloat := g.Get().(float64); !isFloat {
+			continue
+		}
+		if _, err := units.ParseFloat(value); err != nil {
+			return fmt.Errorf("-%s %q: want a decimal number (digits with an optional point and exponent; not hexadecimal, underscores, Inf or NaN)", name, value)
+		}
+	}
+	return nil
 }
 
 // takesValue reports whether args[i] is a flag that takes the next

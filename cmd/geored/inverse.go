@@ -198,8 +198,8 @@ func parseLatLon(text, flagName string) (s2.LatLng, error) {
 	if len(parts) != 2 {
 		return s2.LatLng{}, fmt.Errorf("%s %q: want 'lat,lon' in decimal degrees", flagName, text)
 	}
-	lat, err1 := strconv.ParseFloat(strings.TrimSpace(parts[0]), 64)
-	lon, err2 := strconv.ParseFloat(strings.TrimSpace(parts[1]), 64)
+	lat, err1 := units.ParseFloat(strings.TrimSpace(parts[0]))
+	lon, err2 := units.ParseFloat(strings.TrimSpace(parts[1]))
 	if err1 != nil || err2 != nil || lat < -90 || lat > 90 || lon < -180 || lon > 360 {
 		return s2.LatLng{}, fmt.Errorf("%s %q: want 'lat,lon' in decimal degrees, lat in -90..90, lon in -180..360", flagName, text)
 	}

@@ -4,10 +4,10 @@ import (
 	"flag"
 	"fmt"
 	"path/filepath"
-	"strconv"
 	"strings"
 
 	"github.com/geored/geored/io/jobconfig"
+	"github.com/geored/geored/io/units"
 )
 
 // jobFlags are the job settings that can be given as flags; a flag that is
@@ -143,7 +143,7 @@ func (f *jobFlags) applyProfile(jf *jobconfig.File) error {
 	}
 	in := jf.Instrument[name]
 	if f.set["wavelength-um"] {
-		v, err := strconv.ParseFloat(f.wavelength, 64)
+		v, err := units.ParseFloat(f.wavelength)
 		if err != nil {
 			return fmt.Errorf("-wavelength-um %q: want a wavelength in µm", f.wavelength)
 		}
@@ -231,8 +231,8 @@ func parseAPlusB(s string) (a, b float64, ok bool) {
 		return 0, 0, false
 	}
 	var err1, err2 error
-	a, err1 = strconv.ParseFloat(strings.TrimSuffix(parts[0], "mm"), 64)
-	b, err2 = strconv.ParseFloat(strings.TrimSuffix(parts[1], "ppm"), 64)
+	a, err1 = units.ParseFloat(strings.TrimSuffix(parts[0], "mm"))
+	b, err2 = units.ParseFloat(strings.TrimSuffix(parts[1], "ppm"))
 	return a, b, err1 == nil && err2 == nil
 }
 
@@ -244,7 +244,7 @@ func parseAtmosphere(flagName, s string) (jobconfig.Atmosphere, error) {
 	}
 	v := make([]float64, 3)
 	for i, p := range parts {
-		x, err := strconv.ParseFloat(strings.TrimSpace(p), 64)
+		x, err := units.ParseFloat(strings.TrimSpace(p))
 		if err != nil {
 			return jobconfig.Atmosphere{}, fmt.Errorf("%s %q: want 'T,P,RH' in °C, hPa, %%", flagName, s)
 		}
