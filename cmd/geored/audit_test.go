@@ -228,7 +228,9 @@ func TestAuditExitStatus(t *testing.T) {
 	assert.Equal(t, exitFlagged, run([]string{"audit", "-config", sc.config, unknown}, &stdout, &stderr))
 	rej := readCSV(t, filepath.Join(sc.dir, "out", "rejects.csv"))
 	require.Len(t, rej, 2)
-	assert.Contains(t, rej[1][0], "unknown.csv:3: end mark \"NOWHERE\" is not in the points file")
+	assert.Equal(t, []string{"file", "line", "raw", "reason"}, rej[0])
+	assert.Equal(t, []string{unknown, "3", "x,ALDER,NOWHERE,grid,100,0.002,,,,,,,"}, rej[1][:3])
+	assert.Contains(t, rej[1][3], "unknown.csv:3: end mark \"NOWHERE\" is not in the points file")
 
 	stderr.Reset()
 	assert.Equal(t, exitFailed, run([]string{"audit", "-config", sc.config, filepath.Join(sc.dir, "missing.csv")}, &stdout, &stderr))

@@ -20,12 +20,12 @@ func WriteAuditHTML(w io.Writer, s *AuditSummary, tolerance func(float64) float6
 	// file order.
 	slices.SortStableFunc(rows, func(a, b AuditRow) int {
 		switch {
-		case a.Pass != b.Pass:
-			if !a.Pass {
+		case a.Failed() != b.Failed():
+			if a.Failed() {
 				return -1
 			}
 			return 1
-		case !a.Pass && a.Margin != b.Margin:
+		case a.Failed() && a.Margin != b.Margin:
 			if a.Margin < b.Margin {
 				return -1
 			}
@@ -37,12 +37,19 @@ func WriteAuditHTML(w io.Writer, s *AuditSummary, tolerance func(float64) float6
 	if caution == "" {
 		caution = Caution
 	}
+	var raw []AuditRow
+	for _, r := range rows {
+		if r.RawCount > 0 {
+			raw = append(raw, r)
+		}
+	}
 	return auditTemplate.Execute(w, struct {
 		*AuditSummary
 		Sorted  []AuditRow
+		Raw     []AuditRow
 		Plot    template.HTML
 		Caution string
-	}{s, rows, template.HTML(svg), caution})
+	}{s, rows, raw, template.HTML(svg), caution})
 }
 
 var auditTemplate = template.Must(template.New("audit").Funcs(template.FuncMap{
@@ -78,12 +85,21 @@ Read {{.Counts.Read}} rows: {{.Counts.Checked}} checked ({{.Counts.Distances}} d
 
 <h2>Pass/fail, line by line</h2>
 <table id="pass-fail">
-<thead><tr><th>verdict</th><th>from</th><th>to</th><th>what</th><th>id</th><th>delivered</th><th>control</th><th>residual mm</th><th>ppm</th><th>σ mm</th><th>tolerance mm</th><th>margin mm</th><th>cause</th><th>where</th></tr></thead>
+<thead><tr><th>verdict</th><th>from</th><th>to</th><th>what</th><th>id</th><th>delivered</th><th>control</th><th>residual mm</th><th>ppm</th><th>σ mm</th><th>tolerance mm</th><th>margin mm</th><th>stage</th><th>cause</th><th>where</th></tr></thead>
 <tbody>
-{{range .Sorted}}<tr class="{{if .Pass}}pass{{else}}fail{{end}}"><td>{{if .Pass}}pass{{else}}fail{{end}}</td><td>{{.From}}</td><td>{{.To}}</td><td>{{.What}}</td><td>{{.ID}}</td><td class="n">{{m .Delivered}}</td><td class="n">{{m .Reference}}</td><td class="n">{{mm .Residual}}</td><td class="n">{{f2 .PPM}}</td><td class="n">{{mm .Sigma}}</td><td class="n">{{mm .Tolerance}}</td><td class="n">{{mm .Margin}}</td><td>{{.Cause}}{{if eq .CrossPass "fail"}} (disagrees with the vector by {{mm .CrossDiff}} mm){{end}}</td><td>{{.File}}:{{.Line}}</td></tr>
+{{range .Sorted}}<tr class="{{if .Failed}}fail{{else}}pass{{end}}"><td>{{if .Failed}}fail{{else}}pass{{end}}</td><td>{{.From}}</td><td>{{.To}}</td><td>{{.What}}</td><td>{{.ID}}</td><td class="n">{{m .Delivered}}</td><td class="n">{{m .Reference}}</td><td class="n">{{mm .Residual}}</td><td class="n">{{f2 .PPM}}</td><td class="n">{{mm .Sigma}}</td><td class="n">{{mm .Tolerance}}</td><td class="n">{{mm .Margin}}</td><td>{{.Stage}}</td><td>{{.Cause}}{{if eq .CrossPass "fail"}} (disagrees with the vector by {{mm .CrossDiff}} mm){{end}}{{if eq .RawPass "fail"}} (differs from our reduction of the raw observations by {{mm .RawDiff}} mm){{end}}</td><td>{{.File}}:{{.Line}}</td></tr>
 {{end}}</tbody>
 </table>
 <p>A distance's residual is delivered − control of its own kind; a vector's is the 3-D misclosure of its end laid from the start mark (its east, north and up parts are in audit.csv).</p>
+
+{{if .Raw}}<h2>Delivered beside our reduction of the raw observations</h2>
+<p>Each distance whose line the subcontractor's raw observations cover, beside our own reduction of them with the job's settings (the mean of the line's observations, either direction), stage by stage. The difference delivered − ours is matched against the usual errors with our stage values; the stage named is where the fitting error is made.</p>
+<table id="raw">
+<thead><tr><th>verdict</th><th>from</th><th>to</th><th>what</th><th>observations</th><th>delivered</th><th>ours, this kind</th><th>delivered − ours mm</th><th>tolerance mm</th><th>our slope</th><th>our horizontal</th><th>our ellipsoid</th><th>our sea level</th><th>our grid</th><th>our ppm</th><th>stage</th><th>cause</th><th>where</th></tr></thead>
+<tbody>
+{{range .Raw}}<tr class="{{if eq .RawPass "pass"}}pass{{else}}fail{{end}}"><td>{{.RawPass}}</td><td>{{.From}}</td><td>{{.To}}</td><td>{{.What}}</td><td class="n">{{.RawCount}}</td><td class="n">{{m .Delivered}}</td><td class="n">{{m .OurValue}}</td><td class="n">{{mm .RawDiff}}</td><td class="n">{{mm .RawTolerance}}</td><td class="n">{{m .OurSlope}}</td><td class="n">{{m .OurHorizontal}}</td><td class="n">{{m .OurEllipsoid}}</td><td class="n">{{m .OurSeaLevel}}</td><td class="n">{{m .OurGrid}}</td><td class="n">{{f2 .OurPPM}}</td><td>{{.RawStage}}</td><td>{{.RawCause}}</td><td>{{.File}}:{{.Line}}</td></tr>
+{{end}}</tbody>
+</table>{{end}}
 
 {{if .Plot}}<figure id="plot">{{.Plot}}<figcaption id="plot-caption">|misclosure| of each delivered value and loop against its length, with the tolerance.</figcaption></figure>{{end}}
 
@@ -96,7 +112,7 @@ Read {{.Counts.Read}} rows: {{.Counts.Checked}} checked ({{.Counts.Distances}} d
 </table>{{end}}
 
 {{if .Rejects}}<h2>Rejected rows</h2>
-<ul id="rejects">{{range .Rejects}}<li>{{.}}</li>{{end}}</ul>{{end}}
+<ul id="rejects">{{range .Rejects}}<li>{{.Reason}}</li>{{end}}</ul>{{end}}
 {{if .Warnings}}<h2>Warnings</h2><ul>{{range .Warnings}}<li>{{.}}</li>{{end}}</ul>{{end}}
 <p>{{.Tool}} {{.Version}}, PROJ {{.ProjVersion}}.</p>
 <p class="caution" role="note"><strong>Caution.</strong> {{.Caution}}</p>

@@ -15,6 +15,7 @@ import (
 
 	"github.com/geored/geored/geodesic"
 	"github.com/geored/geored/io/obsfile"
+	"github.com/geored/geored/reduce"
 	"github.com/geored/geored/reduce/audit"
 )
 
@@ -93,4 +94,56 @@ func TestAuditLineKinds(t *testing.T) {
 	ga, gb := ctl["A"].Grid, ctl["B"].Grid
 	assert.InDelta(t, math.Hypot(gb.Easting-ga.Easting, gb.Northing-ga.Northing), lc.Grid, 1e-9)
 	assert.InDelta(t, 0.9996, lc.LineScale, 1e-3, "UTM near 9°E")
+}
+
+// TestRawLinesMeans: a line's observations in both directions are one
+// line, its stages their means, its heights and N seen from the mark
+// asked first; a rejected row is left out; on the sea-level datum the
+// ellipsoid distance comes back from the geoid's by R/(R + N_m).
+func TestRawLinesMeans(t *testing.T) {
+	res := func(from, to string, arc, hFrom, hTo, nFrom, nTo float64, datum reduce.Datum) *Result {
+		r := &Result{Obs: obsfile.Observation{From: from, To: to}}
+		red := &r.Reduction
+		red.Instrument.Raw, red.Instrument.PrismConstant = arc+0.3, -0.03
+		red.SecondVelocity.Distance = arc + 0.2
+		red.FirstVelocity.PPM = 20
+		red.Geometry.Arc = arc
+		red.Grid = reduce.GridResult{GridDistance: arc * 0.9996, LineScale: 0.9996, Radius: 6.38e6}
+		red.Uncertainty.Total = 0.002
+		red.Heights = reduce.LineHeights{Datum: datum, MeanMarkHeight: (hFrom + hTo) / 2,
+			MarkA: reduce.MarkHeight{Datum: datum, Height: hFrom, Separation: reduce.Separation{N: nFrom, Source: reduce.SeparationPoint}},
+			MarkB: reduce.MarkHeight{Datum: datum, Height: hTo, Separation: reduce.Separation{N: nTo, Source: reduce.SeparationPoint}}}
+		return r
+	}
+	g := NewRawLines()
+	g.Add(res("P", "Q", 1000.002, 100, 140, 47, 48, reduce.DatumEllipsoid))
+	g.Add(res("Q", "P", 1000.004, 140, 100, 48, 47, reduce.DatumEllipsoid))
+	bad := res("P", "Q", 999, 0, 0, 0, 0, reduce.DatumEllipsoid)
+	bad.Rejected = true
+	g.Add(bad)
+	assert.Equal(t, 1, g.Len())
+	o, ok, err := g.Ours("Q", "P")
+	require.NoError(t, err)
+	require.True(t, ok)
+	assert.Equal(t, 2, o.Count)
+	assert.InDelta(t, 1000.003, o.Line.Ellipsoid, 1e-9)
+	assert.InDelta(t, 1000.003*0.9996, o.Line.Grid, 1e-9)
+	assert.InDelta(t, 1000.203, o.Slope, 1e-9)
+	assert.Equal(t, 140.0, o.Line.HeightA, "Q's height first")
+	assert.Equal(t, 100.0, o.Line.HeightB)
+	assert.Equal(t, 48.0, o.Line.SeparationA)
+	assert.InDelta(t, 0.002/math.Sqrt2, o.Sigma, 1e-15, "the mean's σ")
+	assert.Equal(t, 20.0, o.PPM)
+	_, ok, _ = g.Ours("P", "R")
+	assert.False(t, ok)
+
+	g.Add(res("S", "T", 2000.0, 30, 40, 47, 47, reduce.DatumSeaLevel))
+	o, ok, err = g.Ours("S", "T")
+	require.NoError(t, err)
+	require.True(t, ok)
+	assert.InDelta(t, 2000*6.38e6/(6.38e6+47), o.Line.Ellipsoid, 1e-9, "s = s_geoid R/(R + N)")
+	assert.Equal(t, 77.0, o.Line.HeightA, "h = H + N")
+	sea, err := o.Line.Reference(audit.SeaLevel)
+	require.NoError(t, err)
+	assert.InDelta(t, 2000, sea, 1e-9, "back on the geoid")
 }
