@@ -80,3 +80,16 @@ func TestCompareRawNumbers(t *testing.T) {
 	_, err = CompareRaw(Distance{Kind: Grid, Value: 1999.3, Sigma: 2 * mm}, Ours{}, testSettings())
 	assert.Error(t, err, "no observation")
 }
+
+// BenchmarkCompareRaw: a delivered distance beside our reduction, with
+// the signatures tested (a ppm applied twice).
+func BenchmarkCompareRaw(b *testing.B) {
+	o := testOurs()
+	s := testSettings()
+	d := Distance{Kind: Ellipsoid, Value: o.Line.Ellipsoid * (1 + 18.4*ppm), Sigma: 2 * mm}
+	for b.Loop() {
+		if _, err := CompareRaw(d, o, s); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
