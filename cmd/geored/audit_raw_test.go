@@ -63,21 +63,8 @@ type rawScenario struct {
 func newRawScenario(t *testing.T) *rawScenario {
 	t.Helper()
 	dir := t.TempDir()
-	marks := append(append([]struct {
-		id       string
-		lat, lon float64
-		h, n     float64
-	}{}, scenarioMarks...), struct {
-		id       string
-		lat, lon float64
-		h, n     float64
-	}{"FIR", 50.1210, 8.6400, 412.700, 47.99})
-	var pts strings.Builder
-	pts.WriteString("id,lat,lon,ellipsoid_height,geoid_separation\n")
-	for _, m := range marks {
-		fmt.Fprintf(&pts, "%s,%.7f,%.7f,%.3f,%.2f\n", m.id, m.lat, m.lon, m.h, m.n)
-	}
-	require.NoError(t, os.WriteFile(filepath.Join(dir, "points.csv"), []byte(pts.String()), 0o644))
+	marks := append(append([]scenarioMark{}, scenarioMarks...), scenarioMark{"FIR", 50.1210, 8.6400, 412.700, 47.99})
+	pts := writeScenarioPoints(t, dir, marks)
 	cfg := filepath.Join(dir, "job.toml")
 	require.NoError(t, os.WriteFile(cfg, []byte(rawScenarioJob), 0o644))
 
@@ -88,7 +75,7 @@ func newRawScenario(t *testing.T) *rawScenario {
 	s, err := openJobSession(j)
 	require.NoError(t, err)
 	t.Cleanup(s.close)
-	_, err = s.loadPoints(strings.NewReader(pts.String()), "points.csv", warnTo(os.Stderr))
+	_, err = s.loadPoints(strings.NewReader(pts), "points.csv", warnTo(os.Stderr))
 	require.NoError(t, err)
 	plan, err := job.NewPlan(j, s.crs, s.geod, s.control)
 	require.NoError(t, err)

@@ -35,11 +35,14 @@ type auditScenario struct {
 	nVector int
 }
 
-var scenarioMarks = []struct {
+// scenarioMark is an invented mark: degrees, ellipsoidal height and N in metres.
+type scenarioMark struct {
 	id       string
 	lat, lon float64
 	h, n     float64
-}{
+}
+
+var scenarioMarks = []scenarioMark{
 	{"ALDER", 50.1000, 8.6000, 152.300, 47.95},
 	{"BIRCH", 50.1120, 8.6220, 131.800, 47.98},
 	{"CEDAR", 50.0950, 8.6310, 188.400, 47.90},
@@ -47,15 +50,22 @@ var scenarioMarks = []struct {
 	{"ELM", 50.1040, 8.6450, 120.600, 47.93},
 }
 
-func newAuditScenario(t *testing.T) *auditScenario {
+// writeScenarioPoints writes marks as dir/points.csv and returns its text.
+func writeScenarioPoints(t *testing.T, dir string, marks []scenarioMark) string {
 	t.Helper()
-	dir := t.TempDir()
 	var pts strings.Builder
 	pts.WriteString("id,lat,lon,ellipsoid_height,geoid_separation\n")
-	for _, m := range scenarioMarks {
+	for _, m := range marks {
 		fmt.Fprintf(&pts, "%s,%.7f,%.7f,%.3f,%.2f\n", m.id, m.lat, m.lon, m.h, m.n)
 	}
 	require.NoError(t, os.WriteFile(filepath.Join(dir, "points.csv"), []byte(pts.String()), 0o644))
+	return pts.String()
+}
+
+func newAuditScenario(t *testing.T) *auditScenario {
+	t.Helper()
+	dir := t.TempDir()
+	writeScenarioPoints(t, dir, scenarioMarks)
 	cfg := `crs = "EPSG:25832"
 points = "points.csv"
 geoid = "none"
