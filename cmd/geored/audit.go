@@ -173,6 +173,11 @@ func auditJob(ctx context.Context, j *jobconfig.Job, jobFile string, files []str
 		sum.Counts.Read += res.Read
 		for _, r := range res.Rejects {
 			sum.Counts.Rejected++
+			if r.Raw == "" {
+				// A row the CSV reader could not split into fields
+				// (the wrong number of them): the line as written.
+				r.Raw = lineText(data, r.Line)
+			}
 			sum.Rejects = append(sum.Rejects, report.AuditReject{File: r.File, Line: r.Line, Raw: r.Raw, Reason: r.Reason})
 		}
 		for i := range res.Baselines {
@@ -204,6 +209,22 @@ func auditJob(ctx context.Context, j *jobconfig.Job, jobFile string, files []str
 		keep = append(keep, outset.Keep{Role: "a baselines file", Path: f})
 	}
 	return sum, writeAudit(ctx, j, sum, keep, stderr)
+}
+
+// lineText is line n (1-based) of data without its line end, "" past
+// the end.
+func lineText(data []byte, n int) string {
+	for i := 1; i < n; i++ {
+		j := bytes.IndexByte(data, '\n')
+		if j < 0 {
+			return ""
+		}
+		data = data[j+1:]
+	}
+	if j := bytes.IndexByte(data, '\n'); j >= 0 {
+		data = data[:j]
+	}
+	return string(bytes.TrimSuffix(data, []byte("\r")))
 }
 
 // checked is one delivered value and its checks.
