@@ -68,9 +68,12 @@ Kinds: grid is the plane distance between the projected marks; ellipsoid
 the geodesic; ground the horizontal distance at the marks' mean ellipsoidal
 height, s·(R + h_m)/R; sea-level the distance on the geoid, s·(R + N_m)/R.
 
-Exit status: 0 every delivered value and loop passes and no row was
-rejected; 1 some fail or were rejected (the reasons go to stderr); 2 could
-not run (bad flags, settings or files, or no value could be checked).
+Exit status: 0 every delivered value and loop passes, every delivered
+distance agrees with our reduction of its raw observations, and no row
+(delivered or raw) was rejected; 1 some fail, differ or were rejected (the
+reasons go to stderr; rejects.csv has file, line, the row and the reason);
+2 could not run (bad flags, settings or files, or no value could be
+checked), 130 or 143 stopped by SIGINT or SIGTERM.
 
 Flags:
 `)
