@@ -153,6 +153,12 @@ ppm = 2
 	return sc
 }
 
+// scenarioStages are the stages of the scenario's injected errors.
+var scenarioStages = map[string]string{
+	"e-scale-twice": audit.StageScale, "e-geoid-ignored": audit.StageHeights, "e-ppm-twice": audit.StageAtmosphere,
+	"e-ground-as-grid": audit.StageKind, "e-blunder": "", "e-antenna": audit.StageAntenna,
+}
+
 // TestAuditScenario: each injected error is caught and named, and nothing
 // else is flagged: the clean distances, the vectors of the triangle, the
 // repeated baseline, the loops and the distance beside its vector pass.
@@ -174,6 +180,7 @@ func TestAuditScenario(t *testing.T) {
 		}
 		assert.Equal(t, "fail", r[col["verdict"]], "%s is caught", id)
 		assert.Equal(t, cause, r[col["cause"]], "%s is named", id)
+		assert.Equal(t, scenarioStages[id], r[col["stage"]], "%s: the stage", id)
 		assert.Equal(t, "5 mm + 2 ppm, linear, 95 %", r[col["tolerance"]], "%s: the tolerance with the verdict", id)
 	}
 	// The clean distance CEDAR → ALDER beside the vector CEDAR → ALDER.

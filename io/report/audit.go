@@ -123,7 +123,8 @@ func VectorRow(b *audit.Baseline, c *audit.VectorCheck) AuditRow {
 	r := blankRow(b)
 	r.Delivered, r.Reference, r.Residual, r.PPM, r.Sigma, r.W = c.Ellipsoid, c.ControlEllipsoid, c.Length, c.PPM, c.Sigma.Norm(), c.W
 	r.Tolerance, r.Margin, r.Pass = c.Tolerance, c.Margin, c.Pass
-	r.Cause = c.Diagnosis.Cause
+	r.Cause, r.Stage = c.Diagnosis.Cause, c.Diagnosis.Stage
+	r.ControlCause = r.Cause
 	r.East, r.North, r.Up, r.Horizontal, r.LengthMisclosure = c.Misclosure.X, c.Misclosure.Y, c.Misclosure.Z, c.Horizontal, c.LengthMisclosure
 	r.Grid, r.ControlGrid, r.DeltaH, r.ControlDeltaH = c.Grid, c.ControlGrid, c.DeltaH, c.ControlDeltaH
 	if c.Diagnosis.Cause != "" {

@@ -86,6 +86,7 @@ const (
 	StageElevation  = "horizontal → ellipsoid: elevation factor"
 	StageScale      = "ellipsoid → grid: line scale factor"
 	StageKind       = "delivered kind: the value of another stage"
+	StageAntenna    = "vector: antenna height (not mark to mark)"
 )
 
 // DistanceSignatures lists the errors a distance of d's kind may carry
