@@ -24,9 +24,6 @@ type Ours struct {
 	// (ppm), and PrismConstant the target's constant we added (metres),
 	// means over the observations.
 	PPM, PrismConstant float64
-	// Sigma is the σ of our ellipsoid distance from the instrument's
-	// budget, the observations' mean: σ_obs / sqrt(Count).
-	Sigma float64
 }
 
 // RawCheck is a delivered distance beside our own reduction of the

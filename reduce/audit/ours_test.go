@@ -15,7 +15,7 @@ func testOurs() Ours {
 	l := testLine()
 	l.Ellipsoid += 1.2 * mm
 	l.Grid = l.Ellipsoid * l.LineScale
-	return Ours{Count: 4, Raw: 2000.3, Slope: 2000.33, Line: l, PPM: 18.4, PrismConstant: -30 * mm, Sigma: 1 * mm}
+	return Ours{Count: 4, Raw: 2000.3, Slope: 2000.33, Line: l, PPM: 18.4, PrismConstant: -30 * mm}
 }
 
 // TestCompareRawStages injects each usual error into a value reduced

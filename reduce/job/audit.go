@@ -3,7 +3,6 @@ package job
 import (
 	"errors"
 	"fmt"
-	"math"
 
 	"github.com/geored/geored/geodesic"
 	"github.com/geored/geored/reduce"
@@ -82,10 +81,9 @@ type RawLines struct {
 type rawLine struct {
 	n                                 int
 	raw, slope, arc, grid, scale, rad float64
-	ppm, prism, sigma                 float64
+	ppm, prism                        float64
 	hLo, hHi                          float64
 	nLo, nHi                          float64
-	hasN                              bool
 	seaLevel                          bool
 	noN                               int // observations without both marks' N
 }
@@ -131,7 +129,6 @@ func (g *RawLines) Add(r *Result) {
 	l.rad += red.Grid.Radius
 	l.ppm += red.FirstVelocity.PPM
 	l.prism += red.Instrument.PrismConstant
-	l.sigma += red.Uncertainty.Total
 	l.hLo += hFrom
 	l.hHi += hTo
 	l.seaLevel = red.Heights.Datum == reduce.DatumSeaLevel
@@ -179,5 +176,5 @@ func (g *RawLines) Ours(a, b string) (o audit.Ours, ok bool, err error) {
 		lc.SeparationA, lc.SeparationB = lc.SeparationB, lc.SeparationA
 	}
 	return audit.Ours{Count: l.n, Raw: l.raw / n, Slope: l.slope / n, Line: lc,
-		PPM: l.ppm / n, PrismConstant: l.prism / n, Sigma: l.sigma / n / math.Sqrt(n)}, true, nil
+		PPM: l.ppm / n, PrismConstant: l.prism / n}, true, nil
 }
