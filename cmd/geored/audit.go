@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"context"
 	"crypto/sha256"
-	"encoding/csv"
 	"encoding/hex"
 	"errors"
 	"flag"
@@ -31,6 +30,8 @@ func runAudit(args []string, stdout, stderr io.Writer) int {
 	var jf jobFlags
 	jf.register(fs)
 	quiet := fs.Bool("quiet", false, "print nothing but errors")
+	var rawFiles fileList
+	fs.Var(&rawFiles, "observations", "the subcontractor's raw observations (an observation CSV as reduce reads), reduced with the job's settings and set beside the delivered distances stage by stage; may be given more than once, and replaces the job file's observations (config: observations)")
 	fs.Usage = func() {
 		fmt.Fprint(stderr, `Usage: geored audit [flags] baselines.csv ...
 
@@ -53,13 +54,26 @@ applied_ppm (ppm) and applied_prism_constant_mm (mm), which let the audit
 test whether either was applied twice. Lengths in the job's length_unit,
 covariances in its square.
 
+Raw observations: where the subcontractor's raw observations are given
+(the job file's observations, or -observations), geored reduces them with
+the job's settings (its instrument profile, atmosphere, refraction, datum)
+and sets each delivered distance whose marks a reduced line joins (either
+direction) beside our own values: the raw and corrected slope distance,
+the horizontal distance at the marks' mean height, the ellipsoid, sea
+level and grid distances. Where the delivered value differs from ours of
+its kind, the usual errors are matched with our stage values and the
+stage that explains the difference is named, or "no known cause".
+
 Kinds: grid is the plane distance between the projected marks; ellipsoid
 the geodesic; ground the horizontal distance at the marks' mean ellipsoidal
 height, s·(R + h_m)/R; sea-level the distance on the geoid, s·(R + N_m)/R.
 
-Exit status: 0 every delivered value and loop passes and no row was
-rejected; 1 some fail or were rejected (the reasons go to stderr); 2 could
-not run (bad flags, settings or files, or no value could be checked).
+Exit status: 0 every delivered value and loop passes, every delivered
+distance agrees with our reduction of its raw observations, and no row
+(delivered or raw) was rejected; 1 some fail, differ or were rejected (the
+reasons go to stderr; rejects.csv has file, line, the row and the reason);
+2 could not run (bad flags, settings or files, or no value could be
+checked), 130 or 143 stopped by SIGINT or SIGTERM.
 
 Flags:
 `)
@@ -70,14 +84,19 @@ Flags:
 	if !ok {
 		return code
 	}
-	j, err := jf.resolve(fs)
+	j, err := jf.resolveFor(fs, jobconfig.Needs{}, rawFiles)
 	if err != nil {
 		return fail(stderr, "audit", err)
 	}
 	if j.Out == "" {
 		j.Out = defaultAuditOut
 	}
-	sum, err := auditJob(j, jf.config, files, !*quiet, stderr)
+	ctx, stop := stopOnSignals()
+	defer stop()
+	sum, err := auditJob(ctx, j, jf.config, files, !*quiet, stderr)
+	if code, ok := stopped(stderr, "audit", j.Out, err); ok {
+		return code
+	}
 	if err != nil {
 		return fail(stderr, "audit", err)
 	}
@@ -95,7 +114,7 @@ Flags:
 
 // auditJob audits the baselines files against the job's control and
 // writes the outputs.
-func auditJob(j *jobconfig.Job, jobFile string, files []string, verbose bool, stderr io.Writer) (*report.AuditSummary, error) {
+func auditJob(ctx context.Context, j *jobconfig.Job, jobFile string, files []string, verbose bool, stderr io.Writer) (*report.AuditSummary, error) {
 	if !j.HasTolerance {
 		return nil, errors.New("the job has no tolerance: give [tolerance] class, or constant_mm and ppm (or -tolerance)")
 	}
@@ -133,6 +152,12 @@ func auditJob(j *jobconfig.Job, jobFile string, files []string, verbose bool, st
 	sum.Inputs = append(sum.Inputs, inputFile("points", j.Points, pointsData, nPoints))
 	settings := audit.Settings{Tolerance: j.Tolerance, ToleranceText: j.ToleranceText, Critical: j.Critical, ControlSigma: controlSigma(j)}
 	sum.ControlSigma = settings.ControlSigma
+	var raw *job.RawLines
+	if len(j.Observations) > 0 {
+		if raw, err = reduceRaw(ctx, j, s, sum, warn); err != nil {
+			return nil, err
+		}
+	}
 
 	var checks []checked
 	for _, path := range files {
@@ -151,13 +176,19 @@ func auditJob(j *jobconfig.Job, jobFile string, files []string, verbose bool, st
 		sum.Counts.Read += res.Read
 		for _, r := range res.Rejects {
 			sum.Counts.Rejected++
-			sum.Rejects = append(sum.Rejects, r.Reason)
+			if r.Raw == "" {
+				// A row the CSV reader could not split into fields
+				// (the wrong number of them): the line as written.
+				r.Raw = lineText(data, r.Line)
+			}
+			sum.Rejects = append(sum.Rejects, report.AuditReject{File: r.File, Line: r.Line, Raw: r.Raw, Reason: r.Reason})
 		}
 		for i := range res.Baselines {
-			c, err := checkBaseline(s, &res.Baselines[i], settings)
+			b := &res.Baselines[i]
+			c, err := checkBaseline(s, b, settings, raw, warn)
 			if err != nil {
 				sum.Counts.Rejected++
-				sum.Rejects = append(sum.Rejects, err.Error())
+				sum.Rejects = append(sum.Rejects, report.AuditReject{File: b.File, Line: b.Line, Raw: b.Raw, Reason: err.Error()})
 				continue
 			}
 			checks = append(checks, c)
@@ -173,11 +204,30 @@ func auditJob(j *jobconfig.Job, jobFile string, files []string, verbose bool, st
 		return nil, err
 	}
 	report.DecideAudit(sum)
+	if ctx.Err() != nil {
+		return nil, context.Cause(ctx)
+	}
 	keep := append(jobInputs(j), outset.Keep{Role: "the job file", Path: jobFile})
 	for _, f := range files {
 		keep = append(keep, outset.Keep{Role: "a baselines file", Path: f})
 	}
-	return sum, writeAudit(j, sum, keep, stderr)
+	return sum, writeAudit(ctx, j, sum, keep, stderr)
+}
+
+// lineText is line n (1-based) of data without its line end, "" past
+// the end.
+func lineText(data []byte, n int) string {
+	for i := 1; i < n; i++ {
+		j := bytes.IndexByte(data, '\n')
+		if j < 0 {
+			return ""
+		}
+		data = data[j+1:]
+	}
+	if j := bytes.IndexByte(data, '\n'); j >= 0 {
+		data = data[:j]
+	}
+	return string(bytes.TrimSuffix(data, []byte("\r")))
 }
 
 // checked is one delivered value and its checks.
@@ -189,9 +239,11 @@ type checked struct {
 	row  report.AuditRow
 }
 
-// checkBaseline checks one delivered value against control; an error is
-// a row that cannot be checked (an unknown mark, a height missing).
-func checkBaseline(s *session, b *audit.Baseline, st audit.Settings) (checked, error) {
+// checkBaseline checks one delivered value against control, and a
+// distance beside our reduction of its line's raw observations where raw
+// has them (raw may be nil); an error is a row that cannot be checked (an
+// unknown mark, a height missing).
+func checkBaseline(s *session, b *audit.Baseline, st audit.Settings, raw *job.RawLines, warn func(string)) (checked, error) {
 	where := fmt.Sprintf("%s:%d", b.File, b.Line)
 	a, ok := s.control[b.From]
 	if !ok {
@@ -223,6 +275,19 @@ func checkBaseline(s *session, b *audit.Baseline, st audit.Settings) (checked, e
 		return c, fmt.Errorf("%s: %s %s → %s: %w", where, b.What(), b.From, b.To, err)
 	}
 	c.line, c.dist, c.row = lc, &chk, report.DistanceRow(b, &chk)
+	if raw == nil {
+		return c, nil
+	}
+	ours, ok, err := raw.Ours(b.From, b.To)
+	if ok && err == nil {
+		var rc audit.RawCheck
+		if rc, err = audit.CompareRaw(b.Distance, ours, st); err == nil {
+			c.row.AddRaw(&rc)
+		}
+	}
+	if err != nil {
+		warn(fmt.Sprintf("%s: %s %s → %s is not set beside our reduction of its raw observations: %v", where, b.What(), b.From, b.To, err))
+	}
 	return c, nil
 }
 
@@ -326,8 +391,8 @@ var auditFiles = []string{"audit.csv", "loops.csv", "rejects.csv", "summary.json
 
 // writeAudit writes the outputs as one set (outset), committed together;
 // keep lists the inputs, which the output folder must not hold.
-func writeAudit(j *jobconfig.Job, sum *report.AuditSummary, keep []outset.Keep, stderr io.Writer) error {
-	out, err := outset.Begin(context.Background(), j.Out, outset.Options{Keep: keep, Earlier: auditFiles, Log: stderr})
+func writeAudit(ctx context.Context, j *jobconfig.Job, sum *report.AuditSummary, keep []outset.Keep, stderr io.Writer) error {
+	out, err := outset.Begin(ctx, j.Out, outset.Options{Keep: keep, Earlier: auditFiles, Log: stderr})
 	if err != nil {
 		return err
 	}
@@ -352,7 +417,7 @@ func writeAudit(j *jobconfig.Job, sum *report.AuditSummary, keep []outset.Keep, 
 	}{
 		{"audit.csv", func(w io.Writer) error { return report.WriteAuditCSV(w, sum, j.LengthUnit) }},
 		{"loops.csv", func(w io.Writer) error { return report.WriteLoopsCSV(w, sum) }},
-		{"rejects.csv", func(w io.Writer) error { return writeRejectLines(w, sum.Rejects) }},
+		{"rejects.csv", func(w io.Writer) error { return report.WriteAuditRejectsCSV(w, sum) }},
 		{"summary.json", func(w io.Writer) error { return report.WriteAuditJSON(w, sum) }},
 		{"report.html", func(w io.Writer) error { return report.WriteAuditHTML(w, sum, tol) }},
 	} {
@@ -363,19 +428,6 @@ func writeAudit(j *jobconfig.Job, sum *report.AuditSummary, keep []outset.Keep, 
 	return out.Commit(outset.Identity{Tool: "geored", Command: "audit"})
 }
 
-// writeRejectLines writes rejects.csv of an audit: a row per delivered
-// row that could not be checked, its reason naming file, line and
-// column.
-func writeRejectLines(w io.Writer, rejects []string) error {
-	cw := csv.NewWriter(w)
-	cw.Write([]string{"reason"})
-	for _, r := range rejects {
-		cw.Write([]string{r})
-	}
-	cw.Flush()
-	return cw.Error()
-}
-
 // printAuditVerdict prints the audit's outcome for a person.
 func printAuditVerdict(w io.Writer, s *report.AuditSummary, out string) {
 	c := s.Counts
@@ -384,7 +436,11 @@ func printAuditVerdict(w io.Writer, s *report.AuditSummary, out string) {
 		c.Read, c.Checked, c.Distances, c.Vectors, c.Rejected, c.Passed, c.Failed, c.Loops, c.LoopsFailed)
 	fmt.Fprintf(w, "tolerance: %s\n", s.Tolerance)
 	for _, r := range s.Failing {
-		fmt.Fprintf(w, "  fails %s → %s %s (%s:%d): %+.1f mm, tolerance %.1f mm: %s\n", r.From, r.To, r.What, r.File, r.Line, r.Residual*1e3, r.Tolerance*1e3, r.Cause)
+		stage := ""
+		if r.Stage != "" {
+			stage = " (stage " + r.Stage + ")"
+		}
+		fmt.Fprintf(w, "  fails %s → %s %s (%s:%d): %+.1f mm, tolerance %.1f mm: %s%s\n", r.From, r.To, r.What, r.File, r.Line, r.Residual*1e3, r.Tolerance*1e3, r.Cause, stage)
 	}
 	for _, l := range s.FailingLoops {
 		fmt.Fprintf(w, "  loop %d fails: %.1f mm over %.0f m, tolerance %.1f mm: %s\n", l.Number, l.MM, l.Length, l.Tolerance*1e3, l.Marks)

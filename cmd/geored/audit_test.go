@@ -35,11 +35,14 @@ type auditScenario struct {
 	nVector int
 }
 
-var scenarioMarks = []struct {
+// scenarioMark is an invented mark: degrees, ellipsoidal height and N in metres.
+type scenarioMark struct {
 	id       string
 	lat, lon float64
 	h, n     float64
-}{
+}
+
+var scenarioMarks = []scenarioMark{
 	{"ALDER", 50.1000, 8.6000, 152.300, 47.95},
 	{"BIRCH", 50.1120, 8.6220, 131.800, 47.98},
 	{"CEDAR", 50.0950, 8.6310, 188.400, 47.90},
@@ -47,15 +50,22 @@ var scenarioMarks = []struct {
 	{"ELM", 50.1040, 8.6450, 120.600, 47.93},
 }
 
-func newAuditScenario(t *testing.T) *auditScenario {
+// writeScenarioPoints writes marks as dir/points.csv and returns its text.
+func writeScenarioPoints(t *testing.T, dir string, marks []scenarioMark) string {
 	t.Helper()
-	dir := t.TempDir()
 	var pts strings.Builder
 	pts.WriteString("id,lat,lon,ellipsoid_height,geoid_separation\n")
-	for _, m := range scenarioMarks {
+	for _, m := range marks {
 		fmt.Fprintf(&pts, "%s,%.7f,%.7f,%.3f,%.2f\n", m.id, m.lat, m.lon, m.h, m.n)
 	}
 	require.NoError(t, os.WriteFile(filepath.Join(dir, "points.csv"), []byte(pts.String()), 0o644))
+	return pts.String()
+}
+
+func newAuditScenario(t *testing.T) *auditScenario {
+	t.Helper()
+	dir := t.TempDir()
+	writeScenarioPoints(t, dir, scenarioMarks)
 	cfg := `crs = "EPSG:25832"
 points = "points.csv"
 geoid = "none"
@@ -143,6 +153,12 @@ ppm = 2
 	return sc
 }
 
+// scenarioStages are the stages of the scenario's injected errors.
+var scenarioStages = map[string]string{
+	"e-scale-twice": audit.StageScale, "e-geoid-ignored": audit.StageHeights, "e-ppm-twice": audit.StageAtmosphere,
+	"e-ground-as-grid": audit.StageKind, "e-blunder": "", "e-antenna": audit.StageAntenna,
+}
+
 // TestAuditScenario: each injected error is caught and named, and nothing
 // else is flagged: the clean distances, the vectors of the triangle, the
 // repeated baseline, the loops and the distance beside its vector pass.
@@ -164,6 +180,7 @@ func TestAuditScenario(t *testing.T) {
 		}
 		assert.Equal(t, "fail", r[col["verdict"]], "%s is caught", id)
 		assert.Equal(t, cause, r[col["cause"]], "%s is named", id)
+		assert.Equal(t, scenarioStages[id], r[col["stage"]], "%s: the stage", id)
 		assert.Equal(t, "5 mm + 2 ppm, linear, 95 %", r[col["tolerance"]], "%s: the tolerance with the verdict", id)
 	}
 	// The clean distance CEDAR → ALDER beside the vector CEDAR → ALDER.
@@ -228,7 +245,9 @@ func TestAuditExitStatus(t *testing.T) {
 	assert.Equal(t, exitFlagged, run([]string{"audit", "-config", sc.config, unknown}, &stdout, &stderr))
 	rej := readCSV(t, filepath.Join(sc.dir, "out", "rejects.csv"))
 	require.Len(t, rej, 2)
-	assert.Contains(t, rej[1][0], "unknown.csv:3: end mark \"NOWHERE\" is not in the points file")
+	assert.Equal(t, []string{"file", "line", "raw", "reason"}, rej[0])
+	assert.Equal(t, []string{unknown, "3", "x,ALDER,NOWHERE,grid,100,0.002,,,,,,,"}, rej[1][:3])
+	assert.Contains(t, rej[1][3], "unknown.csv:3: end mark \"NOWHERE\" is not in the points file")
 
 	stderr.Reset()
 	assert.Equal(t, exitFailed, run([]string{"audit", "-config", sc.config, filepath.Join(sc.dir, "missing.csv")}, &stdout, &stderr))

@@ -136,8 +136,9 @@ func Read(r io.Reader, file string, u units.LengthUnit) (*Result, error) {
 		p.line, _ = cr.FieldPos(0)
 		rw := v.(row)
 		b, err := p.parse(rw)
+		b.Raw = rw.raw(header)
 		if err != nil {
-			res.Rejects = append(res.Rejects, Reject{File: file, Line: p.line, Raw: rw.raw(header), Reason: err.Error()})
+			res.Rejects = append(res.Rejects, Reject{File: file, Line: p.line, Raw: b.Raw, Reason: err.Error()})
 			continue
 		}
 		res.Baselines = append(res.Baselines, b)

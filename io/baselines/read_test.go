@@ -31,6 +31,7 @@ v1,K1,K4,vector,,,-412.3456,1020.5,377.125,0.002,0.003,0.004,,
 	b := res.Baselines
 	assert.Equal(t, audit.Grid, b[0].Distance.Kind)
 	assert.Equal(t, 3, b[0].Line, "line of d1 after the comment and the header")
+	assert.Equal(t, "d1,K1,K2,grid,1234.5678,0.003,,,,,,,12.5,-30", b[0].Raw, "the row as written")
 	assert.Equal(t, 1234.5678, b[0].Distance.Value)
 	assert.True(t, b[0].Distance.HasAppliedPPM)
 	assert.Equal(t, 12.5, b[0].Distance.AppliedPPM)

@@ -37,8 +37,14 @@ type AuditRow struct {
 	Tolerance float64 `json:"tolerance_m"`
 	Margin    float64 `json:"margin_m"`
 	Pass      bool    `json:"pass"`
-	Cause     string  `json:"cause,omitempty"`
-	Tested    string  `json:"signatures_tested,omitempty"`
+	// Cause is the usual error named for the row, Stage the stage of the
+	// reduction where it is made: from the comparison with our own
+	// reduction of the raw observations where the row has them and it
+	// names one, else from the control (ControlCause).
+	Cause        string `json:"cause,omitempty"`
+	Stage        string `json:"stage,omitempty"`
+	ControlCause string `json:"cause_from_control,omitempty"`
+	Tested       string `json:"signatures_tested,omitempty"`
 	// ImpliedHeight: see audit.DistanceCheck.
 	ImpliedHeight float64 `json:"-"`
 	// Vectors: misclosure east, north, up at the start mark, the
@@ -55,6 +61,17 @@ type AuditRow struct {
 	// verdict on that difference at the line's tolerance.
 	CrossValue, CrossDiff float64 `json:"-"`
 	CrossPass             string  `json:"-"` // "pass", "fail" or "" when there is no vector
+	// Our reduction of the raw observations of the line (RawCount of
+	// them), stage by stage, beside the delivered value: see
+	// audit.RawCheck. RawPass is "pass", "fail" or "" without raw
+	// observations.
+	RawCount                                         int     `json:"raw_observations,omitempty"`
+	RawSlope, OurSlope, OurHorizontal, OurEllipsoid  float64 `json:"-"`
+	OurSeaLevel, OurGrid, OurValue, OurPPM, OurPrism float64 `json:"-"`
+	RawDiff                                          float64 `json:"delivered_minus_ours_m,omitempty"`
+	RawW, RawTolerance                               float64 `json:"-"`
+	RawPass                                          string  `json:"delivered_vs_ours,omitempty"`
+	RawCause, RawStage, RawTested                    string  `json:"-"`
 }
 
 func nan() float64 { return math.NaN() }
@@ -63,7 +80,9 @@ func blankRow(b *audit.Baseline) AuditRow {
 	n := nan()
 	return AuditRow{File: b.File, Line: b.Line, ID: b.ID, From: b.From, To: b.To, What: b.What(), IsVector: b.IsVector,
 		ImpliedHeight: n, East: n, North: n, Up: n, Horizontal: n, LengthMisclosure: n, Grid: n, ControlGrid: n,
-		DeltaH: n, ControlDeltaH: n, AntennaHeight: n, CrossValue: n, CrossDiff: n}
+		DeltaH: n, ControlDeltaH: n, AntennaHeight: n, CrossValue: n, CrossDiff: n,
+		RawSlope: n, OurSlope: n, OurHorizontal: n, OurEllipsoid: n, OurSeaLevel: n, OurGrid: n, OurValue: n, OurPPM: n, OurPrism: n,
+		RawDiff: n, RawW: n, RawTolerance: n}
 }
 
 // DistanceRow is a delivered distance's row.
@@ -71,8 +90,32 @@ func DistanceRow(b *audit.Baseline, c *audit.DistanceCheck) AuditRow {
 	r := blankRow(b)
 	r.Delivered, r.Reference, r.Residual, r.PPM, r.Sigma, r.W = c.Delivered, c.Reference, c.Residual, c.PPM, c.Sigma, c.W
 	r.Tolerance, r.Margin, r.Pass, r.ImpliedHeight = c.Tolerance, c.Margin, c.Pass, c.ImpliedHeight
-	r.Cause, r.Tested = c.Diagnosis.Cause, testedText(c.Diagnosis.Tested)
+	r.Cause, r.Stage, r.Tested = c.Diagnosis.Cause, c.Diagnosis.Stage, testedText(c.Diagnosis.Tested)
+	r.ControlCause = r.Cause
 	return r
+}
+
+// Failed reports whether the row fails: against the tolerance, beside
+// its vector, or beside our reduction of its raw observations.
+func (r AuditRow) Failed() bool { return !r.Pass || r.CrossPass == "fail" || r.RawPass == "fail" }
+
+// AddRaw puts beside a distance's row our reduction of its raw
+// observations, stage by stage. Where that comparison names a cause, it
+// is the row's (it uses our own stage values, not the control's alone);
+// the control's stays in ControlCause.
+func (r *AuditRow) AddRaw(c *audit.RawCheck) {
+	r.RawCount = c.Count
+	r.RawSlope, r.OurSlope, r.OurHorizontal, r.OurEllipsoid = c.Raw, c.Slope, c.Horizontal, c.Ellipsoid
+	r.OurSeaLevel, r.OurGrid, r.OurValue, r.OurPPM, r.OurPrism = c.SeaLevel, c.Grid, c.Ours, c.PPM, c.PrismConstant
+	r.RawDiff, r.RawW, r.RawTolerance = c.Difference, c.W, c.Tolerance
+	r.RawPass = "pass"
+	if !c.Pass {
+		r.RawPass = "fail"
+	}
+	r.RawCause, r.RawStage, r.RawTested = c.Diagnosis.Cause, c.Diagnosis.Stage, testedText(c.Diagnosis.Tested)
+	if c.Diagnosis.Cause != "" {
+		r.Cause, r.Stage = c.Diagnosis.Cause, c.Diagnosis.Stage
+	}
 }
 
 // VectorRow is a delivered vector's row.
@@ -80,7 +123,8 @@ func VectorRow(b *audit.Baseline, c *audit.VectorCheck) AuditRow {
 	r := blankRow(b)
 	r.Delivered, r.Reference, r.Residual, r.PPM, r.Sigma, r.W = c.Ellipsoid, c.ControlEllipsoid, c.Length, c.PPM, c.Sigma.Norm(), c.W
 	r.Tolerance, r.Margin, r.Pass = c.Tolerance, c.Margin, c.Pass
-	r.Cause = c.Diagnosis.Cause
+	r.Cause, r.Stage = c.Diagnosis.Cause, c.Diagnosis.Stage
+	r.ControlCause = r.Cause
 	r.East, r.North, r.Up, r.Horizontal, r.LengthMisclosure = c.Misclosure.X, c.Misclosure.Y, c.Misclosure.Z, c.Horizontal, c.LengthMisclosure
 	r.Grid, r.ControlGrid, r.DeltaH, r.ControlDeltaH = c.Grid, c.ControlGrid, c.DeltaH, c.ControlDeltaH
 	if c.Diagnosis.Cause != "" {
@@ -132,6 +176,23 @@ type AuditCounts struct {
 	LoopsFailed int `json:"loops_failed"`
 	Repeats     int `json:"repeated_baselines"`
 	CrossFailed int `json:"distance_vector_disagreements"`
+	// The subcontractor's raw observations: rows read, reduced and
+	// rejected (ObsRead = ObsReduced + ObsRejected), the distances set
+	// beside our reduction and those of them that differ.
+	ObsRead     int `json:"observations_read"`
+	ObsReduced  int `json:"observations_reduced"`
+	ObsRejected int `json:"observations_rejected"`
+	RawCompared int `json:"raw_compared"`
+	RawFailed   int `json:"raw_disagreements"`
+}
+
+// AuditReject is a row that could not be read or checked: a delivered
+// row, or a raw observation that could not be reduced.
+type AuditReject struct {
+	File   string `json:"file"`
+	Line   int    `json:"line"`
+	Raw    string `json:"raw"`    // the row as written
+	Reason string `json:"reason"` // with file, line, column, value and what was expected
 }
 
 // AuditSummary is summary.json of an audit, and what its report shows.
@@ -145,20 +206,20 @@ type AuditSummary struct {
 	Counts      AuditCounts `json:"counts"`
 	// Tolerance is the class or a mm + b ppm with its source, Critical
 	// the bound of the signatures' fit, ControlSigma the control's σ.
-	Tolerance    string      `json:"tolerance"`
-	Critical     float64     `json:"critical_value"`
-	ControlSigma float64     `json:"control_sigma_m"`
-	CRS          string      `json:"crs"`
-	CRSName      string      `json:"crs_name"`
-	Ellipsoid    string      `json:"ellipsoid"`
-	Geoid        string      `json:"geoid"`
-	LengthUnit   string      `json:"length_unit"`
-	Inputs       []InputFile `json:"inputs"`
-	Failing      []AuditRow  `json:"failing"`
-	FailingLoops []AuditLoop `json:"failing_loops"`
-	Rejects      []string    `json:"rejects"`
-	Warnings     []string    `json:"warnings"`
-	Caution      string      `json:"caution"`
+	Tolerance    string        `json:"tolerance"`
+	Critical     float64       `json:"critical_value"`
+	ControlSigma float64       `json:"control_sigma_m"`
+	CRS          string        `json:"crs"`
+	CRSName      string        `json:"crs_name"`
+	Ellipsoid    string        `json:"ellipsoid"`
+	Geoid        string        `json:"geoid"`
+	LengthUnit   string        `json:"length_unit"`
+	Inputs       []InputFile   `json:"inputs"`
+	Failing      []AuditRow    `json:"failing"`
+	FailingLoops []AuditLoop   `json:"failing_loops"`
+	Rejects      []AuditReject `json:"rejects"`
+	Warnings     []string      `json:"warnings"`
+	Caution      string        `json:"caution"`
 
 	Rows  []AuditRow  `json:"-"`
 	Loops []AuditLoop `json:"-"`
@@ -173,7 +234,13 @@ func (s *AuditSummary) Add(r AuditRow) {
 	} else {
 		s.Counts.Distances++
 	}
-	if r.Pass && r.CrossPass != "fail" {
+	if r.RawCount > 0 {
+		s.Counts.RawCompared++
+		if r.RawPass == "fail" {
+			s.Counts.RawFailed++
+		}
+	}
+	if !r.Failed() {
 		s.Counts.Passed++
 	} else {
 		s.Counts.Failed++
@@ -219,8 +286,14 @@ func DecideAudit(s *AuditSummary) {
 	if c.LoopsFailed > 0 {
 		s.Reasons = append(s.Reasons, fmt.Sprintf("%d of %d loops fail", c.LoopsFailed, c.Loops))
 	}
+	if c.RawFailed > 0 {
+		s.Reasons = append(s.Reasons, fmt.Sprintf("%d of %d delivered distances differ from our reduction of their raw observations", c.RawFailed, c.RawCompared))
+	}
 	if c.Rejected > 0 {
 		s.Reasons = append(s.Reasons, fmt.Sprintf("%d of %d rows rejected", c.Rejected, c.Read))
+	}
+	if c.ObsRejected > 0 {
+		s.Reasons = append(s.Reasons, fmt.Sprintf("%d of %d raw observations rejected", c.ObsRejected, c.ObsRead))
 	}
 	switch {
 	case c.Checked == 0:
@@ -250,7 +323,7 @@ func jsonSafe(s *AuditSummary) *AuditSummary {
 	c.Failing = append([]AuditRow(nil), s.Failing...)
 	for i := range c.Failing {
 		r := &c.Failing[i]
-		for _, f := range []*float64{&r.Delivered, &r.Reference, &r.Residual, &r.PPM, &r.Sigma, &r.W, &r.Tolerance, &r.Margin} {
+		for _, f := range []*float64{&r.Delivered, &r.Reference, &r.Residual, &r.PPM, &r.Sigma, &r.W, &r.Tolerance, &r.Margin, &r.RawDiff} {
 			if !finite(*f) {
 				*f = 0
 			}
@@ -262,10 +335,13 @@ func jsonSafe(s *AuditSummary) *AuditSummary {
 	if c.FailingLoops == nil {
 		c.FailingLoops = []AuditLoop{}
 	}
-	for _, p := range []*[]string{&c.Reasons, &c.Rejects, &c.Warnings} {
+	for _, p := range []*[]string{&c.Reasons, &c.Warnings} {
 		if *p == nil {
 			*p = []string{}
 		}
+	}
+	if c.Rejects == nil {
+		c.Rejects = []AuditReject{}
 	}
 	return &c
 }
@@ -273,12 +349,15 @@ func jsonSafe(s *AuditSummary) *AuditSummary {
 // AuditHeader is audit.csv's header; lengths in the job's unit u.
 func AuditHeader(u units.LengthUnit) []string {
 	l := u.String()
-	return []string{"file", "line", "id", "from", "to", "what", "verdict", "cause",
+	return []string{"file", "line", "id", "from", "to", "what", "verdict", "cause", "stage",
 		"delivered_" + l, "control_" + l, "residual_mm", "ppm", "sigma_mm", "w", "tolerance_mm", "margin_mm", "tolerance",
 		"implied_height_" + l,
 		"misclosure_east_mm", "misclosure_north_mm", "misclosure_up_mm", "misclosure_horizontal_mm", "geodesic_difference_mm",
 		"vector_grid_" + l, "control_grid_" + l, "vector_dh_" + l, "control_dh_" + l, "antenna_height_" + l,
-		"vector_as_this_kind_" + l, "distance_minus_vector_mm", "distance_vs_vector", "signatures_tested"}
+		"vector_as_this_kind_" + l, "distance_minus_vector_mm", "distance_vs_vector", "signatures_tested", "cause_from_control",
+		"raw_observations", "raw_slope_" + l, "our_slope_" + l, "our_horizontal_" + l, "our_ellipsoid_" + l, "our_sea_level_" + l, "our_grid_" + l,
+		"our_ppm", "our_prism_constant_mm", "our_value_" + l, "delivered_minus_ours_mm", "delivered_minus_ours_w", "delivered_minus_ours_tolerance_mm",
+		"delivered_vs_ours", "raw_stage", "raw_cause", "raw_signatures_tested"}
 }
 
 // WriteAuditCSV writes audit.csv: a row per delivered value.
@@ -289,16 +368,23 @@ func WriteAuditCSV(w io.Writer, s *AuditSummary, u units.LengthUnit) error {
 	}
 	for _, r := range s.Rows {
 		v := "pass"
-		if !r.Pass {
+		if r.Failed() {
 			v = "fail"
 		}
-		rec := []string{r.File, strconv.Itoa(r.Line), r.ID, r.From, r.To, r.What, v, r.Cause,
+		raw := ""
+		if r.RawCount > 0 {
+			raw = strconv.Itoa(r.RawCount)
+		}
+		rec := []string{r.File, strconv.Itoa(r.Line), r.ID, r.From, r.To, r.What, v, r.Cause, r.Stage,
 			lengthCell(r.Delivered, u, 4), lengthCell(r.Reference, u, 4), cell(r.Residual*1e3, 1), cell(r.PPM, 2), cell(r.Sigma*1e3, 1),
 			cell(r.W, 2), cell(r.Tolerance*1e3, 1), cell(r.Margin*1e3, 1), s.Tolerance,
 			lengthCell(r.ImpliedHeight, u, 2),
 			cell(r.East*1e3, 1), cell(r.North*1e3, 1), cell(r.Up*1e3, 1), cell(r.Horizontal*1e3, 1), cell(r.LengthMisclosure*1e3, 1),
 			lengthCell(r.Grid, u, 4), lengthCell(r.ControlGrid, u, 4), lengthCell(r.DeltaH, u, 4), lengthCell(r.ControlDeltaH, u, 4), lengthCell(r.AntennaHeight, u, 3),
-			lengthCell(r.CrossValue, u, 4), cell(r.CrossDiff*1e3, 1), r.CrossPass, r.Tested}
+			lengthCell(r.CrossValue, u, 4), cell(r.CrossDiff*1e3, 1), r.CrossPass, r.Tested, r.ControlCause,
+			raw, lengthCell(r.RawSlope, u, 4), lengthCell(r.OurSlope, u, 4), lengthCell(r.OurHorizontal, u, 4), lengthCell(r.OurEllipsoid, u, 4),
+			lengthCell(r.OurSeaLevel, u, 4), lengthCell(r.OurGrid, u, 4), cell(r.OurPPM, 2), cell(r.OurPrism*1e3, 1), lengthCell(r.OurValue, u, 4),
+			cell(r.RawDiff*1e3, 1), cell(r.RawW, 2), cell(r.RawTolerance*1e3, 1), r.RawPass, r.RawStage, r.RawCause, r.RawTested}
 		if err := cw.Write(rec); err != nil {
 			return err
 		}
@@ -354,4 +440,22 @@ func lengthCell(m float64, u units.LengthUnit, decimals int) string {
 		return ""
 	}
 	return s
+}
+
+// WriteAuditRejectsCSV writes rejects.csv of an audit with reduce's
+// columns (RejectsHeader: file, line, raw, reason): a row per delivered
+// row that could not be read or checked and per raw observation that
+// could not be reduced.
+func WriteAuditRejectsCSV(w io.Writer, s *AuditSummary) error {
+	cw := csv.NewWriter(w)
+	if err := cw.Write(RejectsHeader); err != nil {
+		return err
+	}
+	for _, r := range s.Rejects {
+		if err := cw.Write([]string{r.File, strconv.Itoa(r.Line), r.Raw, r.Reason}); err != nil {
+			return err
+		}
+	}
+	cw.Flush()
+	return cw.Error()
 }

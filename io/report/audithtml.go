@@ -1,9 +1,12 @@
 package report
 
 import (
+	"html"
 	"html/template"
 	"io"
 	"slices"
+	"strconv"
+	"strings"
 )
 
 // WriteAuditHTML writes report.html of an audit: the verdict, the
@@ -20,12 +23,12 @@ func WriteAuditHTML(w io.Writer, s *AuditSummary, tolerance func(float64) float6
 	// file order.
 	slices.SortStableFunc(rows, func(a, b AuditRow) int {
 		switch {
-		case a.Pass != b.Pass:
-			if !a.Pass {
+		case a.Failed() != b.Failed():
+			if a.Failed() {
 				return -1
 			}
 			return 1
-		case !a.Pass && a.Margin != b.Margin:
+		case a.Failed() && a.Margin != b.Margin:
 			if a.Margin < b.Margin {
 				return -1
 			}
@@ -37,12 +40,82 @@ func WriteAuditHTML(w io.Writer, s *AuditSummary, tolerance func(float64) float6
 	if caution == "" {
 		caution = Caution
 	}
+	var raw []AuditRow
+	for _, r := range rows {
+		if r.RawCount > 0 {
+			raw = append(raw, r)
+		}
+	}
 	return auditTemplate.Execute(w, struct {
 		*AuditSummary
-		Sorted  []AuditRow
-		Plot    template.HTML
-		Caution string
-	}{s, rows, template.HTML(svg), caution})
+		PassFail, LoopRows template.HTML
+		Raw                []AuditRow
+		Plot               template.HTML
+		Caution            string
+	}{s, passFailRows(rows), loopRows(s.Loops), raw, template.HTML(svg), caution})
+}
+
+// passFailRows is the pass/fail table's rows, written directly rather
+// than through the template: a network of thousands of lines spends most
+// of the report's time in the template's calls, once per cell.
+func passFailRows(rows []AuditRow) template.HTML {
+	var b strings.Builder
+	for i := range rows {
+		r := &rows[i]
+		v := "pass"
+		if r.Failed() {
+			v = "fail"
+		}
+		cause := r.Cause
+		if r.CrossPass == "fail" {
+			cause += " (disagrees with the vector by " + cell(r.CrossDiff*1e3, 1) + " mm)"
+		}
+		if r.RawPass == "fail" {
+			cause += " (differs from our reduction of the raw observations by " + cell(r.RawDiff*1e3, 1) + " mm)"
+		}
+		b.WriteString(`<tr class="` + v + `"><td>` + v + `</td>`)
+		for _, t := range []string{r.From, r.To, r.What, r.ID} {
+			htmlCell(&b, t)
+		}
+		for _, n := range []string{cell(r.Delivered, 4), cell(r.Reference, 4), cell(r.Residual*1e3, 1), cell(r.PPM, 2),
+			cell(r.Sigma*1e3, 1), cell(r.Tolerance*1e3, 1), cell(r.Margin*1e3, 1)} {
+			b.WriteString(`<td class="n">` + n + `</td>`)
+		}
+		for _, t := range []string{r.Stage, cause, r.File + ":" + strconv.Itoa(r.Line)} {
+			htmlCell(&b, t)
+		}
+		b.WriteString("</tr>\n")
+	}
+	return template.HTML(b.String())
+}
+
+// loopRows is the loops table's rows, as passFailRows.
+func loopRows(loops []AuditLoop) template.HTML {
+	var b strings.Builder
+	for i := range loops {
+		l := &loops[i]
+		v, kind := "pass", "loop"
+		if !l.Pass {
+			v = "fail"
+		}
+		if l.Repeat {
+			kind = "repeated baseline"
+		}
+		b.WriteString(`<tr class="` + v + `"><td>` + strconv.Itoa(l.Number) + `</td><td>` + v + `</td><td>` + kind + `</td>`)
+		for _, n := range []string{cell(l.MM, 2), cell(l.PPM, 2), cell(l.Tolerance*1e3, 1), cell(l.Length, 4)} {
+			b.WriteString(`<td class="n">` + n + `</td>`)
+		}
+		htmlCell(&b, l.Marks)
+		b.WriteString("</tr>\n")
+	}
+	return template.HTML(b.String())
+}
+
+// htmlCell writes a table cell of text, escaped.
+func htmlCell(b *strings.Builder, text string) {
+	b.WriteString("<td>")
+	b.WriteString(html.EscapeString(text))
+	b.WriteString("</td>")
 }
 
 var auditTemplate = template.Must(template.New("audit").Funcs(template.FuncMap{
@@ -78,12 +151,20 @@ Read {{.Counts.Read}} rows: {{.Counts.Checked}} checked ({{.Counts.Distances}} d
 
 <h2>Pass/fail, line by line</h2>
 <table id="pass-fail">
-<thead><tr><th>verdict</th><th>from</th><th>to</th><th>what</th><th>id</th><th>delivered</th><th>control</th><th>residual mm</th><th>ppm</th><th>σ mm</th><th>tolerance mm</th><th>margin mm</th><th>cause</th><th>where</th></tr></thead>
+<thead><tr><th>verdict</th><th>from</th><th>to</th><th>what</th><th>id</th><th>delivered</th><th>control</th><th>residual mm</th><th>ppm</th><th>σ mm</th><th>tolerance mm</th><th>margin mm</th><th>stage</th><th>cause</th><th>where</th></tr></thead>
 <tbody>
-{{range .Sorted}}<tr class="{{if .Pass}}pass{{else}}fail{{end}}"><td>{{if .Pass}}pass{{else}}fail{{end}}</td><td>{{.From}}</td><td>{{.To}}</td><td>{{.What}}</td><td>{{.ID}}</td><td class="n">{{m .Delivered}}</td><td class="n">{{m .Reference}}</td><td class="n">{{mm .Residual}}</td><td class="n">{{f2 .PPM}}</td><td class="n">{{mm .Sigma}}</td><td class="n">{{mm .Tolerance}}</td><td class="n">{{mm .Margin}}</td><td>{{.Cause}}{{if eq .CrossPass "fail"}} (disagrees with the vector by {{mm .CrossDiff}} mm){{end}}</td><td>{{.File}}:{{.Line}}</td></tr>
-{{end}}</tbody>
+{{.PassFail}}</tbody>
 </table>
 <p>A distance's residual is delivered − control of its own kind; a vector's is the 3-D misclosure of its end laid from the start mark (its east, north and up parts are in audit.csv).</p>
+
+{{if .Raw}}<h2>Delivered beside our reduction of the raw observations</h2>
+<p>Each distance whose line the subcontractor's raw observations cover, beside our own reduction of them with the job's settings (the mean of the line's observations, either direction), stage by stage. The difference delivered − ours is matched against the usual errors with our stage values; the stage named is where the fitting error is made.</p>
+<table id="raw">
+<thead><tr><th>verdict</th><th>from</th><th>to</th><th>what</th><th>observations</th><th>delivered</th><th>ours, this kind</th><th>delivered − ours mm</th><th>tolerance mm</th><th>our slope</th><th>our horizontal</th><th>our ellipsoid</th><th>our sea level</th><th>our grid</th><th>our ppm</th><th>stage</th><th>cause</th><th>where</th></tr></thead>
+<tbody>
+{{range .Raw}}<tr class="{{if eq .RawPass "pass"}}pass{{else}}fail{{end}}"><td>{{.RawPass}}</td><td>{{.From}}</td><td>{{.To}}</td><td>{{.What}}</td><td class="n">{{.RawCount}}</td><td class="n">{{m .Delivered}}</td><td class="n">{{m .OurValue}}</td><td class="n">{{mm .RawDiff}}</td><td class="n">{{mm .RawTolerance}}</td><td class="n">{{m .OurSlope}}</td><td class="n">{{m .OurHorizontal}}</td><td class="n">{{m .OurEllipsoid}}</td><td class="n">{{m .OurSeaLevel}}</td><td class="n">{{m .OurGrid}}</td><td class="n">{{f2 .OurPPM}}</td><td>{{.RawStage}}</td><td>{{.RawCause}}</td><td>{{.File}}:{{.Line}}</td></tr>
+{{end}}</tbody>
+</table>{{end}}
 
 {{if .Plot}}<figure id="plot">{{.Plot}}<figcaption id="plot-caption">|misclosure| of each delivered value and loop against its length, with the tolerance.</figcaption></figure>{{end}}
 
@@ -91,12 +172,11 @@ Read {{.Counts.Read}} rows: {{.Counts.Checked}} checked ({{.Counts.Distances}} d
 <table id="loops">
 <thead><tr><th>loop</th><th>verdict</th><th>kind</th><th>misclosure mm</th><th>ppm</th><th>tolerance mm</th><th>length m</th><th>marks</th></tr></thead>
 <tbody>
-{{range .Loops}}<tr class="{{if .Pass}}pass{{else}}fail{{end}}"><td>{{.Number}}</td><td>{{if .Pass}}pass{{else}}fail{{end}}</td><td>{{if .Repeat}}repeated baseline{{else}}loop{{end}}</td><td class="n">{{f2 .MM}}</td><td class="n">{{f2 .PPM}}</td><td class="n">{{mm .Tolerance}}</td><td class="n">{{m .Length}}</td><td>{{.Marks}}</td></tr>
-{{end}}</tbody>
+{{.LoopRows}}</tbody>
 </table>{{end}}
 
 {{if .Rejects}}<h2>Rejected rows</h2>
-<ul id="rejects">{{range .Rejects}}<li>{{.}}</li>{{end}}</ul>{{end}}
+<ul id="rejects">{{range .Rejects}}<li>{{.Reason}}</li>{{end}}</ul>{{end}}
 {{if .Warnings}}<h2>Warnings</h2><ul>{{range .Warnings}}<li>{{.}}</li>{{end}}</ul>{{end}}
 <p>{{.Tool}} {{.Version}}, PROJ {{.ProjVersion}}.</p>
 <p class="caution" role="note"><strong>Caution.</strong> {{.Caution}}</p>

@@ -117,6 +117,7 @@ type Baseline struct {
 	ID       string // the row's id, or "" when the file gives none
 	File     string
 	Line     int
+	Raw      string // the row as written, its fields joined by commas
 	From, To string
 	IsVector bool
 	Distance Distance // when !IsVector

@@ -3,6 +3,7 @@ package audit
 import (
 	"fmt"
 	"math"
+	"slices"
 	"strings"
 )
 
@@ -67,12 +68,26 @@ func CheckDistance(d Distance, c LineControl, s Settings) (DistanceCheck, error)
 	return out, nil
 }
 
-// Signature is a usual error and the difference it would make,
-// delivered − control, metres.
+// Signature is a usual error, the stage of the reduction where it is
+// made, and the difference it would make, delivered − control (or
+// delivered − our own reduction), metres.
 type Signature struct {
 	Name      string
+	Stage     string
 	Predicted float64
 }
+
+// The stages of the reduction where a usual error is made, in the
+// chain's order: slope → horizontal → ellipsoid → grid.
+const (
+	StageInstrument = "slope: instrument (prism constant)"
+	StageAtmosphere = "slope: first velocity correction (ppm)"
+	StageHeights    = "ellipsoid: heights (geoid separation N)"
+	StageElevation  = "horizontal → ellipsoid: elevation factor"
+	StageScale      = "ellipsoid → grid: line scale factor"
+	StageKind       = "delivered kind: the value of another stage"
+	StageAntenna    = "vector: antenna height (not mark to mark)"
+)
 
 // DistanceSignatures lists the errors a distance of d's kind may carry
 // and the difference each would make on this line, from the control's
@@ -103,9 +118,9 @@ func DistanceSignatures(d Distance, c LineControl) []Signature {
 	G := s * (R + hm) / R
 	L := s * (R + nm) / R
 	var out []Signature
-	add := func(ok bool, name string, v float64) {
+	add := func(ok bool, stage, name string, v float64) {
 		if ok {
-			out = append(out, Signature{Name: name, Predicted: v})
+			out = append(out, Signature{Name: name, Stage: stage, Predicted: v})
 		}
 	}
 	hh, nn := c.HasHeights, c.HasSeparation
@@ -113,33 +128,33 @@ func DistanceSignatures(d Distance, c LineControl) []Signature {
 	switch d.Kind {
 	case Grid:
 		D = g
-		add(true, "scale factor applied twice", g*(k-1))
-		add(true, "scale factor not applied (an ellipsoid distance delivered as grid)", g/k-g)
-		add(hh, "elevation factor left out", g*hm/R)
-		add(hh && c.HeightA != c.HeightB, "elevation factor taken at the start mark's height, not the mean", g*(hm-c.HeightA)/(R+c.HeightA))
-		add(hh && c.HeightA != c.HeightB, "elevation factor taken at the end mark's height, not the mean", g*(hm-c.HeightB)/(R+c.HeightB))
-		add(nn, "geoid separation ignored (orthometric heights taken as ellipsoidal)", g*nm/R)
-		add(hh, "grid and ground swapped (a ground distance delivered as grid)", G-g)
+		add(true, StageScale, "scale factor applied twice", g*(k-1))
+		add(true, StageScale, "scale factor not applied (an ellipsoid distance delivered as grid)", g/k-g)
+		add(hh, StageElevation, "elevation factor left out", g*hm/R)
+		add(hh && c.HeightA != c.HeightB, StageElevation, "elevation factor taken at the start mark's height, not the mean", g*(hm-c.HeightA)/(R+c.HeightA))
+		add(hh && c.HeightA != c.HeightB, StageElevation, "elevation factor taken at the end mark's height, not the mean", g*(hm-c.HeightB)/(R+c.HeightB))
+		add(nn, StageHeights, "geoid separation ignored (orthometric heights taken as ellipsoidal)", g*nm/R)
+		add(hh, StageKind, "grid and ground swapped (a ground distance delivered as grid)", G-g)
 	case Ellipsoid:
 		D = s
-		add(hh, "elevation factor left out (a ground distance delivered as ellipsoidal)", G-s)
-		add(nn, "a sea-level distance delivered as ellipsoidal (geoid separation ignored)", L-s)
-		add(true, "scale factor applied (a grid distance delivered as ellipsoidal)", g-s)
+		add(hh, StageElevation, "elevation factor left out (a ground distance delivered as ellipsoidal)", G-s)
+		add(nn, StageHeights, "a sea-level distance delivered as ellipsoidal (geoid separation ignored)", L-s)
+		add(true, StageScale, "scale factor applied (a grid distance delivered as ellipsoidal)", g-s)
 	case Ground:
 		D = G
-		add(true, "grid and ground swapped (a grid distance delivered as ground)", g-G)
-		add(true, "scale factor applied to a ground distance", G*(k-1))
-		add(true, "elevation factor applied (an ellipsoid distance delivered as ground)", s-G)
-		add(c.HeightA != c.HeightB, "horizontal distance at the start mark's height, not the mean", s*(c.HeightA-hm)/R)
-		add(c.HeightA != c.HeightB, "horizontal distance at the end mark's height, not the mean", s*(c.HeightB-hm)/R)
+		add(true, StageKind, "grid and ground swapped (a grid distance delivered as ground)", g-G)
+		add(true, StageScale, "scale factor applied to a ground distance", G*(k-1))
+		add(true, StageElevation, "elevation factor applied (an ellipsoid distance delivered as ground)", s-G)
+		add(c.HeightA != c.HeightB, StageElevation, "horizontal distance at the start mark's height, not the mean", s*(c.HeightA-hm)/R)
+		add(c.HeightA != c.HeightB, StageElevation, "horizontal distance at the end mark's height, not the mean", s*(c.HeightB-hm)/R)
 	case SeaLevel:
 		D = L
-		add(true, "an ellipsoidal distance delivered as sea level (geoid separation ignored)", s-L)
-		add(hh, "elevation factor left out (a ground distance delivered as sea level)", G-L)
-		add(true, "scale factor applied to a sea-level distance", L*(k-1))
+		add(true, StageHeights, "an ellipsoidal distance delivered as sea level (geoid separation ignored)", s-L)
+		add(hh, StageElevation, "elevation factor left out (a ground distance delivered as sea level)", G-L)
+		add(true, StageScale, "scale factor applied to a sea-level distance", L*(k-1))
 	}
-	add(d.HasAppliedPPM && d.AppliedPPM != 0, fmt.Sprintf("ppm applied twice (%+g ppm)", d.AppliedPPM), D*d.AppliedPPM*1e-6)
-	add(d.HasPrismConstant && d.PrismConstant != 0, fmt.Sprintf("prism constant applied twice (%+g mm)", d.PrismConstant*1e3), d.PrismConstant*D/s)
+	add(d.HasAppliedPPM && d.AppliedPPM != 0, StageAtmosphere, fmt.Sprintf("ppm applied twice (%+.4g ppm)", d.AppliedPPM), D*d.AppliedPPM*1e-6)
+	add(d.HasPrismConstant && d.PrismConstant != 0, StageInstrument, fmt.Sprintf("prism constant applied twice (%+.4g mm)", d.PrismConstant*1e3), d.PrismConstant*D/s)
 	return out
 }
 
@@ -153,7 +168,10 @@ type Diagnosis struct {
 	// apart), or NoKnownCause; "" when nothing needed explaining.
 	Cause   string
 	Fitting []string
-	Tested  []Fit
+	// Stage is the stage of the reduction where the fitting error is
+	// made (the stages of the ties joined by " or "), "" when none fits.
+	Stage  string
+	Tested []Fit
 }
 
 // Fit is one signature tested against the observed difference.
@@ -172,14 +190,19 @@ type Fit struct {
 // It names the one that fits, lists the ties, or says NoKnownCause.
 func Diagnose(observed, sigma, critical float64, sigs []Signature) Diagnosis {
 	d := Diagnosis{}
+	var stages []string
 	for _, sg := range sigs {
 		z := (observed - sg.Predicted) / sigma
 		f := Fit{Signature: sg, Z: z, Fits: math.Abs(z) <= critical && math.Abs(sg.Predicted) > critical*sigma}
 		d.Tested = append(d.Tested, f)
 		if f.Fits {
 			d.Fitting = append(d.Fitting, sg.Name)
+			if !slices.Contains(stages, sg.Stage) {
+				stages = append(stages, sg.Stage)
+			}
 		}
 	}
+	d.Stage = strings.Join(stages, " or ")
 	switch len(d.Fitting) {
 	case 0:
 		d.Cause = NoKnownCause

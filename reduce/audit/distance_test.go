@@ -115,10 +115,11 @@ func TestCheckDistanceNumbers(t *testing.T) {
 // TestDiagnoseTie: two signatures that predict the same difference are
 // both named.
 func TestDiagnoseTie(t *testing.T) {
-	d := Diagnose(10*mm, 2*mm, 3.29, []Signature{{"a", 10 * mm}, {"b", 11 * mm}, {"c", -10 * mm}})
+	d := Diagnose(10*mm, 2*mm, 3.29, []Signature{{"a", StageScale, 10 * mm}, {"b", StageKind, 11 * mm}, {"c", StageScale, -10 * mm}})
 	assert.Equal(t, "a or b", d.Cause)
 	assert.Equal(t, []string{"a", "b"}, d.Fitting)
+	assert.Equal(t, StageScale+" or "+StageKind, d.Stage, "the stages of the ties")
 	// A signature too small to tell from no error explains nothing.
-	d = Diagnose(1*mm, 2*mm, 3.29, []Signature{{"tiny", 1 * mm}})
+	d = Diagnose(1*mm, 2*mm, 3.29, []Signature{{"tiny", StageScale, 1 * mm}})
 	assert.Equal(t, NoKnownCause, d.Cause)
 }

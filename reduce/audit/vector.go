@@ -132,7 +132,7 @@ func CheckVector(v Vector, c VectorControl, s Settings) (VectorCheck, error) {
 }
 
 func antennaDiagnosis(name string) Diagnosis {
-	return Diagnosis{Cause: name, Fitting: []string{name}}
+	return Diagnosis{Cause: name, Fitting: []string{name}, Stage: StageAntenna}
 }
 
 // antennaFit takes out of the misclosure d (geocentric) its component h

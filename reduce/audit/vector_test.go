@@ -1,6 +1,7 @@
 package audit
 
 import (
+	"strings"
 	"testing"
 
 	"github.com/golang/geo/r3"
@@ -41,6 +42,11 @@ func TestCheckVector(t *testing.T) {
 		require.NoError(t, err, tc.name)
 		assert.Equal(t, tc.pass, got.Pass, tc.name)
 		assert.Equal(t, tc.cause, got.Diagnosis.Cause, tc.name)
+		if strings.HasPrefix(tc.cause, "antenna") {
+			assert.Equal(t, StageAntenna, got.Diagnosis.Stage, tc.name)
+		} else {
+			assert.Empty(t, got.Diagnosis.Stage, tc.name)
+		}
 		if tc.height != 0 {
 			assert.InDelta(t, tc.height, got.AntennaHeight, 1e-9, tc.name)
 			assert.InDelta(t, tc.height, got.Misclosure.Z, 1*mm, "%s: up at A, m (B's vertical is 0.0003 rad off A's)", tc.name)
