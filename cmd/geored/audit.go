@@ -140,7 +140,7 @@ func auditJob(j *jobconfig.Job, jobFile string, files []string, verbose bool, st
 		if err != nil {
 			return nil, err
 		}
-		res, err := baselines.Read(bytes.NewReader(data), path, j.LengthUnit)
+		res, err := baselines.ReadDelimited(bytes.NewReader(data), path, j.LengthUnit, j.Delimiter)
 		if err != nil {
 			return nil, err
 		}

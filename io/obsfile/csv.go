@@ -68,11 +68,11 @@ func openTable(r io.Reader, file string, known []string, lim Limits, format csvF
 	// What Peek returns short of peekBytes is the file's end or an error
 	// that the reads below meet again (the rowLimiter keeps its error).
 	head, _ := br.Peek(peekBytes)
-	delim, why := format.delim, "as the job's "+DelimiterKey+" setting says"
+	delim, why := format.delim, DelimiterBySetting
 	if delim == DelimiterAuto {
 		var err error
 		if delim, why, err = FindDelimiter(head, known); err != nil {
-			return nil, nil, &HeaderError{File: file, Line: 1, Reason: err.Error() + "; " + delimiterAdvice}
+			return nil, nil, &HeaderError{File: file, Line: 1, Reason: err.Error() + "; " + DelimiterAdvice}
 		}
 	}
 	mark := decimalMark{mark: units.DecimalPoint}
@@ -138,13 +138,13 @@ func openTable(r io.Reader, file string, known []string, lim Limits, format csvF
 	return t, warnings, nil
 }
 
-// delimiterAdvice says how to give the delimiter.
-const delimiterAdvice = "set " + DelimiterKey + ` = ",", ";" or "tab" in the job (or -` + DelimiterKey + `) to say which`
+// DelimiterAdvice says how to give the delimiter.
+const DelimiterAdvice = "set " + DelimiterKey + ` = ",", ";" or "tab" in the job (or -` + DelimiterKey + `) to say which`
 
 // headerError is a header's error that comes from its columns: it says
 // which delimiter they were split at, and why.
 func (t *table) headerError(line int, reason string) *HeaderError {
-	return &HeaderError{File: t.file, Line: line, Reason: fmt.Sprintf("%s (the columns split at %s, %s; %s)", reason, t.delim.quoted(), t.delimWhy, delimiterAdvice)}
+	return &HeaderError{File: t.file, Line: line, Reason: reason + " " + DelimiterNote(t.delim, t.delimWhy)}
 }
 
 // A rowReader gives a table its rows: encoding/csv's Reader, or

@@ -210,21 +210,37 @@ func markIn(rec []string, cols []int) (units.DecimalMark, int) {
 
 // markText explains, for the error of a number s that could not be read,
 // what its decimal mark has to do with it: "" where nothing.
-func (t *table) markText(s string) string {
+func (t *table) markText(s string) string { return MarkNote(t.delim, t.mark.mark, t.mark.line, s) }
+
+// MarkNote explains, for the error of a number s that could not be read
+// in a file delimited by d whose decimal mark is mark (first on line),
+// what its decimal mark has to do with it, as "; …" to append to what
+// was expected; "" where nothing.
+func MarkNote(d Delimiter, mark units.DecimalMark, line int, s string) string {
 	switch {
-	case !t.delim.Decimals():
+	case !d.Decimals():
 		if strings.Contains(s, ",") {
-			return "; a decimal comma is read only in a semicolon- or tab-delimited file (this one is delimited by " + t.delim.quoted() + ")"
+			return "; a decimal comma is read only in a semicolon- or tab-delimited file (this one is delimited by " + d.quoted() + ")"
 		}
 	case strings.Contains(s, ".") && strings.Contains(s, ","):
 		return "; a number has one decimal mark, '.' or ',', and no separator of thousands"
-	case t.mark.mark == units.DecimalComma && strings.Contains(s, "."):
-		return fmt.Sprintf("; the file writes its decimal mark as ',' (first on line %d), so '.' is not read (a separator of thousands is not taken)", t.mark.line)
-	case t.mark.mark == units.DecimalPoint && strings.Contains(s, ","):
-		return fmt.Sprintf("; the file writes its decimal mark as '.' (first on line %d), so ',' is not read (a separator of thousands is not taken)", t.mark.line)
+	case mark == units.DecimalComma && strings.Contains(s, "."):
+		return fmt.Sprintf("; the file writes its decimal mark as ',' (first on line %d), so '.' is not read (a separator of thousands is not taken)", line)
+	case mark == units.DecimalPoint && strings.Contains(s, ","):
+		return fmt.Sprintf("; the file writes its decimal mark as '.' (first on line %d), so ',' is not read (a separator of thousands is not taken)", line)
 	}
 	return ""
 }
+
+// DelimiterNote says, for a header's error, at which delimiter its
+// columns were split and why (as FindDelimiter says it, or the job's
+// setting), and how to give it.
+func DelimiterNote(d Delimiter, why string) string {
+	return fmt.Sprintf("(the columns split at %s, %s; %s)", d.quoted(), why, DelimiterAdvice)
+}
+
+// DelimiterBySetting is why a delimiter that the job gives was taken.
+const DelimiterBySetting = "as the job's " + DelimiterKey + " setting says"
 
 // markOf is the decimal mark to read s with: the file's, or, while the
 // file has shown none, a point (s then has no mark, or it would have
