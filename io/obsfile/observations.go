@@ -98,6 +98,9 @@ type ObsReader struct {
 	opt ObsOptions
 	// column indexes, −1 where absent
 	from, to, slope, zenith, hi, ht, temp, pres, hum, tempTo, presTo, humTo, prism, fieldPrism, instr, obsID int
+	// comma is whether the file's decimal mark is a comma (t.mark), as
+	// of the row being parsed.
+	comma bool
 }
 
 // A RowError is a row that cannot be used; the reader goes on after it.
@@ -163,6 +166,7 @@ func (o *ObsReader) NextAppend(fields []string) (Observation, []string, error) {
 		}
 		return Observation{}, fields, err
 	}
+	o.comma = o.t.mark.mark == units.DecimalComma
 	n := len(fields)
 	fields = append(fields, o.t.row...)
 	obs, fe := o.parse(fields[n:len(fields):len(fields)])
@@ -199,16 +203,21 @@ func (o *ObsReader) bad(i int, want string) *FieldError {
 // decimal mark; want says what was expected, built only when the value is
 // bad.
 func (o *ObsReader) number(i int, want func() string) (float64, *FieldError) {
-	s := o.field(i)
-	var v float64
-	var err error
-	if o.t.mark.mark == units.DecimalComma {
-		v, err = units.ParseFloatMark(s, units.DecimalComma)
-	} else {
-		v, err = units.ParseFloat(s)
+	if o.comma {
+		return o.numberComma(i, want)
 	}
+	v, err := units.ParseFloat(o.field(i))
 	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
-		return 0, o.bad(i, want()+o.t.markText(s))
+		return 0, o.bad(i, want()+o.t.markText(o.field(i)))
+	}
+	return v, nil
+}
+
+// numberComma is number in a file whose decimal mark is a comma.
+func (o *ObsReader) numberComma(i int, want func() string) (float64, *FieldError) {
+	v, err := units.ParseFloatMark(o.field(i), units.DecimalComma)
+	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+		return 0, o.bad(i, want()+o.t.markText(o.field(i)))
 	}
 	return v, nil
 }
@@ -239,7 +248,13 @@ func (o *ObsReader) parse(fields []string) (Observation, *FieldError) {
 		return ob, o.bad(o.slope, fmt.Sprintf("a slope distance in %s, > 0 and at most 100 km", u))
 	}
 	ob.SlopeDistance = v * float64(u)
-	z, err := units.ParseZenithAngleMark(o.field(o.zenith), o.opt.AngleUnit, t.markOf())
+	var z s1.Angle
+	var err error
+	if o.comma {
+		z, err = units.ParseZenithAngleMark(o.field(o.zenith), o.opt.AngleUnit, units.DecimalComma)
+	} else {
+		z, err = units.ParseZenithAngle(o.field(o.zenith), o.opt.AngleUnit)
+	}
 	if err != nil {
 		return ob, &FieldError{File: t.file, Line: ob.Line, Column: o.zenith + 1, Field: colZenith, Value: t.row[o.zenith], Want: zenithWant(err, o.opt.AngleUnit) + t.markText(o.field(o.zenith)), Err: err}
 	}

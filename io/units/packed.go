@@ -26,7 +26,10 @@ func parsePackedDegrees(quantity, s string, mark DecimalMark) (float64, error) {
 	case strings.HasPrefix(t, "+"):
 		t = t[1:]
 	}
-	whole, frac, _ := strings.Cut(t, string(rune(mark)))
+	whole, frac := t, ""
+	if i := strings.IndexByte(t, byte(mark)); i >= 0 {
+		whole, frac = t[:i], t[i+1:]
+	}
 	if whole == "" && frac == "" {
 		return bad(nil)
 	}
