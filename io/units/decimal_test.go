@@ -53,6 +53,25 @@ func TestParseFloatDecimalOnly(t *testing.T) {
 	}
 }
 
+// randomDecimal is a number of 1 to maxDigits random digits, negative one
+// time in four, with a decimal point at a random place: in n − 1 of n of
+// them, or in every one where n is 1.
+func randomDecimal(rng *rand.Rand, maxDigits, n int) []byte {
+	digits := 1 + rng.IntN(maxDigits)
+	b := make([]byte, 0, maxDigits+8)
+	if rng.IntN(4) == 0 {
+		b = append(b, '-')
+	}
+	point := rng.IntN(digits + 1)
+	for d := range digits {
+		if d == point && (n == 1 || rng.IntN(n) > 0) {
+			b = append(b, '.')
+		}
+		b = append(b, byte('0'+rng.IntN(10)))
+	}
+	return b
+}
+
 func TestParseFloatMatchesStrconv(t *testing.T) {
 	for _, s := range []string{
 		"0", "-0", "+0", "0.0", "-0.000", "1", "1.", ".5", "-.5", "+.5", ".", "-", "+", "", " 1", "1 ", "1..2", "1.2.3",
@@ -64,19 +83,7 @@ func TestParseFloatMatchesStrconv(t *testing.T) {
 	}
 	rng := rand.New(rand.NewPCG(3, 4))
 	for range 200000 {
-		digits := 1 + rng.IntN(19)
-		b := make([]byte, 0, 24)
-		if rng.IntN(4) == 0 {
-			b = append(b, '-')
-		}
-		point := rng.IntN(digits + 1)
-		for d := range digits {
-			if d == point && rng.IntN(3) > 0 {
-				b = append(b, '.')
-			}
-			b = append(b, byte('0'+rng.IntN(10)))
-		}
-		sameAsStrconv(t, string(b))
+		sameAsStrconv(t, string(randomDecimal(rng, 19, 3)))
 	}
 }
 
@@ -135,18 +142,7 @@ func TestParseFloatMarkComma(t *testing.T) {
 	}
 	rng := rand.New(rand.NewPCG(5, 6))
 	for range 100000 {
-		digits := 1 + rng.IntN(24)
-		b := make([]byte, 0, 32)
-		if rng.IntN(4) == 0 {
-			b = append(b, '-')
-		}
-		point := rng.IntN(digits + 1)
-		for d := range digits {
-			if d == point {
-				b = append(b, '.')
-			}
-			b = append(b, byte('0'+rng.IntN(10)))
-		}
+		b := randomDecimal(rng, 24, 1)
 		if rng.IntN(8) == 0 {
 			b = append(b, 'e')
 			b = strconv.AppendInt(b, int64(rng.IntN(40)-20), 10)
