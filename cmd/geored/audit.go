@@ -165,7 +165,7 @@ func auditJob(ctx context.Context, j *jobconfig.Job, jobFile string, files []str
 		if err != nil {
 			return nil, err
 		}
-		res, err := baselines.Read(bytes.NewReader(data), path, j.LengthUnit)
+		res, err := baselines.ReadDelimited(bytes.NewReader(data), path, j.LengthUnit, j.Delimiter)
 		if err != nil {
 			return nil, err
 		}

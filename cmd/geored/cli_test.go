@@ -101,7 +101,7 @@ func helpFlags(t *testing.T, cmd string) []string {
 // Each command's -help lists the flags that command uses, and no others.
 func TestHelpListsOnlyFlagsUsed(t *testing.T) {
 	assert.ElementsMatch(t, append([]string{"pairs", "csv"}, predictFlags...), helpFlags(t, "predict"))
-	assert.ElementsMatch(t, []string{"config", "crs", "points", "length-unit", "angle-unit", "geoid", "geoid-separation-m",
+	assert.ElementsMatch(t, []string{"config", "crs", "points", "length-unit", "angle-unit", "geoid", "geoid-separation-m", "delimiter",
 		"from", "to", "lines", "a", "b", "csv"}, helpFlags(t, "inverse"))
 	sl := helpFlags(t, "sightline")
 	for _, n := range []string{"tolerance", "critical", "job-alpha", "out", "workers", "wavelength-um", "spec", "angle-unit", "default-atmosphere"} {

@@ -27,6 +27,7 @@ type session struct {
 	order     []string // point ids in file order
 	pointFile string
 	limits    obsfile.Limits // of the points file (zero: the defaults)
+	delimiter obsfile.Delimiter
 }
 
 // openJobSession opens a job's CRS and its geoid: the named grid, none,
@@ -41,7 +42,7 @@ func openJobSession(j *jobconfig.Job) (*session, error) {
 		return nil, err
 	}
 	s.seps.Constant, s.seps.HasConstant = j.ConstantN, j.HasConstantN
-	s.limits = j.Limits
+	s.limits, s.delimiter = j.Limits, j.Delimiter
 	return s, nil
 }
 
@@ -106,6 +107,7 @@ func (s *session) loadPoints(r io.Reader, name string, warn func(obsfile.Warning
 		GridUnit:   s.gridUnit,
 		HeightUnit: s.unit,
 		Limits:     s.limits,
+		Delimiter:  s.delimiter,
 	})
 	for _, w := range warnings {
 		warn(w)

@@ -30,7 +30,7 @@ type inverseFlags struct {
 
 // inverseJobFlags are the job flags inverse uses: the CRS, the points,
 // the geoid and the units.
-var inverseJobFlags = []string{"config", "crs", "points", "length-unit", "angle-unit", "geoid", "geoid-separation-m"}
+var inverseJobFlags = []string{"config", "crs", "points", "length-unit", "angle-unit", "geoid", "geoid-separation-m", "delimiter"}
 
 func (f *inverseFlags) register(fs *flag.FlagSet) {
 	f.job.registerOnly(fs, inverseJobFlags...)

@@ -16,7 +16,7 @@ type jobFlags struct {
 	config                                                 string
 	crs, points, out, lengthUnit, angleUnit, datum, geoid  string
 	geoidN, k, critical, jobAlpha, globalAlpha             float64
-	tolerance, atmosphere                                  string
+	tolerance, atmosphere, delimiter                       string
 	workers                                                int
 	profile, wavelength, refAtmos, spec, rowPrism          string
 	refN, addMM, scalePPM, prismMM, fieldPPM, fieldPrismMM float64
@@ -52,6 +52,7 @@ func (f *jobFlags) register(fs *flag.FlagSet) {
 	fs.Float64Var(&f.fieldPrismMM, "field-prism-constant-mm", 0, "prism constant the field instrument already applied, mm (config: field_prism_constant_mm)")
 	fs.StringVar(&f.rowPrism, "row-prism-constant", "", "what a row's prism_constant_mm is: 'target' (the instrument applied field_prism_constant_mm) or 'applied' (the instrument applied the row's own constant) (config: row_prism_constant)")
 	fs.StringVar(&f.spec, "spec", "", "EDM specification 'A mm + B ppm' (RSS, 1σ) (config: spec_mm, spec_ppm)")
+	fs.StringVar(&f.delimiter, "delimiter", "", "delimiter of the points and observation files' fields: auto (found from each file's header), ',', ';' or tab; a decimal comma is read in ';' and tab files only (config: delimiter; default auto)")
 	f.limits.register(fs)
 }
 
@@ -86,6 +87,7 @@ func (f *jobFlags) file(fs *flag.FlagSet) (jobconfig.File, string, error) {
 	str("angle-unit", &jf.AngleUnit, f.angleUnit)
 	str("reduction-datum", &jf.ReductionDatum, f.datum)
 	str("geoid", &jf.Geoid, f.geoid)
+	str("delimiter", &jf.Delimiter, f.delimiter)
 	num("geoid-separation-m", &jf.GeoidSeparationM, f.geoidN)
 	num("k", &jf.RefractionK, f.k)
 	num("critical", &jf.CriticalValue, f.critical)
@@ -271,7 +273,7 @@ func (f *jobFlags) registerOnly(fs *flag.FlagSet, names ...string) {
 var (
 	// siteFlags place the marks: the CRS, the points and their heights,
 	// refraction.
-	siteFlags = []string{"config", "crs", "points", "length-unit", "reduction-datum", "geoid", "geoid-separation-m", "k"}
+	siteFlags = []string{"config", "crs", "points", "length-unit", "reduction-datum", "geoid", "geoid-separation-m", "k", "delimiter"}
 	// instrumentFlags set an instrument profile.
 	instrumentFlags = []string{"instrument", "wavelength-um", "reference-atmosphere", "reference-refractivity", "additive-constant-mm",
 		"scale-ppm", "prism-constant-mm", "field-ppm", "field-prism-constant-mm", "row-prism-constant", "spec"}

@@ -458,6 +458,9 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 	sum.Settings = settings(j, s.crs, s.geoidGrid, opt.strict)
 	sum.Settings.GridUnit = s.gridUnit.String()
 	sum.InputHash = inputHash(sum)
+	if r := out.Replaces(); r != nil {
+		sum.Replaces = &report.Replaced{Created: r.Created.Format(time.RFC3339), InputHash: r.InputHash}
+	}
 	agg.Finish(sum)
 	report.Decide(sum, opt.strict)
 

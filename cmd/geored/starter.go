@@ -319,7 +319,16 @@ points = "points.csv"
 # command line replace this list. Required (here or on the command line).
 observations = ["observations.csv"]
 
-# out: the output folder, geored's alone. Default: geored-out.
+# delimiter: what separates the fields of points.csv and the observation
+# files: "auto" (found from each file's header: the one of , ; and tab
+# that splits it into the most known column names), ",", ";" or "tab".
+# In a ";" or tab file a number may write its decimal mark as ',' (not
+# both marks in one file, and no separator of thousands: 1.234,5 is an
+# error); in a "," file it is always '.'. Default: "auto".
+# delimiter = "auto"
+
+# out: the output folder, geored's alone; a run replaces the outputs of
+# an earlier run there whole, and says so. Default: geored-out.
 out = "geored-out"
 
 # length_unit: unit of slope distances, heights and printed lengths:

@@ -21,6 +21,19 @@ type parser struct {
 	cr   *csv.Reader
 	unit units.LengthUnit
 	row  row
+	// delim is the file's delimiter, mark its decimal mark (0 while no
+	// number has shown one: a point reads them), first on markLine.
+	delim    obsfile.Delimiter
+	mark     units.DecimalMark
+	markLine int
+}
+
+// decimalMark is the mark to read the row's numbers with.
+func (p *parser) decimalMark() units.DecimalMark {
+	if p.mark == 0 {
+		return units.DecimalPoint
+	}
+	return p.mark
 }
 
 // get is the value of column name as written ("" when the file has no
@@ -101,9 +114,9 @@ func (p *parser) length(name, want string, lo, hi float64) (float64, error) {
 	if s == "" {
 		return 0, p.fieldError(name, want, nil)
 	}
-	v, err := units.ParseLength(name, s, p.unit)
+	v, err := units.ParseLengthMark(name, s, p.unit, p.decimalMark())
 	if err != nil {
-		return 0, p.fieldError(name, want, err)
+		return 0, p.fieldError(name, want+obsfile.MarkNote(p.delim, p.mark, p.markLine, s), err)
 	}
 	if v < lo || v > hi {
 		return 0, p.fieldError(name, want, nil)
@@ -114,9 +127,9 @@ func (p *parser) length(name, want string, lo, hi float64) (float64, error) {
 // number reads a plain number in [lo, hi].
 func (p *parser) number(name, want string, lo, hi float64) (float64, error) {
 	s := strings.TrimSpace(p.row.get(name))
-	v, err := units.ParseFloat(s)
+	v, err := units.ParseFloatMark(s, p.decimalMark())
 	if err != nil || math.IsNaN(v) || v < lo || v > hi {
-		return 0, p.fieldError(name, want, err)
+		return 0, p.fieldError(name, want+obsfile.MarkNote(p.delim, p.mark, p.markLine, s), err)
 	}
 	return v, nil
 }

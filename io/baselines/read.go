@@ -1,6 +1,8 @@
 package baselines
 
 import (
+	"bufio"
+	"bytes"
 	"encoding/csv"
 	"errors"
 	"fmt"
@@ -70,12 +72,37 @@ const (
 
 // Read reads a baselines file; lengths are in unit u (the job's length
 // unit). A header that cannot be used is an error (*obsfile.HeaderError);
-// a bad row is a Reject and reading goes on.
+// a bad row is a Reject and reading goes on. Its delimiter is found from
+// its header (obsfile.FindDelimiter).
 func Read(r io.Reader, file string, u units.LengthUnit) (*Result, error) {
-	cr := csv.NewReader(r)
+	return ReadDelimited(r, file, u, obsfile.DelimiterAuto)
+}
+
+// numeric are the columns that hold numbers.
+var numeric = Columns[4:]
+
+// ReadDelimited is Read of a file delimited by d (obsfile.DelimiterAuto:
+// found from its header). In a semicolon- or tab-delimited file a number
+// may write its decimal mark as a comma, as in the observation files: one
+// mark a file, the first '.' or ',' in a numeric column in file order,
+// and no separator of thousands.
+func ReadDelimited(r io.Reader, file string, u units.LengthUnit, d obsfile.Delimiter) (*Result, error) {
+	br := bufio.NewReaderSize(r, 64<<10)
+	why := obsfile.DelimiterBySetting
+	if d == obsfile.DelimiterAuto {
+		head, _ := br.Peek(64 << 10)
+		var err error
+		if d, why, err = obsfile.FindDelimiter(bytes.TrimPrefix(head, []byte("\uFEFF")), Columns); err != nil {
+			return nil, &obsfile.HeaderError{File: file, Line: 1, Reason: err.Error() + "; " + obsfile.DelimiterAdvice}
+		}
+	}
+	cr := csv.NewReader(br)
+	cr.Comma = rune(d)
 	cr.Comment = '#'
 	cr.FieldsPerRecord = 0 // every row as many fields as the header
-	cr.TrimLeadingSpace = true
+	// The parser trims every value; encoding/csv's trimming would take
+	// a tab file's empty fields with the blanks.
+	cr.TrimLeadingSpace = d != obsfile.Tab
 	um, err := gocsv.NewUnmarshaller(cr, row{})
 	if errors.Is(err, io.EOF) {
 		return nil, &obsfile.HeaderError{File: file, Line: 1, Reason: "the file is empty: want a header row"}
@@ -110,7 +137,18 @@ func Read(r io.Reader, file string, u units.LengthUnit) (*Result, error) {
 		}
 	}
 	if len(missing) > 0 {
-		return nil, &obsfile.HeaderError{File: file, Line: headerLine, Reason: fmt.Sprintf("missing required column(s) %s; found %s", strings.Join(missing, ", "), strings.Join(header, ", "))}
+		return nil, &obsfile.HeaderError{File: file, Line: headerLine, Reason: fmt.Sprintf("missing required column(s) %s; found %s %s", strings.Join(missing, ", "), strings.Join(header, ", "), obsfile.DelimiterNote(d, why))}
+	}
+	mark := units.DecimalPoint // the file's decimal mark; 0 until found in a ';' or tab file
+	markLine := 0
+	var numCols []string // the numeric columns in the header's order
+	if d.Decimals() {
+		mark = 0
+		for _, h := range header {
+			if slices.Contains(numeric, h) {
+				numCols = append(numCols, h)
+			}
+		}
 	}
 	for {
 		v, err := um.Read()
@@ -132,9 +170,18 @@ func Read(r io.Reader, file string, u units.LengthUnit) (*Result, error) {
 			return res, fmt.Errorf("%s: %w", file, err)
 		}
 		res.Read++
-		p := parser{file: file, col: col, cr: cr, unit: u}
+		p := parser{file: file, col: col, cr: cr, unit: u, delim: d}
 		p.line, _ = cr.FieldPos(0)
 		rw := v.(row)
+		if mark == 0 {
+			for _, c := range numCols {
+				if i := strings.IndexAny(rw.get(c), ".,"); i >= 0 {
+					mark, markLine = units.DecimalMark(rw.get(c)[i]), p.line
+					break
+				}
+			}
+		}
+		p.mark, p.markLine = mark, markLine
 		b, err := p.parse(rw)
 		b.Raw = rw.raw(header)
 		if err != nil {

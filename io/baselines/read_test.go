@@ -118,3 +118,32 @@ func TestReadHeader(t *testing.T) {
 	require.ErrorAs(t, err, &he)
 	assert.Contains(t, err.Error(), `column "from" appears twice`)
 }
+
+// The same baselines written with semicolons and decimal commas, or with
+// tabs, read as the comma file does; in a file with decimal commas a
+// point is refused at its line and column, and a missing column names
+// the delimiter.
+func TestReadSemicolonAndTab(t *testing.T) {
+	in := "id,from,to,kind,distance,sigma,dx,dy,dz,sigma_x,sigma_y,sigma_z,applied_ppm,applied_prism_constant_mm\n" +
+		"d1,K1,K2,grid,1234.5678,0.003,,,,,,,12.5,-30\n" +
+		"v1,K1,K4,vector,,,-412.3456,1020.5,377.125,0.002,0.003,0.004,,\n"
+	want, err := Read(strings.NewReader(in), "b.csv", units.Metre)
+	require.NoError(t, err)
+	require.Len(t, want.Baselines, 2)
+	semi := strings.NewReplacer(",", ";", ".", ",").Replace(in)
+	tab := strings.ReplaceAll(in, ",", "\t")
+	for _, text := range []string{semi, tab} {
+		got, err := Read(strings.NewReader(text), "b.csv", units.Metre)
+		require.NoError(t, err, text)
+		require.Empty(t, got.Rejects, text)
+		assert.Equal(t, want.Baselines, got.Baselines, text) // exact: the same digits
+	}
+	got, err := ReadDelimited(strings.NewReader(semi+"d2;K1;K3;grid;2000.5;0,004;;;;;;;;\n"), "b.csv", units.Metre, obsfile.Semicolon)
+	require.NoError(t, err)
+	require.Len(t, got.Rejects, 1)
+	assert.Contains(t, got.Rejects[0].Reason, `b.csv:4:5: distance "2000.5": want a distance in m, above 0 and at most 1000 km; the file writes its decimal mark as ',' (first on line 2)`)
+	_, err = ReadDelimited(strings.NewReader(semi), "b.csv", units.Metre, obsfile.Comma)
+	require.Error(t, err)
+	assert.Contains(t, err.Error(), "missing required column(s) from, to, kind; found id;from;to;kind;")
+	assert.Contains(t, err.Error(), "(the columns split at ',', as the job's delimiter setting says; set delimiter")
+}

@@ -37,6 +37,9 @@ type File struct {
 	Instrument map[string]Instrument `toml:"instrument"`
 
 	Limits Limits `toml:"limits"` // what the readers take of a file at most
+	// Delimiter of the points and observation files' fields: "auto"
+	// (the default: found from each file's header), ",", ";" or "tab".
+	Delimiter string `toml:"delimiter"`
 }
 
 // Tolerance is the job's acceptance limit for a residual: a named accuracy

@@ -81,6 +81,9 @@ type Job struct {
 
 	// Limits bound what the readers take of any one input file.
 	Limits obsfile.Limits
+	// Delimiter of the points and observation files' fields;
+	// obsfile.DelimiterAuto finds it from each file's header.
+	Delimiter obsfile.Delimiter
 }
 
 // Profile is one instrument profile, ready for the chain.
@@ -176,6 +179,9 @@ func ResolveFor(f File, name string, need Needs) (*Job, error) {
 	}
 	j.resolveTolerance(f.Tolerance, pr)
 	j.resolveLimits(f.Limits, pr)
+	if j.Delimiter, err = obsfile.ParseDelimiter(f.Delimiter); err != nil {
+		pr.bad(obsfile.DelimiterKey, "%v", err)
+	}
 	if f.Atmosphere != nil {
 		a, ok := atmosphere(*f.Atmosphere, "default_atmosphere", pr)
 		j.DefaultAtmosphere, j.HasDefaultAtmosphere = a, ok

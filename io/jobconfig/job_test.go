@@ -7,6 +7,7 @@ import (
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
+	"github.com/geored/geored/io/obsfile"
 	"github.com/geored/geored/io/units"
 	"github.com/geored/geored/reduce"
 )
@@ -199,4 +200,22 @@ func TestJobAlpha(t *testing.T) {
 	assert.ErrorContains(t, err, "job.toml: job_alpha: 0.7: want the chance of any false flag in the whole job, between 0 and 0.5")
 	_, err = resolve("global_test_alpha = 0\n")
 	assert.ErrorContains(t, err, "job.toml: global_test_alpha: 0: want the global test's α between 0 and 0.5")
+}
+
+// delimiter is "auto" where the job gives none, and one of ",", ";" and
+// "tab"; anything else is an error naming the key.
+func TestDelimiterSetting(t *testing.T) {
+	for text, want := range map[string]obsfile.Delimiter{"": obsfile.DelimiterAuto, `delimiter = "auto"`: obsfile.DelimiterAuto,
+		`delimiter = ";"`: obsfile.Semicolon, `delimiter = "tab"`: obsfile.Tab, `delimiter = ","`: obsfile.Comma} {
+		f, err := Parse([]byte(text+"\n"+full), "job.toml")
+		require.NoError(t, err, text)
+		j, err := Resolve(f, "job.toml")
+		require.NoError(t, err, text)
+		assert.Equal(t, want, j.Delimiter, text)
+	}
+	f, err := Parse([]byte("delimiter = \"|\"\n"+full), "job.toml")
+	require.NoError(t, err)
+	_, err = Resolve(f, "job.toml")
+	require.Error(t, err)
+	assert.Contains(t, err.Error(), `job.toml: delimiter: "|": want "auto"`)
 }

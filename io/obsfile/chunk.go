@@ -6,6 +6,7 @@ import (
 	"errors"
 	"io"
 	"strings"
+	"sync/atomic"
 	"unsafe"
 )
 
@@ -18,6 +19,11 @@ type ObsChunker struct {
 	head *ObsReader // the header: file, columns and options
 	line int        // the file's line number of the next byte
 	eof  bool
+	// mark is the file's decimal mark where the header's look at the
+	// first rows found none (a semicolon- or tab-delimited file whose
+	// first 64 KiB hold no decimal mark): Next looks on, and the first
+	// it finds, in file order, is every later chunk's.
+	mark atomic.Pointer[decimalMark]
 }
 
 // maxChunk bounds a chunk, in case a broken quote makes the rest of the
@@ -49,6 +55,13 @@ func (c *ObsChunker) Next(buf []byte, size int) (data []byte, firstLine int, err
 		return data, firstLine, io.EOF
 	}
 	br, max := c.head.t.br, c.head.t.limiter.max
+	if h := c.head.t; h.mark.mark == 0 && len(h.numCols) > 0 && c.mark.Load() == nil {
+		// The chunk starts a row: its rows, as far as peekBytes go.
+		peek, _ := br.Peek(peekBytes)
+		if m := findMark(newCSVReader(bytes.NewReader(peek), h.delim), h.numCols, c.line-1); m.mark != 0 {
+			c.mark.Store(&m)
+		}
+	}
 	inQuote := false // inside a quoted field
 	lineStart := true
 	comment := false // the line being read is a comment
@@ -102,9 +115,12 @@ func (c *ObsChunker) Next(buf []byte, size int) (data []byte, firstLine int, err
 func (c *ObsChunker) Reader(data []byte, firstLine int) *ObsReader {
 	t := *c.head.t
 	if bytes.IndexByte(data, '"') < 0 {
-		t.r = &plainRows{s: unsafe.String(unsafe.SliceData(data), len(data))}
+		t.r = &plainRows{s: unsafe.String(unsafe.SliceData(data), len(data)), comma: byte(t.delim)}
 	} else {
-		t.r = newCSVReader(bytes.NewReader(data))
+		t.r = newCSVReader(bytes.NewReader(data), t.delim)
+	}
+	if m := c.mark.Load(); t.mark.mark == 0 && m != nil {
+		t.mark = *m
 	}
 	t.br, t.lineOffset = nil, firstLine-1
 	t.row, t.line = nil, 0
@@ -114,7 +130,7 @@ func (c *ObsChunker) Reader(data []byte, firstLine int) *ObsReader {
 }
 
 // plainRows splits text without quotes into rows at line breaks and into
-// fields at commas, as encoding/csv does such text (newCSVReader): a
+// fields at its delimiter, as encoding/csv does such text (newCSVReader): a
 // trailing carriage return is dropped from each line, and empty lines and
 // lines starting with # are skipped. Its fields are parts of one string
 // for the whole chunk, so a row allocates nothing. FuzzObsChunker checks
@@ -125,6 +141,7 @@ type plainRows struct {
 	rowLine int    // line of the row last returned
 	lastLen int    // length of its line (table.checkFields)
 	rec     []string
+	comma   byte // the delimiter
 }
 
 func (p *plainRows) Read() ([]string, error) {
@@ -145,7 +162,7 @@ func (p *plainRows) Read() ([]string, error) {
 		p.rowLine, p.lastLen = p.line, len(ln)
 		p.rec = p.rec[:0]
 		for {
-			i := strings.IndexByte(ln, ',')
+			i := strings.IndexByte(ln, p.comma)
 			if i < 0 {
 				p.rec = append(p.rec, ln)
 				return p.rec, nil

@@ -11,7 +11,8 @@ import (
 // CountRows counts the data rows of an observation file without parsing
 // them: the rows after the header, as the readers see them — a line break
 // inside a quoted field does not end a row, comment lines (#) and empty
-// or blank rows (nothing but commas and spaces) are not rows. It reads at
+// or blank rows (nothing but delimiters and spaces; the delimiter found
+// from the header, FindDelimiter) are not rows. It reads at
 // the speed of the disk and holds one buffer; a row past lim (zero
 // fields: DefaultLimits) ends it with the readers' *LimitError, and a
 // lone carriage return with their error. A file the readers would
@@ -26,6 +27,12 @@ func CountRows(r io.Reader, file string, lim Limits) (int, error) {
 	if b, err := br.Peek(len(bom)); err == nil && string(b) == bom {
 		br.Discard(len(bom))
 	}
+	head, _ := br.Peek(peekBytes)
+	delim, _, err := FindDelimiter(head, obsColumns)
+	if err != nil {
+		delim = Comma // the reader refuses the header; the count is not used
+	}
+	blanks := string(delim) + " \t\r\n"
 	records := 0
 	inQuote := false // inside a quoted field
 	lineStart := true
@@ -48,7 +55,7 @@ func CountRows(r io.Reader, file string, lim Limits) (int, error) {
 			if inQuote && rowBytes > lim.MaxLineBytes {
 				return 0, rowTooLong(file, rowLine, lineNo, lim.MaxLineBytes)
 			}
-			if blank && len(bytes.Trim(line, ", \t\r\n")) > 0 {
+			if blank && len(bytes.Trim(line, blanks)) > 0 {
 				blank = false
 			}
 		}

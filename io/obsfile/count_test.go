@@ -29,19 +29,31 @@ func TestCountRows(t *testing.T) {
 		{"quoted comma and quotes", "\"A,\"\"1\"\"\",B,100,90\n", 1},
 		{"long row", "A,B,100,90" + strings.Repeat(" ", 200<<10) + "\nB,A,100,90\n", 2},
 	} {
-		n, err := CountRows(strings.NewReader(header+c.body), "obs.csv", Limits{})
-		require.NoError(t, err, c.name)
-		assert.Equal(t, c.want, n, c.name)
-		r, _, err := NewObsReader(strings.NewReader(header+c.body), "obs.csv", ObsOptions{LengthUnit: units.Metre, AngleUnit: units.Degrees})
-		require.NoError(t, err, c.name)
-		rows := 0
-		for {
-			_, err := r.Next()
-			if errors.Is(err, io.EOF) {
-				break
-			}
-			rows++ // a good row or a bad one: both are rows the run counts
+		for _, d := range []string{",", ";", "\t"} {
+			text := strings.ReplaceAll(header+c.body, ",", d)
+			countsAsRead(t, c.name+" delimited by "+d, text, c.want)
 		}
-		assert.Equal(t, rows, n, "%s: the reader's rows", c.name)
 	}
+	// Semicolons in a comma file are not delimiters: a row, not a blank.
+	countsAsRead(t, "semicolons in a comma file", header+";;;\n", 1)
+}
+
+// countsAsRead checks that CountRows counts text's rows as want, and as
+// the reader reads them.
+func countsAsRead(t *testing.T, name, text string, want int) {
+	t.Helper()
+	n, err := CountRows(strings.NewReader(text), "obs.csv", Limits{})
+	require.NoError(t, err, name)
+	assert.Equal(t, want, n, name)
+	r, _, err := NewObsReader(strings.NewReader(text), "obs.csv", ObsOptions{LengthUnit: units.Metre, AngleUnit: units.Degrees})
+	require.NoError(t, err, name)
+	rows := 0
+	for {
+		_, err := r.Next()
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		rows++ // a good row or a bad one: both are rows the run counts
+	}
+	assert.Equal(t, rows, n, "%s: the reader's rows", name)
 }

@@ -32,6 +32,14 @@ type table struct {
 	// after it (further on if quoted names hold line breaks).
 	headerLine, afterHeader int
 	maxField                int // Limits.MaxFieldBytes
+
+	delim    Delimiter // the file's, never DelimiterAuto
+	delimWhy string    // how delim was chosen, for a header's error
+	// mark is the file's decimal mark: a point in a comma-delimited
+	// file; in a semicolon- or tab-delimited one the first found in a
+	// numeric column (numCols), mark 0 until then (next looks for it).
+	mark    decimalMark
+	numCols []int
 }
 
 const bom = "\uFEFF"
@@ -40,17 +48,40 @@ const bom = "\uFEFF"
 // rest are one warning that counts them.
 const maxUnknownWarnings = 5
 
+// peekBytes is how much of a file the readers look at first, to find its
+// delimiter and its decimal mark: the reading buffer.
+const peekBytes = 64 << 10
+
 // openTable reads the header, within lim (already OrDefault). known
 // lists the columns the caller understands; each of the first five
 // others is one warning, and any more are one warning that counts them.
-func openTable(r io.Reader, file string, known []string, lim Limits) (*table, []Warning, error) {
+// format gives the delimiter, or DelimiterAuto to find it from the
+// header (FindDelimiter); in a semicolon- or tab-delimited file, the
+// decimal mark is the first '.' or ',' in a column of format.numeric, in
+// file order (looked for in the first 64 KiB here, and on in next).
+func openTable(r io.Reader, file string, known []string, lim Limits, format csvFormat) (*table, []Warning, error) {
 	limiter := limitedInput(r, file, lim)
-	br := bufio.NewReaderSize(limiter, 64<<10)
+	br := bufio.NewReaderSize(limiter, peekBytes)
 	if b, err := br.Peek(len(bom)); err == nil && string(b) == bom {
 		br.Discard(len(bom))
 	}
-	cr := newCSVReader(br)
-	t := &table{file: file, br: br, limiter: limiter, r: cr, col: map[string]int{}, maxField: lim.MaxFieldBytes}
+	// What Peek returns short of peekBytes is the file's end or an error
+	// that the reads below meet again (the rowLimiter keeps its error).
+	head, _ := br.Peek(peekBytes)
+	delim, why := format.delim, DelimiterBySetting
+	if delim == DelimiterAuto {
+		var err error
+		if delim, why, err = FindDelimiter(head, known); err != nil {
+			return nil, nil, &HeaderError{File: file, Line: 1, Reason: err.Error() + "; " + DelimiterAdvice}
+		}
+	}
+	mark := decimalMark{mark: units.DecimalPoint}
+	if delim.Decimals() {
+		mark = headMark(head, delim, format.numeric) // before the reads below move head's bytes
+	}
+	cr := newCSVReader(br, delim)
+	t := &table{file: file, br: br, limiter: limiter, r: cr, col: map[string]int{}, maxField: lim.MaxFieldBytes,
+		delim: delim, delimWhy: why, mark: mark}
 	// The header row is at most MaxLineBytes (the rowLimiter), so
 	// encoding/csv holds at most that and a string per column of it.
 	header, err := cr.Read()
@@ -96,7 +127,24 @@ func openTable(r io.Reader, file string, known []string, lim Limits) (*table, []
 	if n := len(unknown); n > 0 {
 		warnings = append(warnings, Warning{File: file, Line: t.line, Text: fmt.Sprintf("%s more unknown columns (columns %d to %d) are ignored", groupDigits(n), unknown[0], unknown[n-1])})
 	}
+	if delim.Decimals() {
+		for _, name := range format.numeric {
+			if i, ok := t.col[name]; ok {
+				t.numCols = append(t.numCols, i)
+			}
+		}
+		slices.Sort(t.numCols)
+	}
 	return t, warnings, nil
+}
+
+// DelimiterAdvice says how to give the delimiter.
+const DelimiterAdvice = "set " + DelimiterKey + ` = ",", ";" or "tab" in the job (or -` + DelimiterKey + `) to say which`
+
+// headerError is a header's error that comes from its columns: it says
+// which delimiter they were split at, and why.
+func (t *table) headerError(line int, reason string) *HeaderError {
+	return &HeaderError{File: t.file, Line: line, Reason: reason + " " + DelimiterNote(t.delim, t.delimWhy)}
 }
 
 // A rowReader gives a table its rows: encoding/csv's Reader, or
@@ -106,10 +154,11 @@ type rowReader interface {
 	FieldPos(field int) (line, column int)
 }
 
-// newCSVReader reads the files' CSV: # comments, rows checked against the
-// header by the caller, one record reused.
-func newCSVReader(r io.Reader) *csv.Reader {
+// newCSVReader reads the files' CSV, delimited by d: # comments, rows
+// checked against the header by the caller, one record reused.
+func newCSVReader(r io.Reader, d Delimiter) *csv.Reader {
 	cr := csv.NewReader(r)
+	cr.Comma = rune(d)
 	cr.Comment = '#'
 	cr.FieldsPerRecord = -1
 	cr.ReuseRecord = true
@@ -132,7 +181,7 @@ func (t *table) require(names ...string) error {
 		}
 	}
 	if len(missing) > 0 {
-		return &HeaderError{File: t.file, Line: t.line, Reason: fmt.Sprintf("missing required column(s) %s; found %s", strings.Join(missing, ", "), Clip(strings.Join(t.header, ", ")))}
+		return t.headerError(t.line, fmt.Sprintf("missing required column(s) %s; found %s", strings.Join(missing, ", "), Clip(strings.Join(t.header, ", "))))
 	}
 	return nil
 }
@@ -216,6 +265,12 @@ func (t *table) next() error {
 			continue
 		}
 		t.row = row
+		if t.mark.mark == 0 && t.numCols != nil {
+			if m, i := markIn(row, t.numCols); m != 0 {
+				line, _ := t.fieldPos(i)
+				t.mark = decimalMark{mark: m, line: line}
+			}
+		}
 		if len(row) != len(t.header) {
 			return &FieldError{File: t.file, Line: t.line, Want: fmt.Sprintf("%d fields as in the header, got %d", len(t.header), len(row))}
 		}
@@ -259,9 +314,10 @@ func (t *table) get(name string) string {
 // number parses a finite decimal number in column name and checks it lies
 // in [lo, hi]; want says what was expected. A blank is a bad value.
 func (t *table) number(name, want string, lo, hi float64) (float64, error) {
-	v, err := units.ParseFloat(t.get(name))
+	s := t.get(name)
+	v, err := units.ParseFloatMark(s, t.markOf())
 	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) || v < lo || v > hi {
-		return 0, t.fieldError(name, want, err)
+		return 0, t.fieldError(name, want+t.markText(s), err)
 	}
 	return v, nil
 }
@@ -284,13 +340,17 @@ func (t *table) fieldError(name, want string, cause error) *FieldError {
 	return &FieldError{File: t.file, Line: line, Column: i + 1, Field: name, Value: t.row[i], Want: want, Err: cause}
 }
 
-// raw is the current row as written, re-joined with commas.
-func (t *table) raw() string { return joinCSV(t.row) }
+// raw is the current row as written, re-joined with the file's delimiter.
+func (t *table) raw() string { return joinCSV(t.row, t.delim) }
 
-// joinCSV writes fields as one CSV row without its line end.
-func joinCSV(fields []string) string {
+// joinCSV writes fields as one CSV row delimited by d (a comma where d is
+// DelimiterAuto), without its line end.
+func joinCSV(fields []string, d Delimiter) string {
 	var b strings.Builder
 	w := csv.NewWriter(&b)
+	if d != DelimiterAuto {
+		w.Comma = rune(d)
+	}
 	w.Write(fields)
 	w.Flush()
 	return strings.TrimRight(b.String(), "\n")

@@ -8,4 +8,13 @@
 // Files have a header row; columns come in any order; '#' starts a comment
 // line; blank lines, a UTF-8 byte-order mark, CRLF line ends and quoted
 // fields are accepted; point ids may be any UTF-8 text.
+//
+// The points and observation files may be delimited by commas,
+// semicolons or tabs: the job says which, or the reader finds it from the
+// header (FindDelimiter). In a semicolon- or tab-delimited file a number
+// may write its decimal mark as a comma: one mark a file, the first '.'
+// or ',' in a numeric column in file order, and a number with the other,
+// or with both (a separator of thousands), is a bad value naming where
+// the file's mark was set. In a comma-delimited file the mark is the
+// point.
 package obsfile

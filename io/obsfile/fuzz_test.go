@@ -80,6 +80,8 @@ func FuzzObsChunker(f *testing.F) {
 		"# \"odd\n\"from\",to,slope_distance,zenith_angle\r\n\"A\nB\",B,100,90\r\n#x\"\nA,\"B\"\"\",1,2\n",
 		"from,to,slope_distance,zenith_angle\nA,B\"x,100,90\nA,B,1,1\n",
 		"from,to,slope_distance,zenith_angle\n\"A,B,100,90\nA,B,1,1\n",
+		"from;to;slope_distance;zenith_angle\nA;B;100;90\nA;B;100,5;90\nB;A;1.5;90,1\n",
+		"from\tto\tslope_distance\tzenith_angle\nA\tB\t100\t90\nA\t\"B\tC\"\t100.5\t90\nB\tA\t1,5\t90\n",
 	} {
 		f.Add([]byte(seed), uint8(3))
 	}

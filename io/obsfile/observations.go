@@ -39,12 +39,13 @@ type Observation struct {
 	AtInstrument, AtTarget Weather
 
 	// Fields is the row as read, for the rejects file if a later stage
-	// cannot reduce it.
-	Fields []string
+	// cannot reduce it; Delimiter is its file's.
+	Fields    []string
+	Delimiter Delimiter
 }
 
-// Raw is the row as written, re-joined as CSV.
-func (o *Observation) Raw() string { return joinCSV(o.Fields) }
+// Raw is the row as written, re-joined as CSV with its file's delimiter.
+func (o *Observation) Raw() string { return joinCSV(o.Fields, o.Delimiter) }
 
 // Weather is one end's meteorology.
 type Weather struct {
@@ -57,6 +58,9 @@ type ObsOptions struct {
 	LengthUnit units.LengthUnit // slope distance and heights
 	AngleUnit  units.AngleUnit  // zenith angle
 	Limits     Limits           // zero fields: DefaultLimits
+	// Delimiter of the file's fields: DelimiterAuto finds it from the
+	// header (FindDelimiter).
+	Delimiter Delimiter
 }
 
 // Observation file columns.
@@ -83,6 +87,10 @@ const (
 var obsColumns = []string{colFrom, colTo, colSlope, colZenith, colHI, colHT, colTemp, colPressure, colHumidity,
 	colTempTo, colPresTo, colHumTo, colPrism, colField, colInstr, colObsID}
 
+// obsNumeric are the observation file's columns that hold numbers.
+var obsNumeric = []string{colSlope, colZenith, colHI, colHT, colTemp, colPressure, colHumidity,
+	colTempTo, colPresTo, colHumTo, colPrism, colField}
+
 // An ObsReader streams an observation file row by row; it holds one row
 // at a time.
 type ObsReader struct {
@@ -90,6 +98,9 @@ type ObsReader struct {
 	opt ObsOptions
 	// column indexes, −1 where absent
 	from, to, slope, zenith, hi, ht, temp, pres, hum, tempTo, presTo, humTo, prism, fieldPrism, instr, obsID int
+	// comma is whether the file's decimal mark is a comma (t.mark), as
+	// of the row being parsed.
+	comma bool
 }
 
 // A RowError is a row that cannot be used; the reader goes on after it.
@@ -109,7 +120,7 @@ func NewObsReader(r io.Reader, file string, opt ObsOptions) (*ObsReader, []Warni
 	if opt.LengthUnit == 0 || opt.AngleUnit == 0 {
 		return nil, nil, fmt.Errorf("%s: observation units not set", file)
 	}
-	t, warnings, err := openTable(r, file, obsColumns, opt.Limits.OrDefault())
+	t, warnings, err := openTable(r, file, obsColumns, opt.Limits.OrDefault(), csvFormat{delim: opt.Delimiter, numeric: obsNumeric})
 	if err != nil {
 		return nil, nil, err
 	}
@@ -155,6 +166,7 @@ func (o *ObsReader) NextAppend(fields []string) (Observation, []string, error) {
 		}
 		return Observation{}, fields, err
 	}
+	o.comma = o.t.mark.mark == units.DecimalComma
 	n := len(fields)
 	fields = append(fields, o.t.row...)
 	obs, fe := o.parse(fields[n:len(fields):len(fields)])
@@ -187,12 +199,25 @@ func (o *ObsReader) bad(i int, want string) *FieldError {
 	return &FieldError{File: o.t.file, Line: line, Column: i + 1, Field: o.t.header[i], Value: o.t.row[i], Want: want}
 }
 
-// number parses a finite decimal number in column i; want says what was
-// expected, built only when the value is bad.
+// number parses a finite decimal number in column i, with the file's
+// decimal mark; want says what was expected, built only when the value is
+// bad.
 func (o *ObsReader) number(i int, want func() string) (float64, *FieldError) {
+	if o.comma {
+		return o.numberComma(i, want)
+	}
 	v, err := units.ParseFloat(o.field(i))
 	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
-		return 0, o.bad(i, want())
+		return 0, o.bad(i, want()+o.t.markText(o.field(i)))
+	}
+	return v, nil
+}
+
+// numberComma is number in a file whose decimal mark is a comma.
+func (o *ObsReader) numberComma(i int, want func() string) (float64, *FieldError) {
+	v, err := units.ParseFloatMark(o.field(i), units.DecimalComma)
+	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+		return 0, o.bad(i, want()+o.t.markText(o.field(i)))
 	}
 	return v, nil
 }
@@ -204,7 +229,7 @@ func (o *ObsReader) parse(fields []string) (Observation, *FieldError) {
 	t := o.t
 	ob := Observation{File: t.file, Line: t.line,
 		From: o.field(o.from), To: o.field(o.to), Instrument: o.field(o.instr), ObsID: o.field(o.obsID),
-		Fields: fields}
+		Fields: fields, Delimiter: t.delim}
 	if ob.From == "" {
 		return ob, o.bad(o.from, "the id of the instrument station")
 	}
@@ -223,9 +248,15 @@ func (o *ObsReader) parse(fields []string) (Observation, *FieldError) {
 		return ob, o.bad(o.slope, fmt.Sprintf("a slope distance in %s, > 0 and at most 100 km", u))
 	}
 	ob.SlopeDistance = v * float64(u)
-	z, err := units.ParseZenithAngle(o.field(o.zenith), o.opt.AngleUnit)
+	var z s1.Angle
+	var err error
+	if o.comma {
+		z, err = units.ParseZenithAngleMark(o.field(o.zenith), o.opt.AngleUnit, units.DecimalComma)
+	} else {
+		z, err = units.ParseZenithAngle(o.field(o.zenith), o.opt.AngleUnit)
+	}
 	if err != nil {
-		return ob, &FieldError{File: t.file, Line: ob.Line, Column: o.zenith + 1, Field: colZenith, Value: t.row[o.zenith], Want: zenithWant(err, o.opt.AngleUnit), Err: err}
+		return ob, &FieldError{File: t.file, Line: ob.Line, Column: o.zenith + 1, Field: colZenith, Value: t.row[o.zenith], Want: zenithWant(err, o.opt.AngleUnit) + t.markText(o.field(o.zenith)), Err: err}
 	}
 	ob.Zenith = z
 	for _, h := range [...]struct {

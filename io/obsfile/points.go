@@ -50,6 +50,9 @@ type PointOptions struct {
 	// Limits bound the file (zero fields: DefaultLimits), MaxPoints its
 	// rows.
 	Limits Limits
+	// Delimiter of the file's fields: DelimiterAuto finds it from the
+	// header (FindDelimiter).
+	Delimiter Delimiter
 }
 
 // Point file columns.
@@ -68,7 +71,7 @@ func ReadPoints(r io.Reader, file string, opt PointOptions) ([]Point, []Warning,
 		opt.LatLonUnit = units.Degrees
 	}
 	lim := opt.Limits.OrDefault()
-	t, warnings, err := openTable(r, file, pointColumns, lim)
+	t, warnings, err := openTable(r, file, pointColumns, lim, csvFormat{delim: opt.Delimiter, numeric: pointColumns[1:]})
 	if err != nil {
 		return nil, nil, err
 	}
@@ -77,7 +80,7 @@ func ReadPoints(r io.Reader, file string, opt PointOptions) ([]Point, []Warning,
 	}
 	geo, grid := t.has("lat") && t.has("lon"), t.has("easting") && t.has("northing")
 	if !geo && !grid {
-		return nil, warnings, &HeaderError{File: file, Line: t.line, Reason: "want columns lat and lon, or easting and northing"}
+		return nil, warnings, t.headerError(t.line, "want columns lat and lon, or easting and northing")
 	}
 	var pts []Point
 	seen := map[string]int{}
@@ -149,9 +152,9 @@ func (t *table) angle(name string, u units.AngleUnit, lo, hi float64) (s1.Angle,
 	if v == "" {
 		return 0, t.fieldError(name, fmt.Sprintf("an angle in %s", u), nil)
 	}
-	a, err := units.ParseAngle(name, v, u)
+	a, err := units.ParseAngleMark(name, v, u, t.markOf())
 	if err != nil {
-		return 0, t.fieldError(name, fmt.Sprintf("an angle in %s", u), err)
+		return 0, t.fieldError(name, fmt.Sprintf("an angle in %s", u)+t.markText(v), err)
 	}
 	if d := a.Degrees(); d < lo || d > hi {
 		return 0, t.fieldError(name, fmt.Sprintf("a value in %g..%g degrees", lo, hi), nil)
@@ -169,9 +172,9 @@ func (t *table) length(name string, u units.LengthUnit, positive bool) (float64,
 	if v == "" {
 		return 0, t.fieldError(name, want, nil)
 	}
-	m, err := units.ParseLength(name, v, u)
+	m, err := units.ParseLengthMark(name, v, u, t.markOf())
 	if err != nil {
-		return 0, t.fieldError(name, want, err)
+		return 0, t.fieldError(name, want+t.markText(v), err)
 	}
 	if positive && !(m > 0) {
 		return 0, t.fieldError(name, want, nil)

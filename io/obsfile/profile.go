@@ -44,7 +44,7 @@ func ReadProfile(r io.Reader, file string, unit units.LengthUnit, length float64
 	if !(length > 0) || math.IsInf(length, 0) {
 		return nil, nil, fmt.Errorf("%s: the line's length %g m: want a positive length", file, length)
 	}
-	t, warnings, err := openTable(r, file, profileColumns, DefaultLimits)
+	t, warnings, err := openTable(r, file, profileColumns, DefaultLimits, csvFormat{delim: Comma})
 	if err != nil {
 		return nil, nil, err
 	}

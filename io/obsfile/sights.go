@@ -48,7 +48,7 @@ func ReadSights(r io.Reader, file string, heightUnit units.LengthUnit) ([]Sight,
 	if heightUnit == 0 {
 		return nil, nil, fmt.Errorf("%s: height unit not set", file)
 	}
-	t, warnings, err := openTable(r, file, sightColumns, DefaultLimits)
+	t, warnings, err := openTable(r, file, sightColumns, DefaultLimits, csvFormat{delim: Comma})
 	if err != nil {
 		return nil, nil, err
 	}

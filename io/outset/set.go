@@ -44,6 +44,8 @@ type Set struct {
 	hook    func(stage string)
 	closed  bool
 	swapped bool
+	// replaces is the set in the output folder when Begin looked.
+	replaces *Earlier
 }
 
 // Options are a set's inputs and behaviour.
@@ -59,8 +61,9 @@ type Options struct {
 	// Wait waits for another run's lock instead of refusing.
 	Wait bool
 	// Log receives one line for each note on an earlier run: a lock
-	// taken over, a temporary removed, an old set put back. nil is
-	// silent.
+	// taken over, a temporary removed, an old set put back, an earlier
+	// set that the run replaces (when it was made and its input hash).
+	// nil is silent.
 	Log io.Writer
 	// Hook, if set, is called at the named stages of Commit, in order:
 	// "written:NAME" after each file is synced, "complete" when the set
@@ -117,6 +120,8 @@ func Begin(ctx context.Context, dir string, opt Options) (*Set, error) {
 		lock.Release()
 		return nil, err
 	}
+	s.replaces = earlierSet(rdir)
+	s.sayReplaces(opt.Log)
 	s.tmp = tempName(rdir, kindTmp)
 	if err := os.Mkdir(s.tmp, 0o755); err != nil {
 		lock.Release()

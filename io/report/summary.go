@@ -56,6 +56,18 @@ type Summary struct {
 	Reasons    []string `json:"reasons,omitempty"`
 	Notes      []string `json:"notes,omitempty"`
 	Caution    string   `json:"caution"`
+
+	// Replaces is the set of outputs this run replaced in its output
+	// folder, where there was one.
+	Replaces *Replaced `json:"replaces,omitempty"`
+}
+
+// Replaced is an earlier set of outputs that a run replaced: when it was
+// made (RFC 3339, UTC) and the input hash of its run ("" for a set from
+// before manifests).
+type Replaced struct {
+	Created   string `json:"created"`
+	InputHash string `json:"input_hash,omitempty"`
 }
 
 // MaxFirstRejects bounds Summary.FirstRejects.

@@ -97,15 +97,16 @@ func (u AngleUnit) halfTurn() float64 {
 }
 
 // unitValue reads s as a number in unit u: decimal degrees for Degrees and
-// PackedDMS, gon for Gons, radians for Radians.
-func unitValue(quantity, s string, u AngleUnit) (float64, error) {
+// PackedDMS, gon for Gons, radians for Radians, with mark as its decimal
+// mark.
+func unitValue(quantity, s string, u AngleUnit, mark DecimalMark) (float64, error) {
 	if _, ok := u.perUnit(); !ok {
 		return 0, &UnitError{Kind: "angle", Name: u.String(), Want: angleUnitWant}
 	}
 	if u == PackedDMS {
-		return parsePackedDegrees(quantity, s)
+		return parsePackedDegrees(quantity, s, mark)
 	}
-	v, err := ParseFloat(strings.TrimSpace(s))
+	v, err := ParseFloatMark(strings.TrimSpace(s), mark)
 	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
 		return 0, &SyntaxError{Quantity: quantity, Value: s, Unit: u.String(), Want: "a finite decimal number", Err: err}
 	}
@@ -116,7 +117,13 @@ func unitValue(quantity, s string, u AngleUnit) (float64, error) {
 // accepted; quantity names it in errors. Use ParseZenithAngle or
 // ParseDirection where the quantity has a range.
 func ParseAngle(quantity, s string, u AngleUnit) (s1.Angle, error) {
-	v, err := unitValue(quantity, s, u)
+	return ParseAngleMark(quantity, s, u, DecimalPoint)
+}
+
+// ParseAngleMark is ParseAngle with mark as the decimal mark (a packed
+// angle's too: 90,3015 with DecimalComma).
+func ParseAngleMark(quantity, s string, u AngleUnit, mark DecimalMark) (s1.Angle, error) {
+	v, err := unitValue(quantity, s, u, mark)
 	if err != nil {
 		return 0, err
 	}
@@ -130,20 +137,25 @@ func ParseAngle(quantity, s string, u AngleUnit) (s1.Angle, error) {
 // beside the instrument). A face-right reading (over 180°) must be reduced
 // to face left first; it is refused here rather than silently folded.
 func ParseZenithAngle(s string, u AngleUnit) (s1.Angle, error) {
-	return parseInRange("zenith angle", s, u, u.halfTurn(), true, true)
+	return ParseZenithAngleMark(s, u, DecimalPoint)
+}
+
+// ParseZenithAngleMark is ParseZenithAngle with mark as the decimal mark.
+func ParseZenithAngleMark(s string, u AngleUnit, mark DecimalMark) (s1.Angle, error) {
+	return parseInRange("zenith angle", s, u, u.halfTurn(), true, true, mark)
 }
 
 // ParseDirection reads a horizontal direction or azimuth written in unit u
 // and checks that it lies in [0, full turn).
 func ParseDirection(s string, u AngleUnit) (s1.Angle, error) {
-	return parseInRange("direction", s, u, 2*u.halfTurn(), false, true)
+	return parseInRange("direction", s, u, 2*u.halfTurn(), false, true, DecimalPoint)
 }
 
 // parseInRange reads an angle in unit u and checks it against [0, max],
 // with 0 excluded when minOpen and max when maxOpen, in the unit's own
 // numbers.
-func parseInRange(quantity, s string, u AngleUnit, max float64, minOpen, maxOpen bool) (s1.Angle, error) {
-	v, err := unitValue(quantity, s, u)
+func parseInRange(quantity, s string, u AngleUnit, max float64, minOpen, maxOpen bool, mark DecimalMark) (s1.Angle, error) {
+	v, err := unitValue(quantity, s, u, mark)
 	if err != nil {
 		return 0, err
 	}

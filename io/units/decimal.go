@@ -1,6 +1,9 @@
 package units
 
-import "strconv"
+import (
+	"strconv"
+	"strings"
+)
 
 // ParseFloat reads a number in decimal syntax only — an optional sign,
 // digits with an optional decimal point, an optional exponent e or E
@@ -19,18 +22,63 @@ import "strconv"
 // (exponents, more digits, spaces, words) is checked for decimal syntax
 // and goes to strconv.
 func ParseFloat(s string) (float64, error) {
-	if v, ok := parseShortDecimal(s); ok {
+	if v, ok := parseShortDecimal(s, '.'); ok {
 		return v, nil
 	}
-	if !decimalSyntax(s) {
-		return 0, &strconv.NumError{Func: "ParseFloat", Num: s, Err: strconv.ErrSyntax}
+	if !decimalSyntax(s, '.') {
+		return 0, syntaxError(s)
 	}
 	return strconv.ParseFloat(s, 64)
 }
 
-// decimalSyntax reports whether s is [+-]digits[.digits][(e|E)[+-]digits],
-// with digits on at least one side of the point.
-func decimalSyntax(s string) bool {
+// A DecimalMark is the character between a number's whole digits and its
+// fractional ones: a point or a comma.
+type DecimalMark byte
+
+// The decimal marks.
+const (
+	DecimalPoint DecimalMark = '.'
+	DecimalComma DecimalMark = ','
+)
+
+// String is the mark in quotes, for messages: "'.'" or "','".
+func (m DecimalMark) String() string { return "'" + string(rune(m)) + "'" }
+
+// ParseFloatMark is ParseFloat with mark as the decimal mark; with
+// DecimalPoint it is ParseFloat. With DecimalComma the syntax is
+// ParseFloat's with a comma in place of the point, so "1234,5" is 1234.5
+// and a point anywhere is a syntax error: "1.234,5" (a point grouping
+// the thousands), "1,234.5" and "1.5" are refused, not read as some
+// number. No other mark is a decimal mark.
+func ParseFloatMark(s string, mark DecimalMark) (float64, error) {
+	switch mark {
+	case DecimalPoint:
+		return ParseFloat(s)
+	case DecimalComma:
+	default:
+		return 0, syntaxError(s)
+	}
+	if v, ok := parseShortDecimal(s, ','); ok {
+		return v, nil
+	}
+	if !decimalSyntax(s, ',') {
+		return 0, syntaxError(s)
+	}
+	// s holds one comma at most and no point: strconv reads it as a point.
+	v, err := strconv.ParseFloat(strings.Replace(s, ",", ".", 1), 64)
+	if ne, ok := err.(*strconv.NumError); ok {
+		ne.Num = s
+	}
+	return v, err
+}
+
+func syntaxError(s string) error {
+	return &strconv.NumError{Func: "ParseFloat", Num: s, Err: strconv.ErrSyntax}
+}
+
+// decimalSyntax reports whether s is [+-]digits[MARKdigits][(e|E)[+-]digits],
+// with digits on at least one side of the mark.
+func decimalSyntax(s string, mark byte) bool {
 	i := 0
 	if i < len(s) && (s[i] == '+' || s[i] == '-') {
 		i++
@@ -38,7 +86,7 @@ func decimalSyntax(s string) bool {
 	start := i
 	i, _ = appendDigits(s, i, 0)
 	mantissa := i - start
-	if i < len(s) && s[i] == '.' {
+	if i < len(s) && s[i] == mark {
 		j, _ := appendDigits(s, i+1, 0)
 		mantissa += j - i - 1
 		i = j
@@ -64,8 +112,10 @@ func decimalSyntax(s string) bool {
 var exactPow10 = [...]float64{1, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10,
 	1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22}
 
-func parseShortDecimal(s string) (float64, bool) {
-	// A sign, digits and a point, 21 bytes at most; m wraps only for
+// parseShortDecimal reads the short road of ParseFloat, with mark as the
+// decimal mark.
+func parseShortDecimal(s string, mark byte) (float64, bool) {
+	// A sign, digits and a mark, 21 bytes at most; m wraps only for
 	// 20 digits, which go to strconv.
 	if len(s) == 0 || len(s) > 21 {
 		return 0, false
@@ -77,7 +127,7 @@ func parseShortDecimal(s string) (float64, bool) {
 	start := i
 	i, m := appendDigits(s, i, 0)
 	digits, frac := i-start, 0
-	if i < len(s) && s[i] == '.' {
+	if i < len(s) && s[i] == mark {
 		start = i + 1
 		i, m = appendDigits(s, start, m)
 		frac = i - start

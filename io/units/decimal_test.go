@@ -53,6 +53,25 @@ func TestParseFloatDecimalOnly(t *testing.T) {
 	}
 }
 
+// randomDecimal is a number of 1 to maxDigits random digits, negative one
+// time in four, with a decimal point at a random place: in n − 1 of n of
+// them, or in every one where n is 1.
+func randomDecimal(rng *rand.Rand, maxDigits, n int) []byte {
+	digits := 1 + rng.IntN(maxDigits)
+	b := make([]byte, 0, maxDigits+8)
+	if rng.IntN(4) == 0 {
+		b = append(b, '-')
+	}
+	point := rng.IntN(digits + 1)
+	for d := range digits {
+		if d == point && (n == 1 || rng.IntN(n) > 0) {
+			b = append(b, '.')
+		}
+		b = append(b, byte('0'+rng.IntN(10)))
+	}
+	return b
+}
+
 func TestParseFloatMatchesStrconv(t *testing.T) {
 	for _, s := range []string{
 		"0", "-0", "+0", "0.0", "-0.000", "1", "1.", ".5", "-.5", "+.5", ".", "-", "+", "", " 1", "1 ", "1..2", "1.2.3",
@@ -64,19 +83,7 @@ func TestParseFloatMatchesStrconv(t *testing.T) {
 	}
 	rng := rand.New(rand.NewPCG(3, 4))
 	for range 200000 {
-		digits := 1 + rng.IntN(19)
-		b := make([]byte, 0, 24)
-		if rng.IntN(4) == 0 {
-			b = append(b, '-')
-		}
-		point := rng.IntN(digits + 1)
-		for d := range digits {
-			if d == point && rng.IntN(3) > 0 {
-				b = append(b, '.')
-			}
-			b = append(b, byte('0'+rng.IntN(10)))
-		}
-		sameAsStrconv(t, string(b))
+		sameAsStrconv(t, string(randomDecimal(rng, 19, 3)))
 	}
 }
 
@@ -107,4 +114,101 @@ func BenchmarkParseFloat(b *testing.B) {
 			}
 		}
 	})
+}
+
+// sameWithComma checks ParseFloatMark with DecimalComma against strconv
+// on the same number written with a point: the same bits or an error
+// from both.
+func sameWithComma(t *testing.T, s string) {
+	t.Helper()
+	c := strings.Replace(s, ".", ",", 1)
+	got, gotErr := ParseFloatMark(c, DecimalComma)
+	want, wantErr := strconv.ParseFloat(s, 64)
+	if notDecimal(s) || strings.Count(s, ".") > 1 {
+		wantErr = strconv.ErrSyntax
+	}
+	if (gotErr != nil) != (wantErr != nil) {
+		t.Fatalf("ParseFloatMark(%q, ','): error %v, strconv(%q): %v", c, gotErr, s, wantErr)
+	}
+	if wantErr == nil && math.Float64bits(got) != math.Float64bits(want) {
+		t.Fatalf("ParseFloatMark(%q, ',') = %v, strconv(%q): %v", c, got, s, want)
+	}
+}
+
+func TestParseFloatMarkComma(t *testing.T) {
+	for _, s := range []string{"2925.7522", "-0.5", ".5", "1.", "1e3", "1.5E-3", "9007199254740993.0", "0.1234567890123456789012",
+		"12345678901234567890.5", "1.5e400", "0x1p9", "inf", "NaN", "1_0.5", ""} {
+		sameWithComma(t, s)
+	}
+	rng := rand.New(rand.NewPCG(5, 6))
+	for range 100000 {
+		b := randomDecimal(rng, 24, 1)
+		if rng.IntN(8) == 0 {
+			b = append(b, 'e')
+			b = strconv.AppendInt(b, int64(rng.IntN(40)-20), 10)
+		}
+		sameWithComma(t, string(b))
+	}
+	// Grouped thousands and a point in a comma file are refused, not
+	// read as some number (a point there may group thousands: 1.234 is
+	// 1234 in a file written with decimal commas).
+	for _, s := range []string{"1.234,5", "1,234.5", "1.5", "1.234", "1,2,3", "1 234,5", ",", "1,,5", "1,5e", "0x1,8p1"} {
+		_, err := ParseFloatMark(s, DecimalComma)
+		require.ErrorIs(t, err, strconv.ErrSyntax, "ParseFloatMark(%q, ',')", s)
+	}
+	// With the point as the mark a comma is refused, as ParseFloat does.
+	for _, s := range []string{"1,5", "1,234.5"} {
+		_, err := ParseFloatMark(s, DecimalPoint)
+		require.ErrorIs(t, err, strconv.ErrSyntax, "ParseFloatMark(%q, '.')", s)
+	}
+	// Nothing but a point or a comma is a decimal mark.
+	_, err := ParseFloatMark("1;5", DecimalMark(';'))
+	require.ErrorIs(t, err, strconv.ErrSyntax)
+	_, err = ParseFloatMark("15", DecimalMark(';'))
+	require.ErrorIs(t, err, strconv.ErrSyntax)
+	// The error quotes the value as written, comma and all.
+	_, err = ParseFloatMark("1,5e999999999999999999999", DecimalComma)
+	var ne *strconv.NumError
+	require.ErrorAs(t, err, &ne)
+	require.Equal(t, "1,5e999999999999999999999", ne.Num)
+}
+
+func TestAngleAndLengthWithDecimalComma(t *testing.T) {
+	for _, c := range []struct {
+		u      AngleUnit
+		comma  string
+		period string
+	}{{PackedDMS, "90,3015", "90.3015"}, {PackedDMS, "-0,3000", "-0.3000"}, {Degrees, "89,67938", "89.67938"}, {Gons, "99,6434", "99.6434"}} {
+		got, err := ParseAngleMark("angle", c.comma, c.u, DecimalComma)
+		require.NoError(t, err, c.comma)
+		want, err := ParseAngle("angle", c.period, c.u)
+		require.NoError(t, err)
+		require.Equal(t, want, got, c.comma) // exact: the same digits
+		z, err := ParseZenithAngleMark(" "+c.comma+" ", c.u, DecimalComma)
+		if c.comma[0] != '-' {
+			require.NoError(t, err, c.comma)
+			require.Equal(t, want, z, c.comma)
+		} else {
+			require.Error(t, err)
+		}
+		_, err = ParseAngleMark("angle", c.period, c.u, DecimalComma)
+		require.Error(t, err, "a point where the mark is a comma: %s", c.period)
+	}
+	m, err := ParseLengthMark("easting", "512345,678", USSurveyFoot, DecimalComma)
+	require.NoError(t, err)
+	want, _ := ParseLength("easting", "512345.678", USSurveyFoot)
+	require.Equal(t, want, m)
+	_, err = ParseLengthMark("easting", "512.345,678", Metre, DecimalComma)
+	require.Error(t, err)
+}
+
+func BenchmarkParseFloatComma(b *testing.B) {
+	fields := []string{"2925,7522", "89,679380", "1,631", "1,700", "22,4", "1000,6", "77"}
+	for b.Loop() {
+		for _, s := range fields {
+			if _, err := ParseFloatMark(s, DecimalComma); err != nil {
+				b.Fatal(err)
+			}
+		}
+	}
 }

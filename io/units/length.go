@@ -98,10 +98,15 @@ func (u LengthUnit) FromMetres(m float64) (float64, error) {
 // metres. The value must be finite; quantity names it in errors (e.g.
 // "slope distance").
 func ParseLength(quantity, s string, u LengthUnit) (float64, error) {
+	return ParseLengthMark(quantity, s, u, DecimalPoint)
+}
+
+// ParseLengthMark is ParseLength with mark as the decimal mark.
+func ParseLengthMark(quantity, s string, u LengthUnit, mark DecimalMark) (float64, error) {
 	if !u.valid() {
 		return 0, &UnitError{Kind: "length", Name: u.String(), Want: lengthUnitWant}
 	}
-	v, err := ParseFloat(strings.TrimSpace(s))
+	v, err := ParseFloatMark(strings.TrimSpace(s), mark)
 	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
 		return 0, &SyntaxError{Quantity: quantity, Value: s, Unit: u.String(), Want: "a finite decimal number", Err: err}
 	}

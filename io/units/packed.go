@@ -12,8 +12,9 @@ const packedWant = "ddd.mmss with minutes and seconds below 60"
 // returns decimal degrees. It works on the digits, not on a float64, so
 // that 10.3000 is exactly 10°30′ (the float 10.3 is 10.2999999999999998…)
 // and the sign of -0.3000 (−0°30′, whose degrees part is "minus zero") is
-// kept. Digits after the point are positional: "12.3" is 12°30′.
-func parsePackedDegrees(quantity, s string) (float64, error) {
+// kept. Digits after the point are positional: "12.3" is 12°30′. mark is
+// the decimal mark ("12,3" with DecimalComma).
+func parsePackedDegrees(quantity, s string, mark DecimalMark) (float64, error) {
 	bad := func(err error) (float64, error) {
 		return 0, &SyntaxError{Quantity: quantity, Value: s, Unit: "packed ddd.mmss", Want: packedWant, Err: err}
 	}
@@ -25,7 +26,10 @@ func parsePackedDegrees(quantity, s string) (float64, error) {
 	case strings.HasPrefix(t, "+"):
 		t = t[1:]
 	}
-	whole, frac, _ := strings.Cut(t, ".")
+	whole, frac := t, ""
+	if i := strings.IndexByte(t, byte(mark)); i >= 0 {
+		whole, frac = t[:i], t[i+1:]
+	}
 	if whole == "" && frac == "" {
 		return bad(nil)
 	}

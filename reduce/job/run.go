@@ -343,7 +343,7 @@ func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Wa
 // reading a source's rows travels with its chunk, in order; an error in
 // its header stops here.
 func readAll(ctx context.Context, sources []Source, plan *Plan, warn func(obsfile.Warning), todo chan<- *batch, free chan *batch) error {
-	opt := obsfile.ObsOptions{LengthUnit: plan.Job.LengthUnit, AngleUnit: plan.Job.AngleUnit, Limits: plan.Job.Limits}
+	opt := obsfile.ObsOptions{LengthUnit: plan.Job.LengthUnit, AngleUnit: plan.Job.AngleUnit, Limits: plan.Job.Limits, Delimiter: plan.Job.Delimiter}
 	var seq int64
 	for _, src := range sources {
 		c, warnings, err := obsfile.NewObsChunker(src.Reader, src.Name, opt)
