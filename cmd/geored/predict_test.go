@@ -194,7 +194,7 @@ func TestPredictBadInput(t *testing.T) {
 		{"empty", "", nil, []string{"pairs.csv:1: header: the file is empty"}},
 		{"no sights", "from,to,instrument_height,target_height\n", nil, []string{"no sights after the header"}},
 		{"no pairs flag", "from,to,instrument_height,target_height\n", []string{"-pairs", ""}, []string{"-pairs FILE is required"}},
-		{"bad k", "from,to,instrument_height,target_height,instrument\nA,B,5,5,ts1\n", []string{"-k", "NaN"}, []string{"refraction_k"}},
+		{"bad k", "from,to,instrument_height,target_height,instrument\nA,B,5,5,ts1\n", []string{"-k", "NaN"}, []string{`-k "NaN": want a decimal number`}},
 		{"prism constant not said", "from,to,instrument_height,target_height,instrument,prism_constant_mm\nA,B,5,5,ts1,-34.4\n", nil,
 			[]string{`pairs.csv:2: prism_constant_mm -34.4 mm differs from field_prism_constant_mm -30 mm of [instrument.ts1], and the job does not say which the instrument applies: say which with row_prism_constant = "target" or "applied"`}},
 		{"bad row prism reading", "from,to,instrument_height,target_height,instrument\nA,B,5,5,ts1\n", []string{"-instrument", "ts1", "-row-prism-constant", "true"},

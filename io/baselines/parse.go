@@ -85,12 +85,12 @@ func (r *row) get(name string) string {
 }
 
 // raw is the row's known fields in the header's order, joined by commas.
-func (r *row) raw(header []string) string {
+func (r *row) raw(header []string, d obsfile.Delimiter) string {
 	f := make([]string, len(header))
 	for i, h := range header {
 		f[i] = r.get(h)
 	}
-	return strings.Join(f, ",")
+	return obsfile.JoinRow(f, d)
 }
 
 func (p *parser) fieldError(name, want string, cause error) error {

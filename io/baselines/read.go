@@ -51,7 +51,7 @@ var Columns = []string{"id", "from", "to", "kind", "distance", "sigma", "dx", "d
 type Reject struct {
 	File   string
 	Line   int
-	Raw    string // the row as read, its fields joined by commas
+	Raw    string // the row as read, its fields joined by the file's delimiter
 	Reason string // the error, with file, line, column, value and what was expected
 }
 
@@ -183,7 +183,7 @@ func ReadDelimited(r io.Reader, file string, u units.LengthUnit, d obsfile.Delim
 		}
 		p.mark, p.markLine = mark, markLine
 		b, err := p.parse(rw)
-		b.Raw = rw.raw(header)
+		b.Raw = rw.raw(header, d)
 		if err != nil {
 			res.Rejects = append(res.Rejects, Reject{File: file, Line: p.line, Raw: b.Raw, Reason: err.Error()})
 			continue

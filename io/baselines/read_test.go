@@ -136,6 +136,11 @@ func TestReadSemicolonAndTab(t *testing.T) {
 		got, err := Read(strings.NewReader(text), "b.csv", units.Metre)
 		require.NoError(t, err, text)
 		require.Empty(t, got.Rejects, text)
+		require.Len(t, got.Baselines, len(want.Baselines))
+		for i := range got.Baselines {
+			assert.Equal(t, strings.Split(text, "\n")[i+1], got.Baselines[i].Raw) // as written
+			got.Baselines[i].Raw = want.Baselines[i].Raw
+		}
 		assert.Equal(t, want.Baselines, got.Baselines, text) // exact: the same digits
 	}
 	got, err := ReadDelimited(strings.NewReader(semi+"d2;K1;K3;grid;2000.5;0,004;;;;;;;;\n"), "b.csv", units.Metre, obsfile.Semicolon)

@@ -341,11 +341,12 @@ func (t *table) fieldError(name, want string, cause error) *FieldError {
 }
 
 // raw is the current row as written, re-joined with the file's delimiter.
-func (t *table) raw() string { return joinCSV(t.row, t.delim) }
+func (t *table) raw() string { return JoinRow(t.row, t.delim) }
 
-// joinCSV writes fields as one CSV row delimited by d (a comma where d is
-// DelimiterAuto), without its line end.
-func joinCSV(fields []string, d Delimiter) string {
+// JoinRow writes fields as one CSV row delimited by d (a comma where d is
+// DelimiterAuto), without its line end: a row as written, for a rejects
+// file.
+func JoinRow(fields []string, d Delimiter) string {
 	var b strings.Builder
 	w := csv.NewWriter(&b)
 	if d != DelimiterAuto {

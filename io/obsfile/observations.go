@@ -45,7 +45,7 @@ type Observation struct {
 }
 
 // Raw is the row as written, re-joined as CSV with its file's delimiter.
-func (o *Observation) Raw() string { return joinCSV(o.Fields, o.Delimiter) }
+func (o *Observation) Raw() string { return JoinRow(o.Fields, o.Delimiter) }
 
 // Weather is one end's meteorology.
 type Weather struct {
