@@ -291,3 +291,89 @@ func TestLandXMLUnitSystems(t *testing.T) {
 		})
 	}
 }
+
+// readRejects reads rejects.csv into line → reason.
+func readRejects(t *testing.T, text string) map[int]string {
+	t.Helper()
+	recs, err := csv.NewReader(strings.NewReader(text)).ReadAll()
+	require.NoError(t, err)
+	got := map[int]string{}
+	for _, rec := range recs[1:] {
+		n, err := strconv.Atoi(rec[1])
+		require.NoError(t, err)
+		got[n] = rec[3]
+	}
+	return got
+}
+
+// The bad-input corpus (testdata/landxml/bad): each file's fault is
+// rejected with its reason at its element's line and column, or, where
+// the file cannot be read on (malformed XML, units missing or not the
+// job's), stops the run with the error; the good observation beside a
+// rejected one is reduced, and read = reduced + rejected.
+func TestLandXMLBadInput(t *testing.T) {
+	cases := []struct {
+		file   string
+		reject map[int]string // line → part of the reason; nil: the run stops
+		stop   string         // part of the error that stops the run
+	}{
+		{file: "malformed.xml", stop: "malformed.xml:16:12: want well-formed XML (element <RawObservation> closed by </Survey>)"},
+		{file: "missing-target.xml", reject: map[int]string{14: "missing-target.xml:14:5: RawObservation: want a TargetPoint with the pntRef of the point sighted"}},
+		{file: "setup-without-station.xml", reject: map[int]string{16: `setup-without-station.xml:16:5: RawObservation setupID "s2": want a setup with a station: the InstrumentSetup at line 14, column 5 has no InstrumentPoint pntRef and no stationName`}},
+		{file: "no-distance.xml", reject: map[int]string{14: `no-distance.xml:14:5: RawObservation slopeDistance "": want a slope distance in m: an observation without a distance cannot be reduced`}},
+		{file: "bad-reference-and-number.xml", reject: map[int]string{
+			14: `bad-reference-and-number.xml:14:5: RawObservation setupID "s9": want the id of an InstrumentSetup earlier in the file`,
+			17: `bad-reference-and-number.xml:17:5: RawObservation slopeDistance "887,2055": want a slope distance in m, > 0 and at most 100 km`}},
+		{file: "wrong-units.xml", stop: `wrong-units.xml:5:5: Imperial linearUnit "USSurveyFoot": want the job's length_unit m: the file and the job disagree (set length_unit = "us-ft" for this file)`},
+		{file: "wrong-angle-unit.xml", stop: `wrong-angle-unit.xml:5:5: Metric angularUnit "grads": want the job's angle_unit dms: the file and the job disagree (set angle_unit = "gon" for this file)`},
+		{file: "no-angular-unit.xml", stop: `no-angular-unit.xml:5:5: Metric angularUnit "": want the unit of the file's angles: units are never guessed`},
+		{file: "no-units.xml", stop: `no-units.xml:8:5: RawObservation: want the file's Units element before its first observation: units are never guessed`},
+	}
+	for _, c := range cases {
+		t.Run(c.file, func(t *testing.T) {
+			text, err := os.ReadFile(filepath.Join("testdata", "landxml", "bad", c.file))
+			require.NoError(t, err)
+			dir := xmlJob(t, map[string]string{c.file: string(text)}, "m", "dms", string(mustDemo(t, "demo/points.csv")))
+			code, stderr, out := reduceIn(t, dir, c.file)
+			if c.reject == nil {
+				require.Equal(t, exitFailed, code, stderr)
+				assert.Contains(t, stderr, c.stop)
+				assert.NotContains(t, stderr, c.file+": "+filepath.Join(dir, c.file), "the file named once")
+				return
+			}
+			require.Equal(t, exitFlagged, code, stderr)
+			got := readRejects(t, out["rejects.csv"])
+			require.Len(t, got, len(c.reject), out["rejects.csv"])
+			for line, reason := range c.reject {
+				assert.Contains(t, got[line], reason, "line %d", line)
+			}
+			reduced := strings.Count(out["reduced.csv"], "\n") - 1
+			assert.Equal(t, 1, reduced, "the good observation is reduced")
+			assert.Equal(t, strings.Count(string(text), "<RawObservation "), reduced+len(got), "read = reduced + rejected")
+		})
+	}
+}
+
+// A file written on one line (several elements to a line) still names
+// each observation's line, and reduces as it does pretty-printed.
+func TestLandXMLOnOneLine(t *testing.T) {
+	rows := demoXMLRows(t)
+	pretty := landXML(rows, metricDMS, nil)
+	flat := regexp.MustCompile(`>\s+<`).ReplaceAllString(pretty, "><")
+	flat = strings.Replace(flat, "?>\n", "?>", 1) // line 1: the declaration and everything
+	require.Equal(t, 1, strings.Count(strings.TrimSpace(flat), "\n")+1)
+	dir := xmlJob(t, map[string]string{"pretty.xml": pretty, "flat.xml": flat}, "m", "dms", string(mustDemo(t, "demo/points.csv")))
+	codeP, errP, p := reduceIn(t, dir, "pretty.xml")
+	codeF, errF, f := reduceIn(t, dir, "flat.xml")
+	require.Equal(t, codeP, codeF, errP+errF)
+	assertSameReduction(t, p, f)
+	recs, err := csv.NewReader(strings.NewReader(f["reduced.csv"])).ReadAll()
+	require.NoError(t, err)
+	for _, rec := range recs[1:] {
+		assert.Equal(t, "1", rec[1], "row %s", rec[2])
+	}
+	for line, reason := range readRejects(t, f["rejects.csv"]) {
+		assert.Equal(t, 1, line)
+		assert.Regexp(t, `flat.xml:1(:\d+)?: `, reason)
+	}
+}
