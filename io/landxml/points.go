@@ -89,10 +89,12 @@ func (p *Points) fill(size int) error {
 				if p.units {
 					return s.at("Units", "", "", "one Units element: the file already has one")
 				}
+				ul, uc := s.line, s.col
 				if _, err := s.readUnits(p.opt); err != nil {
 					return err
 				}
 				if p.grid != p.opt.LengthUnit {
+					s.line, s.col = ul, uc
 					return s.at("Units", "", "", fmt.Sprintf("CgPoints in the unit of the CRS's grid, %s: the file's lengths are in %s", p.grid, p.opt.LengthUnit))
 				}
 				p.units = true
