@@ -377,3 +377,19 @@ func TestLandXMLOnOneLine(t *testing.T) {
 		assert.Regexp(t, `flat.xml:1(:\d+)?: `, reason)
 	}
 }
+
+// The nightly run reads a LandXML delivery through the same reader: the
+// demo as LandXML gives the history the rows of the demo as CSV.
+func TestNightlyReadsLandXML(t *testing.T) {
+	per := nightRows(t)
+	dir := nightlyFolder(t, "bridge")
+	xml, err := os.ReadFile(filepath.Join("testdata", "landxml", "demo.xml"))
+	require.NoError(t, err)
+	require.NoError(t, os.WriteFile(filepath.Join(dir, "inbox", "day.xml"), xml, 0o644))
+	code, s, stderr := nightlyJSON(t, "-config", filepath.Join(dir, "job.toml"), "-night", "2026-12-01")
+	require.Equal(t, exitFlagged, code, stderr)
+	require.Equal(t, map[string]string{"day.xml": "reduced"}, outcomes(s))
+	got := countRows(t, filepath.Join(dir, "history.db"), "bridge")
+	assert.Equal(t, per.Observations, got.Observations)
+	assert.Equal(t, per.Lines, got.Lines)
+}

@@ -116,6 +116,11 @@ instrument_height, target_height, temperature_c, pressure_hpa, humidity_pct
 end), prism_constant_mm (the target's, mm), field_prism_constant_mm (applied
 by the instrument on the shot, mm), instrument, obs_id (optional).
 
+A file named *.xml, or whose first character other than a blank is '<', is
+LandXML 1.2: its Survey's InstrumentSetup, TargetSetup and RawObservation
+elements, in the units of its Units element, which must be the job's
+length_unit and angle_unit; with no points file, its CgPoints are the control.
+
 Prism constants: each row has the target's true constant, which the
 reduction adds, and the one the instrument applied on the shot, which it
 first takes out of the raw distance. reduced.csv records both

@@ -141,7 +141,7 @@ func (o *Observations) fill(size int) error {
 		tok, err := o.s.next()
 		if errors.Is(err, io.EOF) {
 			if !o.units {
-				return &Error{File: o.s.file, Line: o.s.line, Column: o.s.col, Element: "LandXML", Want: "a Units element: the file's units are never guessed"}
+				return o.s.noUnits()
 			}
 			return io.EOF
 		}

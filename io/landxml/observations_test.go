@@ -166,7 +166,7 @@ func TestObservationsStop(t *testing.T) {
 		{`<LandXML/>`, `f.xml:1:1: LandXML version "": want 1.2 (a version attribute or the LandXML-1.2 namespace)`},
 		{``, "f.xml:1:1: want a LandXML 1.2 file: no LandXML element"},
 		{head + `</LandXML>`, ""},
-		{`<LandXML version="1.2"></LandXML>`, "f.xml:1:34: LandXML: want a Units element: the file's units are never guessed"},
+		{`<LandXML version="1.2"></LandXML>`, "f.xml:1:1: LandXML: want a Units element: the file's units are never guessed"},
 		{strings.Replace(head, "</Units>", `<Imperial linearUnit="foot" angularUnit="radians"/></Units>`, 1), "f.xml:3:114: Imperial: want one unit system: this file's Units already has Metric"},
 		{strings.Replace(head, `"meter"`, `"millimeter"`, 1), `f.xml:3:8: Metric linearUnit "millimeter": want "meter": a unit geored reads (length_unit)`},
 		{head + `<Survey><InstrumentSetup id="a" stationName="A" instrumentHeight="1"/><InstrumentSetup id="a" stationName="B" instrumentHeight="1"/></Survey></LandXML>`,

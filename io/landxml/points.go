@@ -69,7 +69,7 @@ func (p *Points) fill(size int) error {
 		tok, err := s.next()
 		if errors.Is(err, io.EOF) {
 			if !p.units {
-				return &Error{File: s.file, Line: s.line, Column: s.col, Element: "LandXML", Want: "a Units element: the file's units are never guessed"}
+				return s.noUnits()
 			}
 			return io.EOF
 		}

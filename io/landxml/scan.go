@@ -19,6 +19,8 @@ type scanner struct {
 	d         *xml.Decoder
 	line, col int // where the last token starts
 	root      bool
+	rootLine  int // where the LandXML element starts
+	rootCol   int
 	skipped   map[string]*skipCount
 }
 
@@ -71,7 +73,7 @@ func (s *scanner) start(t xml.StartElement) error {
 	if t.Name.Local != "LandXML" {
 		return s.at(t.Name.Local, "", "", "a LandXML 1.2 file: the root element LandXML")
 	}
-	s.root = true
+	s.root, s.rootLine, s.rootCol = true, s.line, s.col
 	v, ok := attr(t, "version")
 	ns := t.Name.Space
 	switch {
@@ -83,6 +85,11 @@ func (s *scanner) start(t xml.StartElement) error {
 		return s.at("LandXML", "version", "", "1.2 (a version attribute or the LandXML-1.2 namespace)")
 	}
 	return nil
+}
+
+// noUnits is the error of a file without a Units element, at its root.
+func (s *scanner) noUnits() error {
+	return &Error{File: s.file, Line: s.rootLine, Column: s.rootCol, Element: "LandXML", Want: "a Units element: the file's units are never guessed"}
 }
 
 // skip passes over the element t has opened, with its content, and
