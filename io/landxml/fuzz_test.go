@@ -1,8 +1,6 @@
 package landxml
 
 import (
-	"errors"
-	"io"
 	"strings"
 	"testing"
 
@@ -26,35 +24,8 @@ func FuzzObservations(f *testing.F) {
 			}
 			return
 		}
-		rows, last := 0, 0
-		for {
-			o, err := r.Next()
-			if errors.Is(err, io.EOF) {
-				break
-			}
-			var re *obsfile.RowError
-			if errors.As(err, &re) {
-				f, ok := lx.Take(re.Err.Line)
-				if !ok || f.Reason == "" {
-					t.Fatalf("a rejected row without its reason: %v", err)
-				}
-				rows++
-				continue
-			}
-			if err != nil {
-				break // the file cannot be read on
-			}
-			if o.Line <= last {
-				t.Fatalf("rows out of order: line %d after %d", o.Line, last)
-			}
-			last = o.Line
-			if f, ok := lx.Take(o.Line); ok && f.Reason != "" {
-				t.Fatalf("an observation read with a reason to refuse it: %q", f.Reason)
-			}
-			rows++
-		}
-		if rows != lx.Rows() {
-			t.Fatalf("read %d rows of %d observations", rows, lx.Rows())
+		if d := drain(lx, r); d.broken != nil {
+			t.Fatal(d.broken)
 		}
 	})
 }

@@ -2,7 +2,6 @@ package landxml
 
 import (
 	"encoding/xml"
-	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -36,12 +35,8 @@ type Observations struct {
 	lim   obsfile.Limits
 	units bool // the file's Units were read and agree with the job
 
-	buf  []byte
-	off  int   // read position in buf
-	line int   // lines of CSV written
-	err  error // what ends the stream, once buf is read
-	rows int
-	row  []byte // the row being built
+	csvStream
+	row []byte // the row being built
 
 	stack   []frame
 	setups  map[string]*setup
@@ -91,31 +86,13 @@ type pending struct {
 func NewObservations(r io.Reader, file string, opt Options) *Observations {
 	o := &Observations{s: newScanner(r, file, opt.Limits), opt: opt, lim: opt.Limits.OrDefault(),
 		setups: map[string]*setup{}, targets: map[string]*targetSetup{}, fixes: map[int]Fix{}}
-	o.buf = append(o.buf, ObservationHeader...)
-	o.line = 1
+	o.buf, o.line, o.csvStream.fill = append(o.buf, ObservationHeader...), 1, o.fill
 	return o
-}
-
-// Read reads the CSV stream.
-func (o *Observations) Read(p []byte) (int, error) {
-	for o.off == len(o.buf) {
-		if o.err != nil {
-			return 0, o.err
-		}
-		o.buf, o.off = o.buf[:0], 0
-		o.err = o.fill(4 << 10)
-	}
-	n := copy(p, o.buf[o.off:])
-	o.off += n
-	return n, nil
 }
 
 // Warnings is the file's one warning naming the elements not read, once
 // the stream has been read to its end.
 func (o *Observations) Warnings() []obsfile.Warning { return o.s.warnings() }
-
-// Rows is the number of observation rows written so far.
-func (o *Observations) Rows() int { return o.rows }
 
 // Take returns, and forgets, the Fix of the row on line csvLine of the
 // stream, if it has one. It may be called from another goroutine than
@@ -138,13 +115,7 @@ func (o *Observations) Take(csvLine int) (Fix, bool) {
 // file ends (io.EOF) or cannot be read on.
 func (o *Observations) fill(size int) error {
 	for len(o.buf) < size {
-		tok, err := o.s.next()
-		if errors.Is(err, io.EOF) {
-			if !o.units {
-				return o.s.noUnits()
-			}
-			return io.EOF
-		}
+		tok, err := o.s.token(o.units)
 		if err != nil {
 			return err
 		}
@@ -307,13 +278,7 @@ func (o *Observations) height(el, name, v string) (string, string) {
 func (o *Observations) finish() {
 	p := &o.obs
 	row, reason := o.observation(p)
-	csvLine := o.line + 1
-	if p.line > csvLine {
-		o.buf = append(o.buf, strings.Repeat("\n", p.line-csvLine)...)
-		csvLine = p.line
-	}
-	o.line = csvLine
-	o.rows++
+	csvLine := o.startRow(p.line)
 	if reason != "" {
 		o.buf = append(o.buf, refusedRow...)
 		o.addFix(csvLine, Fix{Line: p.line, Reason: reason, Raw: startTag(p.tag)})

@@ -2,6 +2,7 @@ package landxml
 
 import (
 	"errors"
+	"fmt"
 	"io"
 	"strings"
 	"testing"
@@ -36,6 +37,34 @@ func readAll(t *testing.T, text string, opt Options) readResult {
 		res.err = err
 		return res
 	}
+	d := drain(lx, r)
+	require.NoError(t, d.broken)
+	res.obs, res.err, res.rows, res.warn = d.obs, d.err, d.rows, lx.Warnings()
+	for _, f := range d.refused {
+		res.refused[f.Line] = f
+	}
+	for _, f := range d.fixed {
+		res.fixed[f.Line] = f
+	}
+	return res
+}
+
+// drained is what drain read: broken says how the stream broke its
+// contract with the CSV reader, if it did.
+type drained struct {
+	obs            []obsfile.Observation // with their elements' lines
+	refused, fixed []Fix
+	rows           int
+	err            error // what ended the file
+	broken         error
+}
+
+// drain reads the rows of a LandXML stream through the CSV reader, as the
+// pipeline does, and checks that every observation is one row, in order,
+// and every rejected row has its reason.
+func drain(lx *Observations, r *obsfile.ObsReader) drained {
+	var d drained
+	last := 0
 	for {
 		o, err := r.Next()
 		if errors.Is(err, io.EOF) {
@@ -44,27 +73,38 @@ func readAll(t *testing.T, text string, opt Options) readResult {
 		var re *obsfile.RowError
 		if errors.As(err, &re) {
 			f, ok := lx.Take(re.Err.Line)
-			require.True(t, ok, "a refused row has its reason: %v", err)
-			require.NotEmpty(t, f.Reason)
-			res.refused[f.Line] = f
-			res.rows++
+			if !ok || f.Reason == "" {
+				d.broken = fmt.Errorf("a rejected row without its reason: %w", err)
+				return d
+			}
+			d.refused = append(d.refused, f)
+			d.rows++
 			continue
 		}
 		if err != nil {
-			res.err = err
+			d.err = err
 			break
 		}
+		if o.Line <= last {
+			d.broken = fmt.Errorf("rows out of order: line %d after %d", o.Line, last)
+			return d
+		}
+		last = o.Line
 		if f, ok := lx.Take(o.Line); ok {
-			require.Empty(t, f.Reason)
-			res.fixed[o.Line] = f
+			if f.Reason != "" {
+				d.broken = fmt.Errorf("an observation read with a reason to refuse it: %q", f.Reason)
+				return d
+			}
+			d.fixed = append(d.fixed, f)
 			o.Line = f.Line
 		}
-		res.obs = append(res.obs, o)
-		res.rows++
+		d.obs = append(d.obs, o)
+		d.rows++
 	}
-	res.warn = lx.Warnings()
-	require.Equal(t, lx.Rows(), res.rows, "each RawObservation is one row")
-	return res
+	if d.rows != lx.Rows() {
+		d.broken = fmt.Errorf("read %d rows of %d observations", d.rows, lx.Rows())
+	}
+	return d
 }
 
 const head = `<?xml version="1.0"?>

@@ -29,50 +29,22 @@ type Points struct {
 	opt   Options
 	grid  units.LengthUnit
 	units bool
-	buf   []byte
-	off   int
-	line  int
-	err   error
+	csvStream
 	depth int
-	in    bool // inside LandXML/CgPoints
-	rows  int
 }
 
 // NewPoints reads r, the LandXML file named file; grid is the unit of the
 // job CRS's grid.
 func NewPoints(r io.Reader, file string, opt Options, grid units.LengthUnit) *Points {
-	p := &Points{s: newScanner(r, file, opt.Limits), opt: opt, grid: grid, line: 1}
-	p.buf = append(p.buf, PointHeader...)
+	p := &Points{s: newScanner(r, file, opt.Limits), opt: opt, grid: grid}
+	p.buf, p.line, p.csvStream.fill = append(p.buf, PointHeader...), 1, p.fill
 	return p
-}
-
-// Rows is the number of points written so far.
-func (p *Points) Rows() int { return p.rows }
-
-// Read reads the CSV stream.
-func (p *Points) Read(b []byte) (int, error) {
-	for p.off == len(p.buf) {
-		if p.err != nil {
-			return 0, p.err
-		}
-		p.buf, p.off = p.buf[:0], 0
-		p.err = p.fill(4 << 10)
-	}
-	n := copy(b, p.buf[p.off:])
-	p.off += n
-	return n, nil
 }
 
 func (p *Points) fill(size int) error {
 	s := p.s
 	for len(p.buf) < size {
-		tok, err := s.next()
-		if errors.Is(err, io.EOF) {
-			if !p.units {
-				return s.noUnits()
-			}
-			return io.EOF
-		}
+		tok, err := s.token(p.units)
 		if err != nil {
 			return err
 		}
@@ -165,13 +137,7 @@ func (p *Points) point(t xml.StartElement) error {
 			return at("", "", fmt.Sprintf("point %q: its %s %q as a decimal number in %s", obsfile.Clip(name), [...]string{"northing", "easting", "elevation"}[i], obsfile.Clip(v), p.opt.LengthUnit))
 		}
 	}
-	if line > p.line+1 {
-		p.buf = append(p.buf, strings.Repeat("\n", line-p.line-1)...)
-		p.line = line
-	} else {
-		p.line++
-	}
-	p.rows++
+	p.startRow(line)
 	p.buf = appendCSVField(p.buf, name)
 	for _, v := range f {
 		p.buf = append(p.buf, ',')

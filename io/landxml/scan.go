@@ -63,6 +63,16 @@ func (s *scanner) next() (xml.Token, error) {
 	return nil, fmt.Errorf("%s: %w", s.file, err)
 }
 
+// token is next, but at the end of a file without a Units element (units
+// false) the error that says so.
+func (s *scanner) token(units bool) (xml.Token, error) {
+	t, err := s.next()
+	if errors.Is(err, io.EOF) && !units {
+		return nil, s.noUnits()
+	}
+	return t, err
+}
+
 // at is an error at the start of the element last read.
 func (s *scanner) at(el, attr, value, want string) *Error {
 	return &Error{File: s.file, Line: s.line, Column: s.col, Element: el, Attr: attr, Value: value, Want: want}
