@@ -144,6 +144,9 @@ func (o *Observations) parent() frame {
 
 func (o *Observations) startElement(t xml.StartElement) error {
 	s, name, parent := o.s, t.Name.Local, o.parent()
+	if len(o.stack) >= maxDepth {
+		return s.tooDeep()
+	}
 	push := func(setup string) { o.stack = append(o.stack, frame{name, setup}) }
 	switch parent.name {
 	case "":

@@ -211,6 +211,9 @@ func TestObservationsStop(t *testing.T) {
 		{strings.Replace(head, `"meter"`, `"millimeter"`, 1), `f.xml:3:8: Metric linearUnit "millimeter": want "meter": a unit geored reads (length_unit)`},
 		{head + `<Survey><InstrumentSetup id="a" stationName="A" instrumentHeight="1"/><InstrumentSetup id="a" stationName="B" instrumentHeight="1"/></Survey></LandXML>`,
 			`f.xml:4:71: InstrumentSetup id "a": want a unique id: line 4, column 9 has it already`},
+		{head + `<Survey>` + strings.Repeat("<ObservationGroup>", 300), "f.xml:4:4581: want elements nested at most 256 deep"},
+		{head + `<Survey><Other>` + strings.Repeat("<x>", 300), "f.xml:4:781: want elements nested at most 256 deep"},
+		{head + `<Survey><Other><x>`, "f.xml:4:19: want well-formed XML (unexpected EOF)"},
 		{head + `<Survey><InstrumentSetup id="a" stationName="` + strings.Repeat("A", 2<<20) + `"/></Survey></LandXML>`,
 			"f.xml:4: this tag or text: over the limit max_line_bytes = 1,048,576 bytes"},
 	} {

@@ -51,6 +51,9 @@ func (p *Points) fill(size int) error {
 		switch t := tok.(type) {
 		case xml.StartElement:
 			name := t.Name.Local
+			if p.depth >= maxDepth {
+				return s.tooDeep()
+			}
 			switch {
 			case p.depth == 0:
 				if err := s.start(t); err != nil {

@@ -114,17 +114,37 @@ func (s *scanner) skip(t xml.StartElement) error {
 	return s.skipQuiet()
 }
 
+// maxDepth bounds how deep elements nest, within the elements read and
+// within one skipped: the decoder keeps a record per open element.
+const maxDepth = 256
+
 // skipQuiet passes over the element just opened without counting it: one
 // the other reader of the file reads.
 func (s *scanner) skipQuiet() error {
-	if err := s.d.Skip(); err != nil {
-		_, err2 := s.next() // the decoder's error, with its position
-		if err2 != nil && !errors.Is(err2, io.EOF) {
-			return err2
+	line, col := s.line, s.col
+	for depth := 1; depth > 0; {
+		tok, err := s.next()
+		if errors.Is(err, io.EOF) {
+			return &Error{File: s.file, Line: line, Column: col, Want: "the end tag of the element that starts here"}
 		}
-		return fmt.Errorf("%s: %w", s.file, err)
+		if err != nil {
+			return err
+		}
+		switch tok.(type) {
+		case xml.StartElement:
+			if depth++; depth > maxDepth {
+				return s.tooDeep()
+			}
+		case xml.EndElement:
+			depth--
+		}
 	}
 	return nil
+}
+
+// tooDeep is the error of an element nested deeper than maxDepth.
+func (s *scanner) tooDeep() error {
+	return &Error{File: s.file, Line: s.line, Column: s.col, Want: fmt.Sprintf("elements nested at most %d deep", maxDepth)}
 }
 
 // warnings is the one warning that names the elements skipped.
