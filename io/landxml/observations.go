@@ -257,6 +257,8 @@ func (o *Observations) targetSetup(t xml.StartElement) error {
 	ts := &targetSetup{}
 	if v, ok := attr(t, "targetHeight"); ok {
 		ts.ht, ts.bad = o.height("TargetSetup", "targetHeight", v)
+	} else {
+		ts.bad = s.at("TargetSetup", "targetHeight", "", o.heightWant("the target's height above the mark")).Error()
 	}
 	o.targets[id] = ts
 	return nil
@@ -366,6 +368,10 @@ func (o *Observations) observation(p *pending) (row []byte, reason string) {
 			return nil, at("targetSetupID", id, "a target setup that can be used: "+ts.bad)
 		}
 		ht = ts.ht
+	}
+	if ht == "" {
+		// Not taken as 0: a height left out is not known to be 0.
+		return nil, at("targetHeight", "", o.heightWant("the target's height above the mark (here, or its TargetSetup's; 0 if the target is on the mark)"))
 	}
 	name, _ := get("name") // from memory: RawObservation's name, its identifier
 	fields := [...]string{name, st.station, p.target}

@@ -154,13 +154,13 @@ func TestObservationsFoldSkipped(t *testing.T) {
   <InstrumentPoint pntRef="A"/>
   <Backsight><BacksightPoint pntRef="B"/></Backsight>
 </InstrumentSetup>
-<RawObservation setupID="a" slopeDistance="10" zenithAngle="90"><TargetPoint pntRef="B"/><FieldNote>n</FieldNote></RawObservation>
+<RawObservation setupID="a" slopeDistance="10" zenithAngle="90" targetHeight="1"><TargetPoint pntRef="B"/><FieldNote>n</FieldNote></RawObservation>
 <InstrumentSetup id="b" stationName="B" instrumentHeight="1.5"><Backsight/></InstrumentSetup>
 </Survey></LandXML>`, metreDMS)
 	require.NoError(t, res.err)
 	require.Len(t, res.obs, 1)
 	require.Len(t, res.warn, 1)
-	assert.Equal(t, "f.xml:4: 5 LandXML elements not read (the job's settings stand for what they say): Project ×1 (first at line 4, column 1), SurveyHeader ×1 (first at line 6, column 1), Backsight ×2 (first at line 9, column 3), FieldNote ×1 (first at line 11, column 90)", res.warn[0].String())
+	assert.Equal(t, "f.xml:4: 5 LandXML elements not read (the job's settings stand for what they say): Project ×1 (first at line 4, column 1), SurveyHeader ×1 (first at line 6, column 1), Backsight ×2 (first at line 9, column 3), FieldNote ×1 (first at line 11, column 107)", res.warn[0].String())
 }
 
 // A refused observation is one row, rejected with its own reason, and the
@@ -170,13 +170,14 @@ func TestObservationsRefused(t *testing.T) {
 <InstrumentSetup id="a" stationName="A"/>
 <InstrumentSetup id="b" stationName="B" instrumentHeight="x1"/>
 <InstrumentSetup id="c" stationName="C" instrumentHeight="1.5"/>
-<RawObservation setupID="a" slopeDistance="10" zenithAngle="90"><TargetPoint pntRef="B"/></RawObservation>
-<RawObservation setupID="b" slopeDistance="10" zenithAngle="90"><TargetPoint pntRef="A"/></RawObservation>
-<RawObservation setupID="c" slopeDistance="10" zenithAngle="190"><TargetPoint pntRef="A"/></RawObservation>
-<RawObservation setupID="c" slopeDistance="10" zenithAngle="90"><TargetPoint pntRef="C"/></RawObservation>
+<RawObservation setupID="a" slopeDistance="10" zenithAngle="90" targetHeight="1"><TargetPoint pntRef="B"/></RawObservation>
+<RawObservation setupID="b" slopeDistance="10" zenithAngle="90" targetHeight="1"><TargetPoint pntRef="A"/></RawObservation>
+<RawObservation setupID="c" slopeDistance="10" zenithAngle="190" targetHeight="1"><TargetPoint pntRef="A"/></RawObservation>
+<RawObservation setupID="c" slopeDistance="10" zenithAngle="90" targetHeight="1"><TargetPoint pntRef="C"/></RawObservation>
 <RawObservation setupID="c" slopeDistance="10" zenithAngle="90" targetSetupID="zz"><TargetPoint pntRef="A"/></RawObservation>
-<RawObservation setupID="c" horizDistance="10" zenithAngle="90"><TargetPoint pntRef="A"/></RawObservation>
-<RawObservation setupID="c" slopeDistance="10" zenithAngle="90" name="ok"><TargetPoint pntRef="A"/></RawObservation>
+<RawObservation setupID="c" horizDistance="10" zenithAngle="90" targetHeight="1"><TargetPoint pntRef="A"/></RawObservation>
+<RawObservation setupID="c" slopeDistance="10" zenithAngle="90" targetHeight="0" name="ok"><TargetPoint pntRef="A"/></RawObservation>
+<RawObservation setupID="c" slopeDistance="10" zenithAngle="90"><TargetPoint pntRef="A"/></RawObservation>
 </Survey></LandXML>`, metreDMS)
 	require.NoError(t, res.err)
 	require.Len(t, res.obs, 1)
@@ -188,6 +189,7 @@ func TestObservationsRefused(t *testing.T) {
 		11: `f.xml:11:1: RawObservation: want a target other than the station "C"`,
 		12: `f.xml:12:1: RawObservation targetSetupID "zz": want the id of a TargetSetup earlier in the file`,
 		13: `f.xml:13:1: RawObservation slopeDistance "": want a slope distance in m (an observation of a horizontal distance is not read)`,
+		15: `f.xml:15:1: RawObservation targetHeight "": want the target's height above the mark (here, or its TargetSetup's; 0 if the target is on the mark) in m`,
 	}
 	require.Len(t, res.refused, len(want))
 	for line, reason := range want {
@@ -250,6 +252,7 @@ func TestPoints(t *testing.T) {
 		{strings.Replace(text, "48.217", "48.217 1", 1), units.Metre, `f.xml:5:1: CgPoint: want point "ALPHA": its text "northing easting [elevation]" in m (4 numbers found)`},
 		{strings.Replace(text, "48.217", "0x30", 1), units.Metre, `f.xml:5:1: CgPoint: want point "ALPHA": its elevation "0x30" as a decimal number in m`},
 		{strings.Replace(text, ` name="ALPHA"`, "", 1), units.Metre, `f.xml:5:1: CgPoint name "": want the point's name`},
+		{strings.Replace(text, `name="BRAVO"`, `name="ALPHA"`, 1), units.Metre, `f.xml:6:1: CgPoint name "ALPHA": want a unique name: the CgPoint at line 5, column 1 has it already`},
 		{text, units.USSurveyFoot, "f.xml:3:1: Units: want CgPoints in the unit of the CRS's grid, us-ft: the file's lengths are in m"},
 	} {
 		_, _, err := obsfile.ReadPoints(NewPoints(strings.NewReader(c.text), "f.xml", metreDMS, c.grid), "f.xml", obsfile.PointOptions{GridUnit: c.grid, HeightUnit: units.Metre})

@@ -31,12 +31,13 @@ type Points struct {
 	units bool
 	csvStream
 	depth int
+	seen  map[string][2]int // name → line and column of its CgPoint
 }
 
 // NewPoints reads r, the LandXML file named file; grid is the unit of the
 // job CRS's grid.
 func NewPoints(r io.Reader, file string, opt Options, grid units.LengthUnit) *Points {
-	p := &Points{s: newScanner(r, file, opt.Limits), opt: opt, grid: grid}
+	p := &Points{s: newScanner(r, file, opt.Limits), opt: opt, grid: grid, seen: map[string][2]int{}}
 	p.buf, p.line, p.csvStream.fill = append(p.buf, PointHeader...), 1, p.fill
 	return p
 }
@@ -109,6 +110,10 @@ func (p *Points) point(t xml.StartElement) error {
 	if name == "" || strings.ContainsAny(name, "\r\n") || len(name) > lim.MaxFieldBytes {
 		return at("name", name, fmt.Sprintf("the point's name, on one line, of at most %d bytes, which pntRef attributes name", lim.MaxFieldBytes))
 	}
+	if first, dup := p.seen[name]; dup {
+		return at("name", name, fmt.Sprintf("a unique name: the CgPoint at line %d, column %d has it already", first[0], first[1]))
+	}
+	p.seen[name] = [2]int{line, col}
 	var text strings.Builder
 	for {
 		tok, err := s.next()
