@@ -222,6 +222,9 @@ func (f *jobFlags) resolveFor(fs *flag.FlagSet, need jobconfig.Needs, obsArgs []
 	if len(obsArgs) > 0 {
 		file.Observations = obsArgs
 	}
+	if need.Points && file.Points == "" && anyLandXML(file.Observations) {
+		need.Points = false // the control from the LandXML file's CgPoints
+	}
 	return jobconfig.ResolveFor(file, name, need)
 }
 

@@ -21,6 +21,7 @@ import (
 
 	"github.com/geored/geored/geodesic"
 	"github.com/geored/geored/io/jobconfig"
+	"github.com/geored/geored/io/landxml"
 	"github.com/geored/geored/io/obsfile"
 	"github.com/geored/geored/io/outset"
 	"github.com/geored/geored/io/report"
@@ -114,6 +115,11 @@ instrument_height, target_height, temperature_c, pressure_hpa, humidity_pct
 (instrument end), temperature_c_to, pressure_hpa_to, humidity_pct_to (target
 end), prism_constant_mm (the target's, mm), field_prism_constant_mm (applied
 by the instrument on the shot, mm), instrument, obs_id (optional).
+
+A file named *.xml, or whose first character other than a blank is '<', is
+LandXML 1.2: its Survey's InstrumentSetup, TargetSetup and RawObservation
+elements, in the units of its Units element, which must be the job's
+length_unit and angle_unit; with no points file, its CgPoints are the control.
 
 Prism constants: each row has the target's true constant, which the
 reduction adds, and the one the instrument applied on the shot, which it
@@ -296,8 +302,14 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 	if len(j.Profiles) == 0 {
 		return nil, errors.New("the job has no instrument profile: give [instrument.NAME] with wavelength_um, a reference, spec_mm and spec_ppm (or the instrument flags)")
 	}
+	var xmlPoints string // the LandXML file whose CgPoints are the control
 	if j.Points == "" && opt.points == nil {
-		return nil, errors.New("no points file: give points in the config or -points")
+		if xmlPoints, err = landxmlPoints(j); err != nil {
+			return nil, err
+		}
+		if xmlPoints == "" {
+			return nil, errors.New("no points file: give points in the config or -points")
+		}
 	}
 	if len(j.Observations) == 0 && len(opt.inputs) == 0 {
 		return nil, errors.New("no observation files: name them after the flags or in the config's observations")
@@ -336,7 +348,15 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 
 	// Points: streamed, hashed as they are read.
 	pointsName, points := j.Points, opt.points
-	if points == nil {
+	pointsHash := sha256.New()
+	if xmlPoints != "" {
+		f, err := os.Open(xmlPoints)
+		if err != nil {
+			return nil, err
+		}
+		defer f.Close()
+		pointsName, points = xmlPoints, landxml.NewPoints(io.TeeReader(f, pointsHash), xmlPoints, landxmlOptions(j), s.gridUnit)
+	} else if points == nil {
 		f, err := os.Open(j.Points)
 		if err != nil {
 			return nil, err
@@ -346,15 +366,17 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 	} else {
 		pointsName = opt.pointsName
 	}
-	pointsHash := sha256.New()
-	nPoints, err := s.loadPoints(io.TeeReader(points, pointsHash), pointsName, warn)
+	if xmlPoints == "" {
+		points = io.TeeReader(points, pointsHash)
+	}
+	nPoints, err := s.loadPoints(points, pointsName, warn)
 	if err != nil {
-		return nil, err
+		return nil, plainLandXMLError(err)
 	}
 	if j.HasJobAlpha {
 		// The critical value that holds α for the whole job depends on
 		// how many observations it tests: count the rows first.
-		n, err := countObservationRows(j.Observations, opt.inputs, opt.obsIn, j.Limits)
+		n, err := countObservationRows(j, opt.inputs, opt.obsIn)
 		if err != nil {
 			return nil, err
 		}
@@ -377,6 +399,7 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 	var hashes []hash.Hash
 	var total int64
 	var read atomic.Int64
+	xml := landxmlSources{}
 	for _, path := range j.Observations {
 		f, name, err := opt.obsIn.open(path)
 		if err != nil {
@@ -388,7 +411,12 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 		}
 		h := sha256.New()
 		hashes = append(hashes, h)
-		sources = append(sources, job.Source{Name: name, Reader: io.TeeReader(&countingReader{r: f, n: &read}, h)})
+		in, isXML := sniff(io.TeeReader(&countingReader{r: f, n: &read}, h), name)
+		if isXML {
+			lx := landxml.NewObservations(in, name, landxmlOptions(j))
+			xml[name], in = lx, lx
+		}
+		sources = append(sources, job.Source{Name: name, Reader: in})
 	}
 	for _, src := range opt.inputs {
 		h := sha256.New()
@@ -421,6 +449,9 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 	stop := startProgress(opt.progress, &read, &rows, total)
 	hook := opt.set.Hook
 	err = job.Run(ctx, plan, sources, warn, func(r *job.Result) error {
+		if len(xml) > 0 {
+			xml.fix(r, u)
+		}
 		agg.Add(r)
 		if opt.each != nil {
 			opt.each(r)
@@ -438,6 +469,13 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 		return err
 	})
 	stop()
+	for _, src := range sources {
+		if lx := xml[src.Name]; lx != nil {
+			for _, w := range lx.Warnings() {
+				warn(w)
+			}
+		}
+	}
 	if moreWarnings > 0 {
 		more := fmt.Sprintf("%d more warnings, not shown", moreWarnings)
 		sum.Warnings = append(sum.Warnings, more)
@@ -446,7 +484,7 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 		}
 	}
 	if err != nil {
-		return nil, err
+		return nil, plainLandXMLError(err)
 	}
 	plan.EndRuns() // the summary and lines.csv need the lines, not finding them
 	// The big files are written: they go to disk while the summary is made.
@@ -515,13 +553,13 @@ func jobInputs(j *jobconfig.Job) []outset.Keep {
 // countObservationRows counts the data rows of the observation files and
 // of the inputs given as readers, which must then be seekable: they are
 // read again by the run.
-func countObservationRows(paths []string, inputs []job.Source, obsIn observationInput, lim obsfile.Limits) (int, error) {
+func countObservationRows(j *jobconfig.Job, inputs []job.Source, obsIn observationInput) (int, error) {
 	n := 0
-	for _, path := range paths {
+	for _, path := range j.Observations {
 		if path == stdinArg {
 			// standard input, copied to a file by runReduce: counted here
 			// and read again by the run
-			k, err := countAndRewind(stdinName, obsIn.stdin, lim)
+			k, err := countAndRewind(stdinName, obsIn.stdin, j)
 			if err != nil {
 				return 0, err
 			}
@@ -532,7 +570,7 @@ func countObservationRows(paths []string, inputs []job.Source, obsIn observation
 		if err != nil {
 			return 0, err
 		}
-		k, err := obsfile.CountRows(f, path, lim)
+		k, err := countObsRows(f, path, j)
 		f.Close()
 		if err != nil {
 			return 0, err
@@ -544,7 +582,7 @@ func countObservationRows(paths []string, inputs []job.Source, obsIn observation
 		if !ok {
 			return 0, fmt.Errorf("%s: job_alpha needs to count the rows before the run, and this input cannot be read twice", src.Name)
 		}
-		k, err := countAndRewind(src.Name, rs, lim)
+		k, err := countAndRewind(src.Name, rs, j)
 		if err != nil {
 			return 0, err
 		}
@@ -554,11 +592,11 @@ func countObservationRows(paths []string, inputs []job.Source, obsIn observation
 }
 
 // countAndRewind counts the data rows of rs and seeks back to its start.
-func countAndRewind(name string, rs io.ReadSeeker, lim obsfile.Limits) (int, error) {
+func countAndRewind(name string, rs io.ReadSeeker, j *jobconfig.Job) (int, error) {
 	if rs == nil || rs == (*os.File)(nil) {
 		return 0, fmt.Errorf("%s: job_alpha needs to count the rows before the run, and this input cannot be read twice", name)
 	}
-	k, err := obsfile.CountRows(rs, name, lim)
+	k, err := countObsRows(rs, name, j)
 	if err != nil {
 		return 0, err
 	}
