@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"reflect"
 	"strconv"
 	"strings"
 	"testing"
@@ -138,7 +139,7 @@ func newFuzzFixtures(f *testing.F) []fuzzFixture {
 // chain — parse, instrument, atmosphere, geometry, grid, residuals — and
 // formats each as reduced.csv or rejects.csv does: no input panics, every
 // row is reduced or rejected with a reason that names its file and line,
-// and no number written for a reduced row is NaN or infinite. `go test
+// and no number of a reduced row, written or kept, is NaN or infinite. `go test
 // ./reduce/job -run '^$' -fuzz FuzzReduceRow` explores further than the
 // seeds (testdata/fuzz/FuzzReduceRow: the demo's rows and the bad-input
 // corpus's, cmd/geored/testdata/badinput).
@@ -238,9 +239,35 @@ func reduceFuzzRow(t testing.TB, fx *fuzzFixture, rows string) [][]string {
 				t.Fatalf("reduced %s:%d (%q): %s = %q, want a finite number", o.File, o.Line, o.Raw(), header[i], v)
 			}
 		}
+		// Nor is any number the chain kept for the row, written or not.
+		var bad []string
+		nonFinite(reflect.ValueOf(res.Reduction), "Reduction", &bad)
+		nonFinite(reflect.ValueOf(res.Line), "Line", &bad)
+		if len(bad) > 0 {
+			t.Fatalf("reduced %s:%d (%q): not finite: %s", o.File, o.Line, o.Raw(), strings.Join(bad, ", "))
+		}
 		reduced = append(reduced, fields)
 	}
 	return reduced
+}
+
+// nonFinite adds to bad the path of each float64 in v, a struct, that is
+// NaN or infinite.
+func nonFinite(v reflect.Value, path string, bad *[]string) {
+	switch v.Kind() {
+	case reflect.Float64:
+		if x := v.Float(); math.IsNaN(x) || math.IsInf(x, 0) {
+			*bad = append(*bad, path)
+		}
+	case reflect.Struct:
+		for i := range v.NumField() {
+			nonFinite(v.Field(i), path+"."+v.Type().Field(i).Name, bad)
+		}
+	case reflect.Array, reflect.Slice:
+		for i := range v.Len() {
+			nonFinite(v.Index(i), fmt.Sprintf("%s[%d]", path, i), bad)
+		}
+	}
 }
 
 // parseRow reads one formatted output row back as CSV.
