@@ -11,6 +11,8 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/stretchr/testify/require"
+
 	"github.com/geored/geored/geodesic"
 	"github.com/geored/geored/io/jobconfig"
 	"github.com/geored/geored/io/obsfile"
@@ -98,38 +100,22 @@ func newFuzzFixtures(f *testing.F) []fuzzFixture {
 	var out []fuzzFixture
 	for _, au := range fuzzAngleUnits {
 		jf, err := jobconfig.Parse([]byte("angle_unit = \""+au+"\"\n"+fuzzJob), "job.toml")
-		if err != nil {
-			f.Fatal(err)
-		}
+		require.NoError(f, err)
 		j, err := jobconfig.Resolve(jf, "job.toml")
-		if err != nil {
-			f.Fatal(err)
-		}
+		require.NoError(f, err)
 		crs, err := geodesic.OpenCRS(j.CRS)
-		if err != nil {
-			f.Fatal(err)
-		}
+		require.NoError(f, err)
 		g, err := geodesic.NewGeodesic(crs.Ellipsoid())
-		if err != nil {
-			f.Fatal(err)
-		}
+		require.NoError(f, err)
 		p, err := crs.NewProjector()
-		if err != nil {
-			f.Fatal(err)
-		}
+		require.NoError(f, err)
 		f.Cleanup(p.Close)
 		pts, _, err := obsfile.ReadPoints(strings.NewReader(fuzzPoints), "points.csv", obsfile.PointOptions{GridUnit: units.Metre, HeightUnit: j.LengthUnit})
-		if err != nil {
-			f.Fatal(err)
-		}
+		require.NoError(f, err)
 		control, err := job.ResolveControl(pts, "points.csv", p, job.Separations{})
-		if err != nil {
-			f.Fatal(err)
-		}
+		require.NoError(f, err)
 		plan, err := job.NewPlan(j, crs, g, control)
-		if err != nil {
-			f.Fatal(err)
-		}
+		require.NoError(f, err)
 		out = append(out, fuzzFixture{plan: plan, proj: p, units: report.Units{Length: j.LengthUnit, Angle: j.AngleUnit}})
 	}
 	return out
