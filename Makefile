@@ -113,14 +113,18 @@ clean:
 # failure stops here, its input written under the package's
 # testdata/fuzz/FuzzX/: commit it as a seed with the fix. `make test`
 # replays the committed seeds of every target (plain go test does).
+# FUZZTMPDIR holds the temporary folders: FuzzReduceCommand writes and
+# syncs an output set per input, about 4 times faster on a tmpfs
+# (/dev/shm) than on this machine's disk.
 FUZZTIME ?= 30s
 FUZZMINIMIZETIME ?= 5s
+FUZZTMPDIR ?= $(if $(wildcard /dev/shm),/dev/shm)
 .PHONY: fuzz
 fuzz: deps
 	@set -e; for f in $$(grep -rl --include='*_test.go' '^func Fuzz' . | sort); do \
 		pkg=./$$(dirname $${f#./}); \
 		for t in $$(sed -n 's/^func \(Fuzz[A-Za-z0-9_]*\)(.*/\1/p' $$f); do \
 			echo "fuzz: $$pkg $$t for $(FUZZTIME)"; \
-			$(GO) test $$pkg -run '^$$' -fuzz "^$$t\$$" -fuzztime $(FUZZTIME) -fuzzminimizetime $(FUZZMINIMIZETIME); \
+			$(if $(FUZZTMPDIR),TMPDIR=$(FUZZTMPDIR)) $(GO) test $$pkg -run '^$$' -fuzz "^$$t\$$" -fuzztime $(FUZZTIME) -fuzzminimizetime $(FUZZMINIMIZETIME); \
 		done; \
 	done
