@@ -86,7 +86,11 @@ func openTable(r io.Reader, file string, known []string, lim Limits, format csvF
 	// encoding/csv holds at most that and a string per column of it.
 	header, err := cr.Read()
 	if errors.Is(err, io.EOF) {
-		return nil, nil, &HeaderError{File: file, Line: 1, Reason: "the file is empty: want a header row"}
+		reason := "the file is empty: want a header row"
+		if limiter.line > 1 || limiter.lineLen > 0 {
+			reason = "the file holds only comment lines (#) and blank lines: want a header row"
+		}
+		return nil, nil, &HeaderError{File: file, Line: 1, Reason: reason}
 	}
 	if err != nil {
 		return nil, nil, t.csvError(err)

@@ -49,6 +49,7 @@ func TestReadPointsGridInFeet(t *testing.T) {
 func TestReadPointsErrors(t *testing.T) {
 	for _, tc := range []struct{ name, in, want string }{
 		{"empty", "", "pts.csv:1: header: the file is empty"},
+		{"comments only", "# a\n\n# b", "pts.csv:1: header: the file holds only comment lines (#) and blank lines: want a header row"},
 		{"no id", "lat,lon\n1,2\n", "missing required column(s) id"},
 		{"no position", "id,elevation\nA,1\n", "want columns lat and lon, or easting and northing"},
 		{"dup column", "id,lat,lat\n", `column "lat" appears twice`},
