@@ -48,6 +48,8 @@ type nightlySummary struct {
 	Alerts     []history.Alert `json:"alerts"`
 	ExitStatus int             `json:"exit_status"`
 	Caution    string          `json:"caution"`
+
+	details []alertDetail // the night's alerts with what their plots need
 }
 
 func runNightly(args []string, stdout, stderr io.Writer) int {
@@ -225,6 +227,10 @@ Flags:
 			status = code
 		}
 		sum.Files = append(sum.Files, nf)
+	}
+	sum.details, err = driftAlerts(ctx, store, j, *jobName, *night, run.ID)
+	if err != nil {
+		return fail(stderr, "nightly", fmt.Errorf("drift alerts: %w", err))
 	}
 	if sum.Alerts, err = store.Alerts(ctx, *jobName); err != nil {
 		return fail(stderr, "nightly", err)

@@ -1,0 +1,296 @@
+package main
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"os"
+	"sort"
+	"time"
+
+	"github.com/geored/geored/io/history"
+	"github.com/geored/geored/io/jobconfig"
+	"github.com/geored/geored/io/obsfile"
+	"github.com/geored/geored/io/report"
+	"github.com/geored/geored/reduce/drift"
+)
+
+// Alert kinds.
+const (
+	alertConstant = "instrument-constant"
+	alertScale    = "instrument-scale"
+	alertMark     = "mark-moved"
+)
+
+// nightNumber is a night's number of days since 1970-01-01.
+func nightNumber(night string) (float64, error) {
+	t, err := time.Parse(time.DateOnly, night)
+	if err != nil {
+		return 0, fmt.Errorf("night %q in the history: want YYYY-MM-DD", night)
+	}
+	return float64(t.Unix() / 86400), nil
+}
+
+// nightFit is one night's fit of one instrument: the weighted mean of the
+// fits of the night's files with enough evidence (weights 1/σ²).
+type nightFit struct {
+	Night              string
+	X                  float64
+	ConstantMM, SigmaC float64
+	ScalePPM, SigmaS   float64
+}
+
+// instrumentNights are the nights up to night of each instrument's fits
+// with enough evidence, by instrument.
+func instrumentNights(fits []history.FitPoint, night string) (map[string][]nightFit, error) {
+	type acc struct{ wc, c, ws, s float64 }
+	by := map[string]map[string]*acc{}
+	for _, f := range fits {
+		if f.Night > night || f.Evidence != report.EvidenceEnough || !(f.ConstantSigmaMM > 0) || !(f.ScaleSigmaPPM > 0) {
+			continue
+		}
+		if by[f.Instrument] == nil {
+			by[f.Instrument] = map[string]*acc{}
+		}
+		a := by[f.Instrument][f.Night]
+		if a == nil {
+			a = &acc{}
+			by[f.Instrument][f.Night] = a
+		}
+		wc, ws := 1/(f.ConstantSigmaMM*f.ConstantSigmaMM), 1/(f.ScaleSigmaPPM*f.ScaleSigmaPPM)
+		a.wc += wc
+		a.c += wc * f.ConstantMM
+		a.ws += ws
+		a.s += ws * f.ScalePPM
+	}
+	out := map[string][]nightFit{}
+	for inst, nights := range by {
+		for n, a := range nights {
+			x, err := nightNumber(n)
+			if err != nil {
+				return nil, err
+			}
+			out[inst] = append(out[inst], nightFit{Night: n, X: x, ConstantMM: a.c / a.wc, SigmaC: 1 / math.Sqrt(a.wc),
+				ScalePPM: a.s / a.ws, SigmaS: 1 / math.Sqrt(a.ws)})
+		}
+		sort.Slice(out[inst], func(i, j int) bool { return out[inst][i].X < out[inst][j].X })
+	}
+	return out, nil
+}
+
+// specBounds are an instrument's EDM specification a (mm) and b (ppm) as
+// one standard deviation: the bounds its calibration may drift to.
+func specBounds(p jobconfig.Profile) (mm, ppm float64, err error) {
+	spec := p.Chain.Budget.Instrument
+	a, err := spec.Sigma(0)
+	if err != nil {
+		return 0, 0, err
+	}
+	f := 1.0
+	if spec.Constant > 0 {
+		f = a / spec.Constant
+	}
+	return a * 1e3, spec.PPM * f, nil
+}
+
+// An alertDetail is what the summary plots beside an alert.
+type alertDetail struct {
+	history.Alert
+	trend *drift.Trend
+	fits  []nightFit // an instrument's nights
+	shift *drift.Shift
+	lines map[string][]drift.Value // a mark's lines' residuals by night, by other end
+}
+
+// driftAlerts computes the night's alerts from the history: each
+// instrument's trend and each mark's displacement (package drift), and
+// records them. It returns them with what their plots need.
+func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job, night string, runID int64) ([]alertDetail, error) {
+	fits, err := store.InstrumentSeries(ctx, job, "")
+	if err != nil {
+		return nil, err
+	}
+	nights, err := instrumentNights(fits, night)
+	if err != nil {
+		return nil, err
+	}
+	var out []alertDetail
+	names := make([]string, 0, len(nights))
+	for n := range nights {
+		names = append(names, n)
+	}
+	sort.Strings(names)
+	for _, inst := range names {
+		ns := nights[inst]
+		if len(ns) == 0 || ns[len(ns)-1].Night != night {
+			continue // no fit tonight: nothing new to say
+		}
+		p, ok := j.Profiles[inst]
+		if !ok {
+			continue
+		}
+		bmm, bppm, err := specBounds(p)
+		if err != nil {
+			return nil, fmt.Errorf("instrument %s: %w", inst, err)
+		}
+		for _, k := range []struct {
+			kind, what, unit string
+			bound            float64
+			v                func(nightFit) float64
+		}{
+			{alertConstant, "additive constant", "mm", bmm, func(f nightFit) float64 { return f.ConstantMM }},
+			{alertScale, "scale", "ppm", bppm, func(f nightFit) float64 { return f.ScalePPM }},
+		} {
+			s := make([]drift.Value, len(ns))
+			for i, f := range ns {
+				s[i] = drift.Value{X: f.X, V: k.v(f)}
+			}
+			tr := drift.InstrumentTrend(s, k.bound, drift.TrendAlpha)
+			if !tr.Alert {
+				continue
+			}
+			msg := fmt.Sprintf("%s of %s drifting %s %s/night (%.0f %% interval %s to %s, Theil–Sen over %d nights); Mann–Kendall P = %.2g (α = %g); the trend line is at %s %s on %s, beyond the EDM specification's ±%.2f %s",
+				k.what, inst, signedFixed(tr.Line.Slope, 3), k.unit, 100*tr.Line.Confidence, signedFixed(tr.Line.Lower, 3), signedFixed(tr.Line.Upper, 3),
+				len(ns), tr.MannKendall.P, drift.TrendAlpha, signedFixed(tr.Last, 2), k.unit, night, k.bound, k.unit)
+			out = append(out, alertDetail{Alert: history.Alert{Night: night, Kind: k.kind, Subject: inst, Message: msg}, trend: &tr, fits: ns})
+		}
+	}
+	marks, err := markAlerts(ctx, store, j, job, night, nights)
+	if err != nil {
+		return nil, err
+	}
+	out = append(out, marks...)
+	for _, a := range out {
+		if err := store.AddAlert(ctx, job, runID, a.Alert); err != nil {
+			return nil, err
+		}
+	}
+	return out, nil
+}
+
+// markAlerts finds the marks that moved on night: the residuals of the
+// lines at each mark, less the night's fit of their instrument, against
+// their own baselines (drift.MarkShifts), in the directions of the lines
+// from the job's control.
+func markAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job, night string, fits map[string][]nightFit) ([]alertDetail, error) {
+	lines, err := store.AllLines(ctx, job)
+	if err != nil {
+		return nil, err
+	}
+	grid, err := controlGrid(j)
+	if err != nil {
+		return nil, err
+	}
+	fitOf := map[[2]string]nightFit{}
+	for inst, ns := range fits {
+		for _, f := range ns {
+			fitOf[[2]string{inst, f.Night}] = f
+		}
+	}
+	// Per mark, night and other end: the weighted mean of the night's
+	// residuals of that line (its instruments, its files).
+	type acc struct{ w, r float64 }
+	type key struct{ mark, night, other string }
+	sums := map[key]*acc{}
+	marks := map[string]bool{}
+	for _, l := range lines {
+		if l.Night > night || !(l.SigmaMM > 0) {
+			continue
+		}
+		r := l.ResidualMM
+		if f, ok := fitOf[[2]string{l.Instrument, l.Night}]; ok {
+			r -= f.ConstantMM + f.ScalePPM*l.Geodesic*1e-3
+		}
+		for _, e := range [][2]string{{l.From, l.To}, {l.To, l.From}} {
+			k := key{e[0], l.Night, e[1]}
+			a := sums[k]
+			if a == nil {
+				a = &acc{}
+				sums[k] = a
+			}
+			w := 1 / (l.SigmaMM * l.SigmaMM)
+			a.w += w
+			a.r += w * r
+			marks[e[0]] = true
+		}
+	}
+	byMark := map[string]map[string][]drift.MarkLine{}
+	for k, a := range sums {
+		m, o := grid[k.mark], grid[k.other]
+		if m == nil || o == nil {
+			continue
+		}
+		dE, dN := o[0]-m[0], o[1]-m[1]
+		d := math.Hypot(dE, dN)
+		if d == 0 {
+			continue
+		}
+		if byMark[k.mark] == nil {
+			byMark[k.mark] = map[string][]drift.MarkLine{}
+		}
+		byMark[k.mark][k.night] = append(byMark[k.mark][k.night], drift.MarkLine{Other: k.other, E: dE / d, N: dN / d,
+			ResidualMM: a.r / a.w, SigmaMM: 1 / math.Sqrt(a.w)})
+	}
+	var names []string
+	for m := range byMark {
+		names = append(names, m)
+	}
+	sort.Strings(names)
+	var out []alertDetail
+	for _, m := range names {
+		var ns []drift.MarkNight
+		for n, ls := range byMark[m] {
+			x, err := nightNumber(n)
+			if err != nil {
+				return nil, err
+			}
+			sort.Slice(ls, func(i, j int) bool { return ls[i].Other < ls[j].Other })
+			ns = append(ns, drift.MarkNight{X: x, Night: n, Lines: ls})
+		}
+		sort.Slice(ns, func(i, j int) bool { return ns[i].X < ns[j].X })
+		if len(ns) == 0 || ns[len(ns)-1].Night != night {
+			continue
+		}
+		for _, s := range drift.MarkShifts(ns, drift.MarkAlpha) {
+			if s.Night != night {
+				continue
+			}
+			msg := fmt.Sprintf("mark %s moved on %s: %.1f mm towards %.0f° grid (east %s ± %.1f mm, north %s ± %.1f mm), χ² = %.1f on 2 degrees of freedom, P = %.2g (α = %g), from %d lines against their baselines",
+				m, night, s.DistanceMM(), s.Bearing(), signedFixed(s.EastMM, 1), s.SigmaEastMM, signedFixed(s.NorthMM, 1), s.SigmaNorthMM, s.Chi2, s.P, drift.MarkAlpha, s.Lines)
+			per := map[string][]drift.Value{}
+			for _, n := range ns {
+				for _, l := range n.Lines {
+					per[l.Other] = append(per[l.Other], drift.Value{X: n.X, V: l.ResidualMM})
+				}
+			}
+			out = append(out, alertDetail{Alert: history.Alert{Night: night, Kind: alertMark, Subject: m, Message: msg}, shift: &s, lines: per})
+		}
+	}
+	return out, nil
+}
+
+// controlGrid is the job's control points' grid coordinates by id (in
+// the grid's unit: only directions are taken from them).
+func controlGrid(j *jobconfig.Job) (map[string]*[2]float64, error) {
+	s, err := openJobSession(j)
+	if err != nil {
+		return nil, err
+	}
+	defer s.close()
+	f, err := os.Open(j.Points)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	if _, err := s.loadPoints(f, j.Points, func(w obsfile.Warning) {}); err != nil {
+		return nil, err
+	}
+	out := make(map[string]*[2]float64, len(s.control))
+	for id, c := range s.control {
+		out[id] = &[2]float64{c.Grid.Easting, c.Grid.Northing}
+	}
+	return out, nil
+}
+
+// signedFixed is x with its sign and decimals.
+func signedFixed(x float64, decimals int) string { return fmt.Sprintf("%+.*f", decimals, x) }
