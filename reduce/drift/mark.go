@@ -13,8 +13,9 @@ const (
 	// baseline is the median of.
 	MinBaselineNights = 3
 	// MinMarkLines is the fewest lines with a baseline that a mark's
-	// displacement is fitted to.
-	MinMarkLines = 3
+	// displacement and common change are fitted to: one more than the
+	// three unknowns.
+	MinMarkLines = 4
 	// minCross is |sin| of the smallest angle between two lines that
 	// count as two directions (30°).
 	minCross = 0.5
@@ -45,8 +46,11 @@ type Shift struct {
 	// EastMM and NorthMM are the displacement, with their σ and the
 	// covariance between them.
 	EastMM, NorthMM, SigmaEastMM, SigmaNorthMM, CovMM2 float64
-	Chi2, P                                           float64
-	Lines                                             int
+	// CommonMM is the change common to every line at the mark, fitted
+	// beside u.
+	CommonMM float64
+	Chi2, P  float64
+	Lines    int
 }
 
 // DistanceMM is the displacement's length, mm.
@@ -72,19 +76,21 @@ func (s Shift) Bearing() float64 {
 // nights (the median of k normal values has an asymptotic variance π/2
 // times that of their mean; common practice). A mark moved by u (east,
 // north) lengthens the line to the other end whose direction from the
-// mark is d̂ by −u·d̂ to first order, and control does not move, so
+// mark is d̂ by −u·d̂ to first order, and control does not move; a
+// change of the instrument's constant, or what of it the night's fit of
+// the instrument left, changes every line at the mark alike by c. So
 //
-//	Δr_i = −d̂_i·u + e_i,   e_i ~ N(0, σ_i²).
+//	Δr_i = −d̂_i·u + c + e_i,   e_i ~ N(0, σ_i²).
 //
-// u is fitted by weighted least squares, N = Σ d̂_i d̂_iᵀ/σ_i²,
-// u = −N⁻¹ Σ d̂_i Δr_i/σ_i², Cov(u) = N⁻¹, and tested with
-// χ² = uᵀ N u against χ²(2), whose tail is exactly P = exp(−χ²/2)
-// (common practice). The mark moved when P < alpha with at least
-// MinMarkLines lines in two directions (two lines at least 30° apart,
-// either way round), and every subset of the lines less one, in two
-// directions still, gives P < alpha as well: one bad line alone (a line
-// flag, not a mark) does not move a mark. Once a mark has moved, its
-// baselines start again from that night.
+// u and c are fitted by weighted least squares (normal matrix
+// N = Σ a_i a_iᵀ/σ_i², a_i = (−d̂_E, −d̂_N, 1)), and u is tested with
+// χ² = uᵀ Q_uu⁻¹ u, Q_uu the 2×2 block of N⁻¹ (u's covariance), against
+// χ²(2), whose tail is exactly P = exp(−χ²/2) (common practice). The mark
+// moved when P < alpha with at least MinMarkLines lines in two directions
+// (two lines at least 30° apart, either way round), and every subset of
+// the lines less one, in two directions still, gives P < alpha as well:
+// one bad line alone (a line flag, not a mark) does not move a mark. Once
+// a mark has moved, its baselines start again from that night.
 func MarkShifts(nights []MarkNight, alpha float64) []Shift {
 	var out []Shift
 	start := 0 // first night of the baselines
@@ -134,11 +140,13 @@ func MarkShifts(nights []MarkNight, alpha float64) []Shift {
 	return out
 }
 
-// displacement fits u to the lines but drop (-1: none); ok is false
-// with fewer than MinMarkLines lines (2 when one is dropped) or not two
-// directions.
+// displacement fits u and c to the lines but drop (-1: none); ok is
+// false with fewer than MinMarkLines lines (MinMarkLines − 1 when one is
+// dropped) or not two directions.
 func displacement(dirs [][2]float64, change, sigma []float64, drop int) (Shift, bool) {
-	var n11, n12, n22, b1, b2 float64
+	// Normal equations of Δr_i = −d_E u_E − d_N u_N + c.
+	var n [3][3]float64
+	var b [3]float64
 	lines := 0
 	twoWays := false
 	for i, d := range dirs {
@@ -151,24 +159,62 @@ func displacement(dirs [][2]float64, change, sigma []float64, drop int) (Shift, 
 			}
 		}
 		w := 1 / (sigma[i] * sigma[i])
-		n11 += w * d[0] * d[0]
-		n12 += w * d[0] * d[1]
-		n22 += w * d[1] * d[1]
-		b1 -= w * d[0] * change[i]
-		b2 -= w * d[1] * change[i]
+		a := [3]float64{-d[0], -d[1], 1}
+		for r := range 3 {
+			for c := range 3 {
+				n[r][c] += w * a[r] * a[c]
+			}
+			b[r] += w * a[r] * change[i]
+		}
 		lines++
 	}
 	need := MinMarkLines
 	if drop >= 0 {
-		need = 2
+		need--
 	}
-	det := n11*n22 - n12*n12
-	if lines < need || !twoWays || det <= 0 {
+	if lines < need || !twoWays {
 		return Shift{}, false
 	}
-	c11, c12, c22 := n22/det, -n12/det, n11/det
-	ue, un := c11*b1+c12*b2, c12*b1+c22*b2
-	chi2 := ue*(n11*ue+n12*un) + un*(n12*ue+n22*un)
-	return Shift{EastMM: ue, NorthMM: un, SigmaEastMM: math.Sqrt(c11), SigmaNorthMM: math.Sqrt(c22), CovMM2: c12,
-		Chi2: chi2, P: math.Exp(-chi2 / 2), Lines: lines}, true
+	q, ok := inverse3(n)
+	if !ok {
+		return Shift{}, false
+	}
+	var x [3]float64
+	for r := range 3 {
+		for c := range 3 {
+			x[r] += q[r][c] * b[c]
+		}
+	}
+	// χ² of u with its own covariance, the 2×2 block of N⁻¹.
+	det := q[0][0]*q[1][1] - q[0][1]*q[0][1]
+	if !(det > 0) {
+		return Shift{}, false
+	}
+	ue, un := x[0], x[1]
+	chi2 := (ue*ue*q[1][1] - 2*ue*un*q[0][1] + un*un*q[0][0]) / det
+	return Shift{EastMM: ue, NorthMM: un, SigmaEastMM: math.Sqrt(q[0][0]), SigmaNorthMM: math.Sqrt(q[1][1]), CovMM2: q[0][1],
+		CommonMM: x[2], Chi2: chi2, P: math.Exp(-chi2 / 2), Lines: lines}, true
+}
+
+// inverse3 inverts a symmetric 3×3 matrix by its cofactors; ok is false
+// when it is (nearly) singular.
+func inverse3(m [3][3]float64) ([3][3]float64, bool) {
+	var q [3][3]float64
+	q[0][0] = m[1][1]*m[2][2] - m[1][2]*m[2][1]
+	q[0][1] = m[0][2]*m[2][1] - m[0][1]*m[2][2]
+	q[0][2] = m[0][1]*m[1][2] - m[0][2]*m[1][1]
+	q[1][1] = m[0][0]*m[2][2] - m[0][2]*m[2][0]
+	q[1][2] = m[0][2]*m[1][0] - m[0][0]*m[1][2]
+	q[2][2] = m[0][0]*m[1][1] - m[0][1]*m[1][0]
+	det := m[0][0]*q[0][0] + m[0][1]*q[0][1] + m[0][2]*q[0][2]
+	if !(det > 1e-12*m[0][0]*m[1][1]*m[2][2]) {
+		return q, false
+	}
+	q[1][0], q[2][0], q[2][1] = q[0][1], q[0][2], q[1][2]
+	for r := range 3 {
+		for c := range 3 {
+			q[r][c] /= det
+		}
+	}
+	return q, true
 }

@@ -43,8 +43,9 @@ func markNights(n, movedOn int, move [2]float64, bad string, badOn int, badMM fl
 
 // TestMarkShifts: a mark moved 15 mm to the north-east on night 20 is
 // found on night 20 alone (its baselines start again there), with its
-// displacement; a single line off by 15 mm is not a moved mark; two
-// lines, or lines all one way, are not enough to tell.
+// displacement; a single line off by 15 mm is not a moved mark, nor a
+// change common to every line; two lines, or lines all one way, are not
+// enough to tell.
 func TestMarkShifts(t *testing.T) {
 	all := []string{"P1", "P2", "P3", "P4"}
 	move := [2]float64{15 / math.Sqrt2, 15 / math.Sqrt2}
@@ -65,6 +66,15 @@ func TestMarkShifts(t *testing.T) {
 	defer delete(others, "P1b")
 	defer delete(others, "P1c")
 	require.Empty(t, MarkShifts(markNights(30, 20, move, "", 0, 0, []string{"P1", "P1b", "P1c"}), MarkAlpha), "one direction")
+	// Every line 3 mm longer from night 15 (an instrument's constant) is
+	// not a move: the common change takes it.
+	common := markNights(30, 0, move, "", 0, 0, all)
+	for i := 15; i < 30; i++ {
+		for k := range common[i].Lines {
+			common[i].Lines[k].ResidualMM += 3
+		}
+	}
+	require.Empty(t, MarkShifts(common, MarkAlpha), "a change common to every line")
 	// With no move nothing is found in 30 quiet nights.
 	require.Empty(t, MarkShifts(markNights(30, 0, move, "", 0, 0, all), MarkAlpha))
 }
