@@ -155,7 +155,7 @@ func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, jo
 			out = append(out, alertDetail{Alert: history.Alert{Night: night, Kind: k.kind, Subject: inst, Message: msg}, trend: &tr, fits: ns})
 		}
 	}
-	marks, err := markAlerts(ctx, store, j, job, night, nights)
+	marks, err := markAlerts(ctx, store, j, job, night)
 	if err != nil {
 		return nil, err
 	}
@@ -169,10 +169,13 @@ func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, jo
 }
 
 // markAlerts finds the marks that moved on night: the residuals of the
-// lines at each mark, less the night's fit of their instrument, against
-// their own baselines (drift.MarkShifts), in the directions of the lines
-// from the job's control.
-func markAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job, night string, fits map[string][]nightFit) ([]alertDetail, error) {
+// lines at each mark against their own baselines (drift.MarkShifts), in
+// the directions of the lines from the job's control. The residuals are
+// taken as they are, not less the night's fit of their instrument: a
+// moved mark's lines pull that fit, which would then move every other
+// line; a drifting constant is taken by the change common to a mark's
+// lines that drift.MarkShifts fits beside the displacement.
+func markAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job, night string) ([]alertDetail, error) {
 	lines, err := store.AllLines(ctx, job)
 	if err != nil {
 		return nil, err
@@ -180,12 +183,6 @@ func markAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job
 	grid, err := controlGrid(j)
 	if err != nil {
 		return nil, err
-	}
-	fitOf := map[[2]string]nightFit{}
-	for inst, ns := range fits {
-		for _, f := range ns {
-			fitOf[[2]string{inst, f.Night}] = f
-		}
 	}
 	// Per mark, night and other end: the weighted mean of the night's
 	// residuals of that line (its instruments, its files).
@@ -198,9 +195,6 @@ func markAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job
 			continue
 		}
 		r := l.ResidualMM
-		if f, ok := fitOf[[2]string{l.Instrument, l.Night}]; ok {
-			r -= f.ConstantMM + f.ScalePPM*l.Geodesic*1e-3
-		}
 		for _, e := range [][2]string{{l.From, l.To}, {l.To, l.From}} {
 			k := key{e[0], l.Night, e[1]}
 			a := sums[k]

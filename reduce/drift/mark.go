@@ -50,7 +50,10 @@ type Shift struct {
 	// beside u.
 	CommonMM float64
 	Chi2, P  float64
-	Lines    int
+	// Misfit is Σ v²/σ² of the lines about the fitted displacement, on
+	// Lines − 3 degrees of freedom.
+	Misfit float64
+	Lines  int
 }
 
 // DistanceMM is the displacement's length, mm.
@@ -74,7 +77,12 @@ func (s Shift) Bearing() float64 {
 // earlier nights since the mark last moved; its variance is the night's
 // σ² plus that of the median, π/(2k) times the mean σ² of its k baseline
 // nights (the median of k normal values has an asymptotic variance π/2
-// times that of their mean; common practice). A mark moved by u (east,
+// times that of their mean; common practice). Where the baselines scatter
+// more than their σ say, every σ is scaled by that factor: 1.4826 times
+// the median of |r − baseline|/σ over the baseline nights of all the
+// mark's lines (the normal consistency factor of the median absolute
+// deviation; common practice), so that a night's scatter, or errors the
+// σ leave out, do not pass for a move. A mark moved by u (east,
 // north) lengthens the line to the other end whose direction from the
 // mark is d̂ by −u·d̂ to first order, and control does not move; a
 // change of the instrument's constant, or what of it the night's fit of
@@ -89,14 +97,18 @@ func (s Shift) Bearing() float64 {
 // moved when P < alpha with at least MinMarkLines lines in two directions
 // (two lines at least 30° apart, either way round), and every subset of
 // the lines less one, in two directions still, gives P < alpha as well:
-// one bad line alone (a line flag, not a mark) does not move a mark. Once
+// one bad line alone (a line flag, not a mark) does not move a mark; and
+// the lines must fit the displacement: their misfit Σ v²/σ² about it
+// within the 1 − alpha quantile of χ²(n − 3) (Wilson–Hilferty's
+// approximation), or the changes are scatter or bad lines, not a mark
+// that moved as one. Once
 // a mark has moved, its baselines start again from that night.
 func MarkShifts(nights []MarkNight, alpha float64) []Shift {
 	var out []Shift
 	start := 0 // first night of the baselines
 	for i, nt := range nights {
 		var dirs [][2]float64
-		var change, sigma []float64
+		var change, sigma, scatter []float64
 		for _, l := range nt.Lines {
 			var base, vars []float64
 			for _, prev := range nights[start:i] {
@@ -116,12 +128,24 @@ func MarkShifts(nights []MarkNight, alpha float64) []Shift {
 			for _, v := range vars {
 				mean += v / k
 			}
+			med := median(base)
+			for j, b := range base {
+				scatter = append(scatter, math.Abs(b-med)/math.Sqrt(vars[j]))
+			}
 			dirs = append(dirs, [2]float64{l.E, l.N})
-			change = append(change, l.ResidualMM-median(base))
+			change = append(change, l.ResidualMM-med)
 			sigma = append(sigma, math.Sqrt(l.SigmaMM*l.SigmaMM+math.Pi/(2*k)*mean))
 		}
+		if len(scatter) > 0 {
+			slices.Sort(scatter)
+			if f := 1.4826 * median(scatter); f > 1 {
+				for j := range sigma {
+					sigma[j] *= f
+				}
+			}
+		}
 		s, ok := displacement(dirs, change, sigma, -1)
-		if !ok || s.P >= alpha {
+		if !ok || s.P >= alpha || s.Misfit > chi2Quantile(1-alpha, s.Lines-3) {
 			continue
 		}
 		moved := true
@@ -192,8 +216,16 @@ func displacement(dirs [][2]float64, change, sigma []float64, drop int) (Shift, 
 	}
 	ue, un := x[0], x[1]
 	chi2 := (ue*ue*q[1][1] - 2*ue*un*q[0][1] + un*un*q[0][0]) / det
+	misfit := 0.0
+	for i, d := range dirs {
+		if i == drop {
+			continue
+		}
+		v := change[i] - (-d[0]*ue - d[1]*un + x[2])
+		misfit += v * v / (sigma[i] * sigma[i])
+	}
 	return Shift{EastMM: ue, NorthMM: un, SigmaEastMM: math.Sqrt(q[0][0]), SigmaNorthMM: math.Sqrt(q[1][1]), CovMM2: q[0][1],
-		CommonMM: x[2], Chi2: chi2, P: math.Exp(-chi2 / 2), Lines: lines}, true
+		CommonMM: x[2], Chi2: chi2, P: math.Exp(-chi2 / 2), Misfit: misfit, Lines: lines}, true
 }
 
 // inverse3 inverts a symmetric 3×3 matrix by its cofactors; ok is false
@@ -217,4 +249,19 @@ func inverse3(m [3][3]float64) ([3][3]float64, bool) {
 		}
 	}
 	return q, true
+}
+
+// chi2Quantile is the p-quantile of χ²(k) by Wilson and Hilferty's cube
+// root approximation (Wilson, E. B. and Hilferty, M. M. (1931), The
+// distribution of chi-square, PNAS 17): k (1 − 2/(9k) + z_p √(2/(9k)))³,
+// z_p the standard normal p-quantile; at p = 0.999 it is 1.2 % low at
+// k = 5 and 0.6 % at k = 10 (against the χ² table). k ≤ 0 gives +Inf: nothing to test.
+func chi2Quantile(p float64, k int) float64 {
+	if k <= 0 {
+		return math.Inf(1)
+	}
+	z := math.Sqrt2 * math.Erfinv(2*p-1)
+	fk := float64(k)
+	c := 1 - 2/(9*fk) + z*math.Sqrt(2/(9*fk))
+	return fk * c * c * c
 }

@@ -78,3 +78,14 @@ func TestMarkShifts(t *testing.T) {
 	// With no move nothing is found in 30 quiet nights.
 	require.Empty(t, MarkShifts(markNights(30, 0, move, "", 0, 0, all), MarkAlpha))
 }
+
+// TestChi2Quantile: χ²(1) 0.999 = 10.828, χ²(5) 0.999 = 20.515,
+// χ²(10) 0.999 = 29.588 (the χ² table, e.g. NIST/SEMATECH e-Handbook
+// of Statistical Methods §1.3.6.7.4 [memory]), to 6 % at k = 1, 1.5 % at
+// k = 5 and 1 % at k = 10.
+func TestChi2Quantile(t *testing.T) {
+	require.InEpsilon(t, 10.828, chi2Quantile(0.999, 1), 0.06)
+	require.InEpsilon(t, 20.515, chi2Quantile(0.999, 5), 0.015)
+	require.InEpsilon(t, 29.588, chi2Quantile(0.999, 10), 0.01)
+	require.True(t, math.IsInf(chi2Quantile(0.999, 0), 1))
+}
