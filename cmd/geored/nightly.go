@@ -7,6 +7,7 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"log/slog"
 	"math"
 	"os"
 	"path/filepath"
@@ -131,6 +132,7 @@ Flags:
 	} else if _, err := time.Parse(time.DateOnly, *night); err != nil {
 		return fail(stderr, "nightly", fmt.Errorf("-night %q: want YYYY-MM-DD", *night))
 	}
+	log := nightlyLogger(stderr, *quiet)
 	ctx, stop := stopOnSignals()
 	defer stop()
 	hook := testHook(ctx, stderr)
@@ -199,6 +201,7 @@ Flags:
 			}
 			nf.Path = p
 			sum.Files = append(sum.Files, nf)
+			logFile(log, nf)
 			continue
 		}
 		code, err := nightlyOne(ctx, store, run, j, e, &nf, *results, hook)
@@ -208,6 +211,7 @@ Flags:
 		if err != nil {
 			nf.Outcome, nf.Reason = "left", err.Error()
 			sum.Files = append(sum.Files, nf)
+			logFile(log, nf)
 			fmt.Fprintf(stderr, "geored nightly: %s: %v; it stays in the inbox\n", e.Path, err)
 			status = exitFailed
 			break
@@ -223,6 +227,7 @@ Flags:
 		}
 		nf.Path = p
 		hook("moved:" + e.Name)
+		logFile(log, nf)
 		if code > status {
 			status = code
 		}
@@ -238,6 +243,9 @@ Flags:
 	sum.Alerts = nightAlerts(sum.Alerts, *night)
 	if len(sum.Alerts) > 0 && status == exitOK {
 		status = exitFlagged
+	}
+	for _, a := range sum.Alerts {
+		log.Warn("alert", "night", a.Night, "kind", a.Kind, "subject", a.Subject, "message", a.Message)
 	}
 	sum.ExitStatus = status
 	if err := writeNightlySummary(ctx, filepath.Join(*results, *night, fmt.Sprintf("run-%s-%d", start.Format("150405"), os.Getpid())), sum, hook); err != nil {
@@ -459,4 +467,28 @@ func writeNightlySummary(ctx context.Context, dir string, s *nightlySummary, hoo
 		return err
 	}
 	return set.Commit(outset.Identity{Tool: "geored", Command: "nightly"})
+}
+
+// nightlyLogger is the run's structured log on stderr: JSON records when
+// stderr is not a terminal (a scheduler's journal), text otherwise;
+// -quiet keeps warnings and errors only.
+func nightlyLogger(stderr io.Writer, quiet bool) *slog.Logger {
+	opt := &slog.HandlerOptions{Level: slog.LevelInfo}
+	if quiet {
+		opt.Level = slog.LevelWarn
+	}
+	if isTerminal(stderr) {
+		return slog.New(slog.NewTextHandler(stderr, opt))
+	}
+	return slog.New(slog.NewJSONHandler(stderr, opt))
+}
+
+// logFile logs one inbox file's outcome: a warning when it was rejected
+// or left in the inbox.
+func logFile(log *slog.Logger, f nightlyFile) {
+	level := slog.LevelInfo
+	if f.Outcome == history.StatusRejected || f.Outcome == "left" {
+		level = slog.LevelWarn
+	}
+	log.Log(context.Background(), level, "file", "path", f.Path, "name", f.Name, "sha256", f.SHA256, "outcome", f.Outcome, "reason", f.Reason)
 }

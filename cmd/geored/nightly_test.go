@@ -200,3 +200,28 @@ func TestNightlyTwoServersOnePostgres(t *testing.T) {
 	require.Equal(t, exitFailed, cmd.ProcessState.ExitCode())
 	require.Contains(t, string(out), "in use by another run")
 }
+
+// TestNightlyLog: off a terminal the run logs one JSON record per file,
+// with its path, hash, outcome and reason.
+func TestNightlyLog(t *testing.T) {
+	dir := nightlyFolder(t, "bridge")
+	deliver(t, dir, "mon.csv", "mon")
+	require.NoError(t, os.WriteFile(filepath.Join(dir, "inbox", "broken.csv"), []byte("not,a,file\n1,2,3\n"), 0o644))
+	_, s, stderr := nightlyJSON(t, "-config", filepath.Join(dir, "job.toml"), "-night", "2026-12-01")
+	recs := map[string]map[string]any{}
+	for _, line := range bytes.Split([]byte(stderr), []byte("\n")) {
+		var r map[string]any
+		if json.Unmarshal(line, &r) == nil && r["msg"] == "file" {
+			recs[r["name"].(string)] = r
+		}
+	}
+	require.Len(t, recs, len(s.Files), stderr)
+	for _, f := range s.Files {
+		r := recs[f.Name]
+		require.Equal(t, f.SHA256, r["sha256"])
+		require.Equal(t, f.Outcome, r["outcome"])
+		require.Equal(t, f.Path, r["path"])
+	}
+	require.Equal(t, "WARN", recs["broken.csv"]["level"])
+	require.Contains(t, recs["broken.csv"]["reason"], "missing required column")
+}
