@@ -49,8 +49,6 @@ type nightlySummary struct {
 	Alerts     []history.Alert `json:"alerts"`
 	ExitStatus int             `json:"exit_status"`
 	Caution    string          `json:"caution"`
-
-	details []alertDetail // the night's alerts with what their plots need
 }
 
 func runNightly(args []string, stdout, stderr io.Writer) int {
@@ -86,9 +84,25 @@ The job folder is locked for the run: by a lock file beside it with SQLite,
 in the database (an advisory lock keyed by host and folder) with
 PostgreSQL; a lock left by a dead run is taken over with a note.
 
+Drift alerts, after each night, from the history (once per night, kind
+and subject; in the summary, the log and the exit status):
+  instrument-constant, instrument-scale: over at least 6 nights with a
+     fit of enough evidence, the Mann–Kendall test finds a trend at
+     α = 0.01 and the Theil–Sen line is beyond the instrument's EDM
+     specification (spec_mm, spec_ppm as 1σ) on the night; the slope per
+     night is given with Sen's 99 % interval
+  mark-moved: the residuals of at least 4 lines at the mark, in two
+     directions, each against the median of its own earlier nights (3 at
+     least, since the mark last moved), fit one 2-D displacement beside a
+     change common to them (least squares, σ from the lines, scaled up by
+     the baselines' own scatter) and it passes χ²(2) at α = 0.001, with
+     any one line left out as well; one bad line alone is a line flag
+`+"`"+`geored history`+"`"+` prints the series.
+
 Exit status:
   0  every new file reduced clean, or nothing new
-  1  a file rejected, or a reduced file needs a look (its reduce status 1)
+  1  a file rejected, a reduced file needs a look (its reduce status 1),
+     or an alert on the night
   2  could not run (bad flags or settings, the history unreachable, the
      job folder in use, a full disk): the files not done stay in the inbox
   130, 143  stopped by SIGINT or SIGTERM: the file being reduced stays in
@@ -233,7 +247,7 @@ Flags:
 		}
 		sum.Files = append(sum.Files, nf)
 	}
-	sum.details, err = driftAlerts(ctx, store, j, *jobName, *night, run.ID)
+	_, err = driftAlerts(ctx, store, j, *jobName, *night, run.ID)
 	if err != nil {
 		return fail(stderr, "nightly", fmt.Errorf("drift alerts: %w", err))
 	}

@@ -93,19 +93,10 @@ func specBounds(p jobconfig.Profile) (mm, ppm float64, err error) {
 	return a * 1e3, spec.PPM * f, nil
 }
 
-// An alertDetail is what the summary plots beside an alert.
-type alertDetail struct {
-	history.Alert
-	trend *drift.Trend
-	fits  []nightFit // an instrument's nights
-	shift *drift.Shift
-	lines map[string][]drift.Value // a mark's lines' residuals by night, by other end
-}
-
 // driftAlerts computes the night's alerts from the history: each
 // instrument's trend and each mark's displacement (package drift), and
-// records them. It returns them with what their plots need.
-func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job, night string, runID int64) ([]alertDetail, error) {
+// records them.
+func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job, night string, runID int64) ([]history.Alert, error) {
 	fits, err := store.InstrumentSeries(ctx, job, "")
 	if err != nil {
 		return nil, err
@@ -114,7 +105,7 @@ func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, jo
 	if err != nil {
 		return nil, err
 	}
-	var out []alertDetail
+	var out []history.Alert
 	names := make([]string, 0, len(nights))
 	for n := range nights {
 		names = append(names, n)
@@ -152,7 +143,7 @@ func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, jo
 			msg := fmt.Sprintf("%s of %s drifting %s %s/night (%.0f %% interval %s to %s, Theil–Sen over %d nights); Mann–Kendall P = %.2g (α = %g); the trend line is at %s %s on %s, beyond the EDM specification's ±%.2f %s",
 				k.what, inst, signedFixed(tr.Line.Slope, 3), k.unit, 100*tr.Line.Confidence, signedFixed(tr.Line.Lower, 3), signedFixed(tr.Line.Upper, 3),
 				len(ns), tr.MannKendall.P, drift.TrendAlpha, signedFixed(tr.Last, 2), k.unit, night, k.bound, k.unit)
-			out = append(out, alertDetail{Alert: history.Alert{Night: night, Kind: k.kind, Subject: inst, Message: msg}, trend: &tr, fits: ns})
+			out = append(out, history.Alert{Night: night, Kind: k.kind, Subject: inst, Message: msg})
 		}
 	}
 	marks, err := markAlerts(ctx, store, j, job, night)
@@ -161,7 +152,7 @@ func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, jo
 	}
 	out = append(out, marks...)
 	for _, a := range out {
-		if err := store.AddAlert(ctx, job, runID, a.Alert); err != nil {
+		if err := store.AddAlert(ctx, job, runID, a); err != nil {
 			return nil, err
 		}
 	}
@@ -175,7 +166,7 @@ func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, jo
 // moved mark's lines pull that fit, which would then move every other
 // line; a drifting constant is taken by the change common to a mark's
 // lines that drift.MarkShifts fits beside the displacement.
-func markAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job, night string) ([]alertDetail, error) {
+func markAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job, night string) ([]history.Alert, error) {
 	lines, err := store.AllLines(ctx, job)
 	if err != nil {
 		return nil, err
@@ -230,7 +221,7 @@ func markAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job
 		names = append(names, m)
 	}
 	sort.Strings(names)
-	var out []alertDetail
+	var out []history.Alert
 	for _, m := range names {
 		var ns []drift.MarkNight
 		for n, ls := range byMark[m] {
@@ -251,13 +242,7 @@ func markAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job
 			}
 			msg := fmt.Sprintf("mark %s moved on %s: %.1f mm towards %.0f° grid (east %s ± %.1f mm, north %s ± %.1f mm), χ² = %.1f on 2 degrees of freedom, P = %.2g (α = %g), from %d lines against their baselines",
 				m, night, s.DistanceMM(), s.Bearing(), signedFixed(s.EastMM, 1), s.SigmaEastMM, signedFixed(s.NorthMM, 1), s.SigmaNorthMM, s.Chi2, s.P, drift.MarkAlpha, s.Lines)
-			per := map[string][]drift.Value{}
-			for _, n := range ns {
-				for _, l := range n.Lines {
-					per[l.Other] = append(per[l.Other], drift.Value{X: n.X, V: l.ResidualMM})
-				}
-			}
-			out = append(out, alertDetail{Alert: history.Alert{Night: night, Kind: alertMark, Subject: m, Message: msg}, shift: &s, lines: per})
+			out = append(out, history.Alert{Night: night, Kind: alertMark, Subject: m, Message: msg})
 		}
 	}
 	return out, nil
