@@ -49,6 +49,8 @@ type nightlySummary struct {
 	Alerts     []history.Alert `json:"alerts"`
 	ExitStatus int             `json:"exit_status"`
 	Caution    string          `json:"caution"`
+
+	Plots []nightPlot `json:"-"` // summary.html's, beside the night's alerts
 }
 
 func runNightly(args []string, stdout, stderr io.Writer) int {
@@ -247,7 +249,7 @@ Flags:
 		}
 		sum.Files = append(sum.Files, nf)
 	}
-	_, err = driftAlerts(ctx, store, j, *jobName, *night, run.ID)
+	_, sum.Plots, err = driftAlerts(ctx, store, j, *jobName, *night, run.ID)
 	if err != nil {
 		return fail(stderr, "nightly", fmt.Errorf("drift alerts: %w", err))
 	}

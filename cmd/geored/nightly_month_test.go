@@ -193,6 +193,7 @@ type monthResult struct {
 	outcomes map[string]string
 	reasons  map[string]string
 	counts   history.Counts
+	html     []string // summary.html of the night the mark moved, and of the last night
 }
 
 // runMonth delivers the month night by night into a job folder and runs
@@ -241,6 +242,13 @@ func runMonth(t *testing.T, files map[int]map[string][]byte, where string) month
 		}
 		left, _ := os.ReadDir(filepath.Join(dir, "inbox"))
 		require.Empty(t, left, "night %d", night)
+		if night == monthMovedOn || night == monthNights {
+			runs, _ := filepath.Glob(filepath.Join(dir, "results", monthNight(night), "run-*", "summary.html"))
+			require.NotEmpty(t, runs)
+			b, err := os.ReadFile(runs[len(runs)-1])
+			require.NoError(t, err)
+			res.html = append(res.html, string(b))
+		}
 	}
 	st, err := history.Open(context.Background(), where)
 	require.NoError(t, err)
@@ -289,6 +297,13 @@ func TestNightlyMonth(t *testing.T) {
 		require.ElementsMatch(t, []string{"duplicate", "reduced"}, []string{r.outcomes["resent-south.csv"], r.outcomes["south-14.csv"]}, "processed once")
 		require.Equal(t, "rejected", r.outcomes["garbled.csv"])
 		require.Contains(t, r.reasons["garbled.csv"], "missing required column")
+		// The plots beside the alerts: the moved mark's lines, and the
+		// drifting constant with its Theil–Sen line.
+		require.Contains(t, r.html[0], "<figcaption>the residuals of the lines at HS-05, night by night</figcaption>")
+		require.Contains(t, r.html[0], "<svg viewBox=")
+		require.Contains(t, r.html[1], "<figcaption>additive constant of ts-north, night by night, and its trend</figcaption>")
+		require.Contains(t, r.html[1], "Theil–Sen: -0.1")
+		require.NotContains(t, r.html[1], "lines at HS-05", "the mark moved on night 20 only")
 		require.Equal(t, history.Counts{Files: 2*monthNights + 1, Observations: monthNights * perNight,
 			Lines: monthNights * perNight / 2, Fits: 2 * monthNights}, r.counts)
 	}

@@ -3,6 +3,7 @@ package main
 import (
 	"context"
 	"fmt"
+	"html/template"
 	"math"
 	"os"
 	"sort"
@@ -93,19 +94,27 @@ func specBounds(p jobconfig.Profile) (mm, ppm float64, err error) {
 	return a * 1e3, spec.PPM * f, nil
 }
 
+// A nightPlot is a plot of the summary beside an alert: the series that
+// raised it.
+type nightPlot struct {
+	Title string
+	SVG   template.HTML
+}
+
 // driftAlerts computes the night's alerts from the history: each
 // instrument's trend and each mark's displacement (package drift), and
-// records them.
-func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job, night string, runID int64) ([]history.Alert, error) {
+// records them. It returns them with their plots.
+func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job, night string, runID int64) ([]history.Alert, []nightPlot, error) {
 	fits, err := store.InstrumentSeries(ctx, job, "")
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	nights, err := instrumentNights(fits, night)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	var out []history.Alert
+	var plots []nightPlot
 	names := make([]string, 0, len(nights))
 	for n := range nights {
 		names = append(names, n)
@@ -122,15 +131,15 @@ func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, jo
 		}
 		bmm, bppm, err := specBounds(p)
 		if err != nil {
-			return nil, fmt.Errorf("instrument %s: %w", inst, err)
+			return nil, nil, fmt.Errorf("instrument %s: %w", inst, err)
 		}
 		for _, k := range []struct {
 			kind, what, unit string
 			bound            float64
-			v                func(nightFit) float64
+			v, sigma         func(nightFit) float64
 		}{
-			{alertConstant, "additive constant", "mm", bmm, func(f nightFit) float64 { return f.ConstantMM }},
-			{alertScale, "scale", "ppm", bppm, func(f nightFit) float64 { return f.ScalePPM }},
+			{alertConstant, "additive constant", "mm", bmm, func(f nightFit) float64 { return f.ConstantMM }, func(f nightFit) float64 { return f.SigmaC }},
+			{alertScale, "scale", "ppm", bppm, func(f nightFit) float64 { return f.ScalePPM }, func(f nightFit) float64 { return f.SigmaS }},
 		} {
 			s := make([]drift.Value, len(ns))
 			for i, f := range ns {
@@ -144,19 +153,32 @@ func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, jo
 				k.what, inst, signedFixed(tr.Line.Slope, 3), k.unit, 100*tr.Line.Confidence, signedFixed(tr.Line.Lower, 3), signedFixed(tr.Line.Upper, 3),
 				len(ns), tr.MannKendall.P, drift.TrendAlpha, signedFixed(tr.Last, 2), k.unit, night, k.bound, k.unit)
 			out = append(out, history.Alert{Night: night, Kind: k.kind, Subject: inst, Message: msg})
+			fit := report.NightSeries{Name: "the night's fit, ±σ"}
+			for _, f := range ns {
+				fit.X, fit.Y, fit.Err = append(fit.X, f.X), append(fit.Y, k.v(f)), append(fit.Err, k.sigma(f))
+			}
+			x0, x1 := ns[0].X, ns[len(ns)-1].X
+			line := report.NightSeries{Name: fmt.Sprintf("Theil–Sen: %s %s/night", signedFixed(tr.Line.Slope, 3), k.unit),
+				X: []float64{x0, x1}, Y: []float64{tr.Line.At(x0), tr.Line.At(x1)}, Trend: true}
+			svg, err := report.NightPlot(fmt.Sprintf("%s of %s", k.what, inst), fmt.Sprintf("%s (%s)", k.what, k.unit), []report.NightSeries{fit, line})
+			if err != nil {
+				return nil, nil, err
+			}
+			plots = append(plots, nightPlot{Title: fmt.Sprintf("%s of %s, night by night, and its trend", k.what, inst), SVG: svg})
 		}
 	}
-	marks, err := markAlerts(ctx, store, j, job, night)
+	marks, markPlots, err := markAlerts(ctx, store, j, job, night)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	out = append(out, marks...)
+	plots = append(plots, markPlots...)
 	for _, a := range out {
 		if err := store.AddAlert(ctx, job, runID, a); err != nil {
-			return nil, err
+			return nil, nil, err
 		}
 	}
-	return out, nil
+	return out, plots, nil
 }
 
 // markAlerts finds the marks that moved on night: the residuals of the
@@ -166,14 +188,14 @@ func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, jo
 // moved mark's lines pull that fit, which would then move every other
 // line; a drifting constant is taken by the change common to a mark's
 // lines that drift.MarkShifts fits beside the displacement.
-func markAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job, night string) ([]history.Alert, error) {
+func markAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job, night string) ([]history.Alert, []nightPlot, error) {
 	lines, err := store.AllLines(ctx, job)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	grid, err := controlGrid(j)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	// Per mark, night and other end: the weighted mean of the night's
 	// residuals of that line (its instruments, its files).
@@ -222,12 +244,13 @@ func markAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job
 	}
 	sort.Strings(names)
 	var out []history.Alert
+	var plots []nightPlot
 	for _, m := range names {
 		var ns []drift.MarkNight
 		for n, ls := range byMark[m] {
 			x, err := nightNumber(n)
 			if err != nil {
-				return nil, err
+				return nil, nil, err
 			}
 			sort.Slice(ls, func(i, j int) bool { return ls[i].Other < ls[j].Other })
 			ns = append(ns, drift.MarkNight{X: x, Night: n, Lines: ls})
@@ -243,9 +266,35 @@ func markAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job
 			msg := fmt.Sprintf("mark %s moved on %s: %.1f mm towards %.0f° grid (east %s ± %.1f mm, north %s ± %.1f mm), χ² = %.1f on 2 degrees of freedom, P = %.2g (α = %g), from %d lines against their baselines",
 				m, night, s.DistanceMM(), s.Bearing(), signedFixed(s.EastMM, 1), s.SigmaEastMM, signedFixed(s.NorthMM, 1), s.SigmaNorthMM, s.Chi2, s.P, drift.MarkAlpha, s.Lines)
 			out = append(out, history.Alert{Night: night, Kind: alertMark, Subject: m, Message: msg})
+			svg, err := report.NightPlot("lines at "+m, "residual of the night's mean (mm)", markSeries(ns))
+			if err != nil {
+				return nil, nil, err
+			}
+			plots = append(plots, nightPlot{Title: "the residuals of the lines at " + m + ", night by night", SVG: svg})
 		}
 	}
-	return out, nil
+	return out, plots, nil
+}
+
+// markSeries are a mark's lines' residuals over its nights, one series
+// per line, ±σ.
+func markSeries(ns []drift.MarkNight) []report.NightSeries {
+	idx := map[string]int{}
+	var out []report.NightSeries
+	for _, n := range ns {
+		for _, l := range n.Lines {
+			i, ok := idx[l.Other]
+			if !ok {
+				i = len(out)
+				idx[l.Other] = i
+				out = append(out, report.NightSeries{Name: "to " + l.Other})
+			}
+			s := &out[i]
+			s.X, s.Y, s.Err = append(s.X, n.X), append(s.Y, l.ResidualMM), append(s.Err, l.SigmaMM)
+		}
+	}
+	sort.Slice(out, func(i, j int) bool { return out[i].Name < out[j].Name })
+	return out
 }
 
 // controlGrid is the job's control points' grid coordinates by id (in

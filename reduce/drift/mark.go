@@ -105,32 +105,29 @@ func (s Shift) Bearing() float64 {
 // a mark has moved, its baselines start again from that night.
 func MarkShifts(nights []MarkNight, alpha float64) []Shift {
 	var out []Shift
-	start := 0 // first night of the baselines
-	for i, nt := range nights {
+	// seen holds each line's residuals and variances on the nights since
+	// the mark last moved, by its other end.
+	type past struct{ r, v []float64 }
+	seen := map[string]*past{}
+	var base []float64
+	for _, nt := range nights {
 		var dirs [][2]float64
 		var change, sigma, scatter []float64
 		for _, l := range nt.Lines {
-			var base, vars []float64
-			for _, prev := range nights[start:i] {
-				for _, p := range prev.Lines {
-					if p.Other == l.Other {
-						base = append(base, p.ResidualMM)
-						vars = append(vars, p.SigmaMM*p.SigmaMM)
-					}
-				}
-			}
-			if len(base) < MinBaselineNights {
+			p := seen[l.Other]
+			if p == nil || len(p.r) < MinBaselineNights {
 				continue
 			}
+			base = append(base[:0], p.r...)
 			slices.Sort(base)
 			k := float64(len(base))
 			mean := 0.0
-			for _, v := range vars {
+			for _, v := range p.v {
 				mean += v / k
 			}
 			med := median(base)
-			for j, b := range base {
-				scatter = append(scatter, math.Abs(b-med)/math.Sqrt(vars[j]))
+			for j, r := range p.r {
+				scatter = append(scatter, math.Abs(r-med)/math.Sqrt(p.v[j]))
 			}
 			dirs = append(dirs, [2]float64{l.E, l.N})
 			change = append(change, l.ResidualMM-med)
@@ -144,21 +141,29 @@ func MarkShifts(nights []MarkNight, alpha float64) []Shift {
 				}
 			}
 		}
-		s, ok := displacement(dirs, change, sigma, -1)
-		if !ok || s.P >= alpha || s.Misfit > chi2Quantile(1-alpha, s.Lines-3) {
-			continue
-		}
-		moved := true
+		s, moved := displacement(dirs, change, sigma, -1)
+		moved = moved && s.P < alpha && s.Misfit <= chi2Quantile(1-alpha, s.Lines-3)
 		for drop := range dirs {
+			if !moved {
+				break
+			}
 			if t, ok := displacement(dirs, change, sigma, drop); ok && t.P >= alpha {
 				moved = false
-				break
 			}
 		}
 		if moved {
 			s.Night = nt.Night
 			out = append(out, s)
-			start = i
+			clear(seen)
+		}
+		for _, l := range nt.Lines {
+			p := seen[l.Other]
+			if p == nil {
+				p = &past{}
+				seen[l.Other] = p
+			}
+			p.r = append(p.r, l.ResidualMM)
+			p.v = append(p.v, l.SigmaMM*l.SigmaMM)
 		}
 	}
 	return out
