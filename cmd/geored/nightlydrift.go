@@ -181,7 +181,12 @@ func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, jo
 	return out, plots, nil
 }
 
-// markAlerts finds the marks that moved on night: the residuals of the
+// markWindowNights is how far back a mark's lines are read: its
+// baselines are the median of at most these nights.
+const markWindowNights = 60
+
+// markAlerts finds the marks that moved on night, over the nights of the
+// last markWindowNights: the residuals of the
 // lines at each mark against their own baselines (drift.MarkShifts), in
 // the directions of the lines from the job's control. The residuals are
 // taken as they are, not less the night's fit of their instrument: a
@@ -189,7 +194,12 @@ func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, jo
 // line; a drifting constant is taken by the change common to a mark's
 // lines that drift.MarkShifts fits beside the displacement.
 func markAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job, night string) ([]history.Alert, []nightPlot, error) {
-	lines, err := store.AllLines(ctx, job)
+	t, err := time.Parse(time.DateOnly, night)
+	if err != nil {
+		return nil, nil, err
+	}
+	since := t.AddDate(0, 0, -markWindowNights).Format(time.DateOnly)
+	lines, err := store.LinesBetween(ctx, job, since, night)
 	if err != nil {
 		return nil, nil, err
 	}
@@ -204,7 +214,7 @@ func markAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job
 	sums := map[key]*acc{}
 	marks := map[string]bool{}
 	for _, l := range lines {
-		if l.Night > night || !(l.SigmaMM > 0) {
+		if !(l.SigmaMM > 0) {
 			continue
 		}
 		r := l.ResidualMM

@@ -236,3 +236,21 @@ func TestRedact(t *testing.T) {
 	require.Equal(t, "postgres://geored:xxxxx@db:5432/h", redact("postgres://geored:secret@db:5432/h"))
 	require.Equal(t, "host=db password=xxxxx dbname=h", redact("host=db password=secret dbname=h"))
 }
+
+// TestLinesBetween: the lines of the nights asked for, both ends
+// included, and no others.
+func TestLinesBetween(t *testing.T) {
+	ctx := context.Background()
+	s := open(t, filepath.Join(t.TempDir(), "history.db"))
+	for _, night := range []string{"2026-11-29", "2026-11-30", "2026-12-01", "2026-12-02"} {
+		r := begin(t, s, "bridge", night)
+		f := File{Job: "bridge", SHA256: night, Name: night + ".csv", Night: night, RunID: r.ID, Status: StatusReduced}
+		_, err := s.Record(ctx, &f, nil, []Line{{Instrument: "ts-1", From: "A", To: "B", N: 1, Geodesic: 500, SigmaMM: 1}}, nil)
+		require.NoError(t, err)
+	}
+	got, err := s.LinesBetween(ctx, "bridge", "2026-11-30", "2026-12-01")
+	require.NoError(t, err)
+	require.Len(t, got, 2)
+	require.Equal(t, "2026-11-30", got[0].Night)
+	require.Equal(t, "2026-12-01", got[1].Night)
+}
