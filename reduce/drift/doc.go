@@ -4,13 +4,13 @@
 // from the history store and hands them over as plain values; nothing
 // here reads a file or a database.
 //
-// Instruments (Instrument): the night's fitted additive constant (mm) and
+// Instruments (InstrumentTrend): the night's fitted additive constant (mm) and
 // scale (ppm) of the fit of reduce, night after night; their trend is
 // Theil–Sen's robust slope (Theil 1950, Sen 1968) and the Mann–Kendall
 // test (Mann 1945, Kendall 1975) says whether it is a trend at all.
 //
-// Marks (Mark): the residuals of the lines that meet at a mark, each
+// Marks (MarkShifts): the residuals of the lines that meet at a mark, each
 // against its own baseline (the median of the earlier nights), with a 2-D
-// displacement of the mark fitted to their changes by least squares and
-// tested with χ²(2).
+// displacement of the mark and a change common to the lines fitted to
+// their changes by least squares, and the displacement tested with χ²(2).
 package drift

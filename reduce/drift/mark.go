@@ -23,8 +23,7 @@ const (
 
 // A MarkLine is one night's residual of one line at a mark: the other
 // end's name, the unit direction from the mark to it (east, north) and
-// the residual and its σ, mm (observed − control, after the night's
-// instrument calibration is taken off).
+// the residual and its σ, mm (observed − control).
 type MarkLine struct {
 	Other      string
 	E, N       float64
@@ -85,8 +84,8 @@ func (s Shift) Bearing() float64 {
 // σ leave out, do not pass for a move. A mark moved by u (east,
 // north) lengthens the line to the other end whose direction from the
 // mark is d̂ by −u·d̂ to first order, and control does not move; a
-// change of the instrument's constant, or what of it the night's fit of
-// the instrument left, changes every line at the mark alike by c. So
+// change of the instruments' additive constant changes every line at the
+// mark alike, by c. So
 //
 //	Δr_i = −d̂_i·u + c + e_i,   e_i ~ N(0, σ_i²).
 //
