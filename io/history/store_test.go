@@ -62,6 +62,17 @@ func TestMigrations(t *testing.T) {
 		var rows int
 		require.NoError(t, s2.db.QueryRow("SELECT COUNT(*) FROM schema_version").Scan(&rows))
 		require.Equal(t, len(migrations), rows, "one row per version")
+		// Migration 2 drops the row tables' foreign keys on PostgreSQL
+		// alone.
+		var fks int
+		if s2.Dialect() == "postgres" {
+			require.NoError(t, s2.db.QueryRow(`SELECT COUNT(*) FROM information_schema.table_constraints
+				WHERE constraint_type = 'FOREIGN KEY' AND table_name IN ('observations', 'lines')`).Scan(&fks))
+			require.Zero(t, fks)
+		} else {
+			require.NoError(t, s2.db.QueryRow(`SELECT COUNT(*) FROM pragma_foreign_key_list('observations')`).Scan(&fks))
+			require.Equal(t, 1, fks)
+		}
 	})
 }
 
