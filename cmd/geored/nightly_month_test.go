@@ -194,6 +194,8 @@ type monthResult struct {
 	reasons  map[string]string
 	counts   history.Counts
 	html     []string // summary.html of the night the mark moved, and of the last night
+	// summaryAlerts counts the alerts in the nights' summaries.
+	summaryAlerts int
 }
 
 // runMonth delivers the month night by night into a job folder and runs
@@ -236,6 +238,14 @@ func runMonth(t *testing.T, files map[int]map[string][]byte, where string) month
 		}
 		code, s, stderr := nightlyJSON(t, args...)
 		require.Contains(t, []int{exitOK, exitFlagged}, code, "night %d: %s", night, stderr)
+		if len(s.Alerts) > 0 {
+			require.Equal(t, exitFlagged, code, "night %d: an alert needs a look", night)
+			require.Contains(t, stderr, `"msg":"alert"`, "night %d: each alert logged", night)
+		}
+		for _, a := range s.Alerts {
+			require.Equal(t, monthNight(night), a.Night, "the summary's alerts are the night's")
+		}
+		res.summaryAlerts += len(s.Alerts)
 		for _, f := range s.Files {
 			res.outcomes[f.Name] = f.Outcome
 			res.reasons[f.Name] = f.Reason
@@ -288,6 +298,7 @@ func TestNightlyMonth(t *testing.T) {
 			}
 		}
 		require.Equal(t, []string{monthNight(monthMovedOn)}, moved)
+		require.Equal(t, len(r.alerts), r.summaryAlerts, "each alert in its night's summary")
 		require.NotEmpty(t, driftNights)
 		first := slices.Index(allNights(), driftNights[0]) + 1
 		require.GreaterOrEqual(t, first, 7, "not before the trend line passes 1 mm")
