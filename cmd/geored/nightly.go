@@ -100,7 +100,7 @@ and subject; in the summary, the log and the exit status):
      change common to them (least squares, σ from the lines, scaled up by
      the baselines' own scatter) and it passes χ²(2) at α = 0.001, with
      any one line left out as well; one bad line alone is a line flag
-`+"`"+`geored history`+"`"+` prints the series.
+summary.html plots each alert's series; `+"`"+`geored history`+"`"+` prints them as CSV.
 
 Exit status:
   0  every new file reduced clean, or nothing new
