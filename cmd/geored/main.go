@@ -31,6 +31,7 @@ func commands() []command {
 		{"reduce", "reduce observation files and compare with control", runReduce},
 		{"audit", "accept or reject delivered distances and GNSS vectors, line by line, and say why", runAudit},
 		{"nightly", "the unattended run: reduce what arrived in a job folder's inbox, once, into a history", runNightly},
+		{"history", "print a line's, an instrument's or a mark's series from the nightly history as CSV", runHistory},
 		{"inverse", "geodesic and grid inverse between control points", runInverse},
 		{"predict", "expected slope distance, zenith angle and horizontal distance from control", runPredict},
 		{"sightline", "whether a line of sight clears the curved Earth, with refraction", runSightline},

@@ -3,11 +3,14 @@ package main
 import (
 	"bytes"
 	"context"
+	"encoding/csv"
 	"encoding/json"
 	"fmt"
 	"os"
 	"os/exec"
 	"path/filepath"
+	"strconv"
+	"strings"
 	"sync"
 	"testing"
 
@@ -199,4 +202,66 @@ func TestNightlyTwoServersOnePostgres(t *testing.T) {
 	out, _ := cmd.CombinedOutput()
 	require.Equal(t, exitFailed, cmd.ProcessState.ExitCode())
 	require.Contains(t, string(out), "in use by another run")
+}
+
+// TestNightlyLog: off a terminal the run logs one JSON record per file,
+// with its path, hash, outcome and reason.
+func TestNightlyLog(t *testing.T) {
+	dir := nightlyFolder(t, "bridge")
+	deliver(t, dir, "mon.csv", "mon")
+	require.NoError(t, os.WriteFile(filepath.Join(dir, "inbox", "broken.csv"), []byte("not,a,file\n1,2,3\n"), 0o644))
+	_, s, stderr := nightlyJSON(t, "-config", filepath.Join(dir, "job.toml"), "-night", "2026-12-01")
+	recs := map[string]map[string]any{}
+	for _, line := range bytes.Split([]byte(stderr), []byte("\n")) {
+		var r map[string]any
+		if json.Unmarshal(line, &r) == nil && r["msg"] == "file" {
+			recs[r["name"].(string)] = r
+		}
+	}
+	require.Len(t, recs, len(s.Files), stderr)
+	for _, f := range s.Files {
+		r := recs[f.Name]
+		require.Equal(t, f.SHA256, r["sha256"])
+		require.Equal(t, f.Outcome, r["outcome"])
+		require.Equal(t, f.Path, r["path"])
+	}
+	require.Equal(t, "WARN", recs["broken.csv"]["level"])
+	require.Contains(t, recs["broken.csv"]["reason"], "missing required column")
+}
+
+// TestHistoryCommand: geored history prints the series the store holds,
+// as CSV with its units in the column names.
+func TestHistoryCommand(t *testing.T) {
+	dir := nightlyFolder(t, "bridge")
+	cfg := filepath.Join(dir, "job.toml")
+	for i, night := range []string{"2026-12-01", "2026-12-02"} {
+		deliver(t, dir, fmt.Sprintf("n%d.csv", i), night)
+		nightlyJSON(t, "-config", cfg, "-night", night)
+	}
+	st, err := history.Open(context.Background(), filepath.Join(dir, "history.db"))
+	require.NoError(t, err)
+	defer st.Close()
+	want, err := st.MarkSeries(context.Background(), "bridge", "NB-PILLAR1")
+	require.NoError(t, err)
+	require.NotEmpty(t, want)
+	var out, errb bytes.Buffer
+	require.Equal(t, exitOK, run([]string{"history", "-config", cfg, "-mark", "NB-PILLAR1"}, &out, &errb), errb.String())
+	rows, err := csv.NewReader(&out).ReadAll()
+	require.NoError(t, err)
+	require.Equal(t, []string{"night", "instrument", "from", "to", "n", "geodesic_m", "residual_mm", "sigma_mm", "flagged"}, rows[0])
+	require.Len(t, rows, len(want)+1)
+	for i, p := range want {
+		require.Equal(t, p.Night, rows[i+1][0])
+		r, err := strconv.ParseFloat(rows[i+1][6], 64)
+		require.NoError(t, err)
+		require.Equal(t, p.ResidualMM, r)
+	}
+	out.Reset()
+	require.Equal(t, exitOK, run([]string{"history", "-config", cfg, "-line", want[0].To + "," + want[0].From}, &out, &errb))
+	rows, _ = csv.NewReader(&out).ReadAll()
+	require.Len(t, rows, 3, "one line, either direction, two nights")
+	out.Reset()
+	require.Equal(t, exitOK, run([]string{"history", "-config", cfg, "-instrument", "ts-red"}, &out, &errb))
+	require.True(t, strings.HasPrefix(out.String(), "night,instrument,lines,constant_mm,constant_sigma_mm,scale_ppm,scale_sigma_ppm,evidence\n"))
+	require.Equal(t, exitFailed, run([]string{"history", "-config", cfg}, &out, &errb), "one series must be named")
 }

@@ -3,10 +3,11 @@ package main
 import "html/template"
 
 // nightlyHTML is the run's summary.html: every inbox file by name and
-// hash with its outcome, the flagged lines, the night's alerts.
+// hash with its outcome, the flagged lines, the night's alerts and their
+// plots.
 var nightlyHTML = template.Must(template.New("nightly").Parse(`<!DOCTYPE html>
 <html lang="en"><head><meta charset="utf-8"><title>geored nightly {{.Job}} {{.Night}}</title>
-<style>body{font-family:sans-serif;margin:2em}table{border-collapse:collapse}td,th{border:1px solid #999;padding:.2em .5em;text-align:left}code{font-size:90%}</style>
+<style>body{font-family:sans-serif;margin:2em}figure{margin:1em 0;max-width:50em}table{border-collapse:collapse}td,th{border:1px solid #999;padding:.2em .5em;text-align:left}code{font-size:90%}</style>
 </head><body>
 <h1>Nightly run of {{.Job}}, night {{.Night}}</h1>
 <p>Exit status <b>{{.ExitStatus}}</b>. Started {{.Started}}; geored {{.Version}}; history {{.History}}.</p>
@@ -16,6 +17,8 @@ var nightlyHTML = template.Must(template.New("nightly").Parse(`<!DOCTYPE html>
 {{end}}</table>{{else}}<p>Nothing new in the inbox.</p>{{end}}
 <h2>Alerts</h2>
 {{if .Alerts}}<ul>{{range .Alerts}}<li><b>{{.Kind}}</b> {{.Subject}}: {{.Message}}</li>{{end}}</ul>{{else}}<p>None.</p>{{end}}
+{{range .Plots}}<figure>{{.SVG}}<figcaption>{{.Title}}</figcaption></figure>
+{{end}}
 <p><i>{{.Caution}}</i></p>
 </body></html>
 `))

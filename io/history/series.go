@@ -34,11 +34,12 @@ func (s *Store) MarkSeries(ctx context.Context, job, mark string) ([]LinePoint, 
 		ORDER BY f.night, f.id, l.from_mark, l.to_mark, l.instrument`, job, mark, mark)
 }
 
-// AllLines is every night's lines of the job, by night.
-func (s *Store) AllLines(ctx context.Context, job string) ([]LinePoint, error) {
+// LinesBetween is the job's lines of the nights from since to until
+// (YYYY-MM-DD, both included), by night.
+func (s *Store) LinesBetween(ctx context.Context, job, since, until string) ([]LinePoint, error) {
 	return s.lines(ctx, `SELECT f.night, l.instrument, l.from_mark, l.to_mark, l.n, l.geodesic_m, l.residual_mm, l.sigma_mm, l.flagged
 		FROM lines l JOIN files f ON f.id = l.file_id
-		WHERE f.job = ? ORDER BY f.night, f.id, l.from_mark, l.to_mark, l.instrument`, job)
+		WHERE f.job = ? AND f.night >= ? AND f.night <= ? ORDER BY f.night, f.id, l.from_mark, l.to_mark, l.instrument`, job, since, until)
 }
 
 func (s *Store) lines(ctx context.Context, q string, args ...any) ([]LinePoint, error) {

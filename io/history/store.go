@@ -144,6 +144,12 @@ func (s *Store) migrate(ctx context.Context) error {
 			return tx.Rollback()
 		}
 		for _, q := range migrations[have] {
+			if only, rest, ok := strings.Cut(q, ":"); ok && (only == "sqlite" || only == "postgres") {
+				if only != s.d.name {
+					continue
+				}
+				q = rest
+			}
 			if _, err := tx.ExecContext(ctx, s.d.sql(q)); err != nil {
 				tx.Rollback()
 				return fmt.Errorf("migration %d: %w", have+1, err)

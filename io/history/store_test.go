@@ -62,6 +62,17 @@ func TestMigrations(t *testing.T) {
 		var rows int
 		require.NoError(t, s2.db.QueryRow("SELECT COUNT(*) FROM schema_version").Scan(&rows))
 		require.Equal(t, len(migrations), rows, "one row per version")
+		// Migration 2 drops the row tables' foreign keys on PostgreSQL
+		// alone.
+		var fks int
+		if s2.Dialect() == "postgres" {
+			require.NoError(t, s2.db.QueryRow(`SELECT COUNT(*) FROM information_schema.table_constraints
+				WHERE constraint_type = 'FOREIGN KEY' AND table_name IN ('observations', 'lines')`).Scan(&fks))
+			require.Zero(t, fks)
+		} else {
+			require.NoError(t, s2.db.QueryRow(`SELECT COUNT(*) FROM pragma_foreign_key_list('observations')`).Scan(&fks))
+			require.Equal(t, 1, fks)
+		}
 	})
 }
 
@@ -235,4 +246,22 @@ func TestDialect(t *testing.T) {
 func TestRedact(t *testing.T) {
 	require.Equal(t, "postgres://geored:xxxxx@db:5432/h", redact("postgres://geored:secret@db:5432/h"))
 	require.Equal(t, "host=db password=xxxxx dbname=h", redact("host=db password=secret dbname=h"))
+}
+
+// TestLinesBetween: the lines of the nights asked for, both ends
+// included, and no others.
+func TestLinesBetween(t *testing.T) {
+	ctx := context.Background()
+	s := open(t, filepath.Join(t.TempDir(), "history.db"))
+	for _, night := range []string{"2026-11-29", "2026-11-30", "2026-12-01", "2026-12-02"} {
+		r := begin(t, s, "bridge", night)
+		f := File{Job: "bridge", SHA256: night, Name: night + ".csv", Night: night, RunID: r.ID, Status: StatusReduced}
+		_, err := s.Record(ctx, &f, nil, []Line{{Instrument: "ts-1", From: "A", To: "B", N: 1, Geodesic: 500, SigmaMM: 1}}, nil)
+		require.NoError(t, err)
+	}
+	got, err := s.LinesBetween(ctx, "bridge", "2026-11-30", "2026-12-01")
+	require.NoError(t, err)
+	require.Len(t, got, 2)
+	require.Equal(t, "2026-11-30", got[0].Night)
+	require.Equal(t, "2026-12-01", got[1].Night)
 }
