@@ -206,8 +206,12 @@ type AuditSummary struct {
 	Counts      AuditCounts `json:"counts"`
 	// Tolerance is the class or a mm + b ppm with its source, Critical
 	// the bound of the signatures' fit, ControlSigma the control's σ.
-	Tolerance    string        `json:"tolerance"`
-	Critical     float64       `json:"critical_value"`
+	Tolerance string  `json:"tolerance"`
+	Critical  float64 `json:"critical_value"`
+	// JobAlpha is the job's α over all the audit's Tests where the job
+	// gives job_alpha (Critical is then Šidák's), 0 otherwise.
+	JobAlpha     float64       `json:"job_alpha,omitempty"`
+	Tests        int           `json:"tests,omitempty"`
 	ControlSigma float64       `json:"control_sigma_m"`
 	CRS          string        `json:"crs"`
 	CRSName      string        `json:"crs_name"`
@@ -220,6 +224,11 @@ type AuditSummary struct {
 	Rejects      []AuditReject `json:"rejects"`
 	Warnings     []string      `json:"warnings"`
 	Caution      string        `json:"caution"`
+	// InputHash is the identity of the audit: the SHA-256 over its
+	// inputs' hashes and its settings. Replaces is the set of outputs
+	// this run replaced in its output folder, where there was one.
+	InputHash string    `json:"input_hash"`
+	Replaces  *Replaced `json:"replaces,omitempty"`
 
 	Rows  []AuditRow  `json:"-"`
 	Loops []AuditLoop `json:"-"`
