@@ -67,7 +67,9 @@ func TestAuditRawLandXML(t *testing.T) {
 	require.Equal(t, exitFlagged, code, "%s\n%s", stdout, stderr)
 	csvAudit := string(mustRead(t, filepath.Join(sc.dir, "out", "audit.csv")))
 
-	xml := landXML(rawXMLRows(t, sc), `<Metric linearUnit="meter" areaUnit="squareMeter" volumeUnit="cubicMeter" angularUnit="decimal degrees"/>`, nil)
+	// and one more that LandXML refuses: its target height is not a number
+	xmlRows := append(rawXMLRows(t, sc), xmlRow{"o-bad", "ALDER", "BIRCH", "812.3456", "89.5", "1.602", "n/a"})
+	xml := landXML(xmlRows, `<Metric linearUnit="meter" areaUnit="squareMeter" volumeUnit="cubicMeter" angularUnit="decimal degrees"/>`, nil)
 	require.NoError(t, os.WriteFile(filepath.Join(sc.dir, "raw.xml"), []byte(xml), 0o644))
 	cfg := rawJobWith(t, sc, "xml.toml", `out = "out-xml"`+"\n", rawScenarioAtmosphere, `observations = ["raw.xml"]`)
 	require.NoError(t, os.WriteFile(cfg, bytes.Replace(mustRead(t, cfg), []byte(`out = "out"`+"\n"), nil, 1), 0o644))
@@ -87,11 +89,16 @@ func TestAuditRawLandXML(t *testing.T) {
 	assert.Equal(t, len(sc.want), named)
 
 	rej := readCSV(t, filepath.Join(out, "rejects.csv"))
-	require.Len(t, rej, 2)
+	require.Len(t, rej, 3)
 	assert.Equal(t, filepath.Join(sc.dir, "raw.xml"), rej[1][0])
 	line := strings.Count(xml[:strings.Index(xml, `<TargetPoint pntRef="NOWHERE"/>`)], "\n")
 	assert.Equal(t, strconv.Itoa(line), rej[1][1], "the element's line: its RawObservation's, the line before its TargetPoint")
 	assert.Contains(t, rej[1][3], `"NOWHERE" is not in the points file`)
+	line = strings.Count(xml[:strings.Index(xml, `name="o-bad"`)], "\n") + 1
+	assert.Equal(t, []string{filepath.Join(sc.dir, "raw.xml"), strconv.Itoa(line)}, rej[2][:2], "the refused element's line")
+	assert.Contains(t, rej[2][2], `targetHeight="n/a"`, "the element as written")
+	assert.Contains(t, rej[2][3], `raw.xml:`+strconv.Itoa(line)+`:`, "the reason names the element's line")
+	assert.Contains(t, rej[2][3], `targetHeight "n/a"`, "and LandXML's own reason")
 	var sum struct {
 		Inputs []struct{ Role, Path string } `json:"inputs"`
 		Counts struct {
@@ -100,8 +107,8 @@ func TestAuditRawLandXML(t *testing.T) {
 		} `json:"counts"`
 	}
 	require.NoError(t, json.Unmarshal(mustRead(t, filepath.Join(out, "summary.json")), &sum))
-	assert.Equal(t, sc.obs, sum.Counts.ObsRead)
-	assert.Equal(t, 1, sum.Counts.ObsRejected)
+	assert.Equal(t, sc.obs+1, sum.Counts.ObsRead)
+	assert.Equal(t, 2, sum.Counts.ObsRejected)
 	assert.Contains(t, sum.Inputs, struct{ Role, Path string }{"raw observations", filepath.Join(sc.dir, "raw.xml")})
 }
 
