@@ -436,15 +436,15 @@ func addLoops(sum *report.AuditSummary, checks []checked, st audit.Settings) err
 		var marks []string
 		for k, stp := range l.Steps {
 			c := at[stp.Index]
-			from, to, sign := c.b.From, c.b.To, ""
+			from, to := c.b.From, c.b.To
 			if stp.Reversed {
-				from, to, sign = to, from, "−"
+				from, to = to, from
 			}
 			if k == 0 {
 				marks = append(marks, from)
 			}
 			marks = append(marks, to)
-			al.Vectors = append(al.Vectors, fmt.Sprintf("%s%s:%d", sign, c.b.File, c.b.Line))
+			al.Vectors = append(al.Vectors, report.LoopStep{File: c.b.File, Line: c.b.Line, Reversed: stp.Reversed})
 		}
 		al.Marks = strings.Join(marks, " → ")
 		sum.AddLoop(al)
