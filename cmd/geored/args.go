@@ -9,7 +9,6 @@ import (
 	"slices"
 	"strings"
 
-	"github.com/geored/geored/io/jobconfig"
 	"github.com/geored/geored/io/units"
 )
 
@@ -151,26 +150,6 @@ func (o observationInput) open(path string) (*os.File, string, error) {
 		return nil, "", errors.New("standard input is not available")
 	}
 	return o.stdin, stdinName, nil
-}
-
-// stdinInput is what an observation file "-" among j's reads: standard
-// input, copied to a temporary file where job_alpha must count its rows
-// before the run; the returned function removes the copy.
-func stdinInput(j *jobconfig.Job) (observationInput, func(), error) {
-	var in observationInput
-	if !slices.Contains(j.Observations, stdinArg) {
-		return in, func() {}, nil
-	}
-	in.stdin = os.Stdin
-	if !j.HasJobAlpha {
-		return in, func() {}, nil
-	}
-	f, done, err := bufferStdin(os.Stdin)
-	if err != nil {
-		return in, nil, err
-	}
-	in.stdin = f
-	return in, done, nil
 }
 
 // bufferStdin copies standard input to a temporary file that can be read

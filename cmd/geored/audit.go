@@ -13,6 +13,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"time"
 
@@ -46,7 +47,12 @@ delivered both as a distance and a vector. A value that fails, or differs
 by more than its σ allows, is matched against the usual reduction errors
 and the one that fits is named. Writes to the output folder (-out, default
 geored-audit): audit.csv (a row per delivered value with every check),
-loops.csv, rejects.csv, summary.json and report.html.
+loops.csv (a row per independent loop of the vectors: its misclosure,
+tolerance, marks and vectors, each vector its line in its baselines file,
+"−" before one taken backwards, the file named before the first and where
+it changes: "net.csv:12 −40 17"), rejects.csv, summary.json (with the
+audit's input hash, and the earlier outputs a rerun replaces) and
+report.html.
 
 Baselines CSV columns: from, to, kind (grid, ellipsoid, ground, sea-level
 or vector); distance and sigma for a distance; dx, dy, dz (geocentric, the
@@ -106,11 +112,12 @@ Flags:
 	if err != nil {
 		return fail(stderr, "audit", err)
 	}
-	obsIn, done, err := stdinInput(j)
-	if err != nil {
-		return fail(stderr, "audit", err)
+	// "-" reads standard input once: the audit's tests are counted from
+	// the delivered rows, so job_alpha needs no copy of it.
+	var obsIn observationInput
+	if slices.Contains(j.Observations, stdinArg) {
+		obsIn.stdin = os.Stdin
 	}
-	defer done()
 	if j.Out == "" {
 		j.Out = defaultAuditOut
 	}

@@ -154,7 +154,7 @@ func TestAuditRawStdin(t *testing.T) {
 			Rows       int
 		}{"raw observations", "stdin", sc.obs}, c.name)
 		if c.config == alpha {
-			assert.Equal(t, 2*sc.rows, sum.Tests, "%s: the rows counted from standard input's copy", c.name)
+			assert.Equal(t, 2*sc.rows, sum.Tests, "%s: the delivered rows and their raw comparisons", c.name)
 			continue
 		}
 		assert.Equal(t, want, string(mustRead(t, filepath.Join(out, "audit.csv"))), c.name)

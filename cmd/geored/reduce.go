@@ -185,11 +185,18 @@ Flags:
 	if err != nil {
 		return fail(stderr, "reduce", err)
 	}
-	obsIn, done, err := stdinInput(j)
-	if err != nil {
-		return fail(stderr, "reduce", err)
+	var obsIn observationInput
+	if slices.Contains(j.Observations, stdinArg) {
+		obsIn.stdin = os.Stdin
+		if j.HasJobAlpha {
+			f, done, err := bufferStdin(os.Stdin)
+			if err != nil {
+				return fail(stderr, "reduce", err)
+			}
+			defer done()
+			obsIn.stdin = f
+		}
 	}
-	defer done()
 	if j.Out == "" {
 		j.Out = defaultOut
 	}
