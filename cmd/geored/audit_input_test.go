@@ -25,7 +25,7 @@ import (
 // default_atmosphere: LandXML 1.2 has none per observation).
 func rawXMLRows(t *testing.T, sc *rawScenario) []xmlRow {
 	t.Helper()
-	r := csv.NewReader(bytes.NewReader(mustRead(t, filepath.Join(sc.dir, "raw.csv"))))
+	r := csv.NewReader(bytes.NewReader(readAuditFile(t, filepath.Join(sc.dir, "raw.csv"))))
 	r.Comment = '#'
 	recs, err := r.ReadAll()
 	require.NoError(t, err)
@@ -38,7 +38,7 @@ func rawXMLRows(t *testing.T, sc *rawScenario) []xmlRow {
 	return rows
 }
 
-func mustRead(t *testing.T, path string) []byte {
+func readAuditFile(t *testing.T, path string) []byte {
 	t.Helper()
 	b, err := os.ReadFile(path)
 	require.NoError(t, err)
@@ -65,18 +65,18 @@ func TestAuditRawLandXML(t *testing.T) {
 	sc := newRawScenario(t)
 	code, stdout, stderr := runCmd(t, "audit", "-config", sc.config, sc.file)
 	require.Equal(t, exitFlagged, code, "%s\n%s", stdout, stderr)
-	csvAudit := string(mustRead(t, filepath.Join(sc.dir, "out", "audit.csv")))
+	csvAudit := string(readAuditFile(t, filepath.Join(sc.dir, "out", "audit.csv")))
 
 	// and one more that LandXML refuses: its target height is not a number
 	xmlRows := append(rawXMLRows(t, sc), xmlRow{"o-bad", "ALDER", "BIRCH", "812.3456", "89.5", "1.602", "n/a"})
 	xml := landXML(xmlRows, `<Metric linearUnit="meter" areaUnit="squareMeter" volumeUnit="cubicMeter" angularUnit="decimal degrees"/>`, nil)
 	require.NoError(t, os.WriteFile(filepath.Join(sc.dir, "raw.xml"), []byte(xml), 0o644))
 	cfg := rawJobWith(t, sc, "xml.toml", `out = "out-xml"`+"\n", rawScenarioAtmosphere, `observations = ["raw.xml"]`)
-	require.NoError(t, os.WriteFile(cfg, bytes.Replace(mustRead(t, cfg), []byte(`out = "out"`+"\n"), nil, 1), 0o644))
+	require.NoError(t, os.WriteFile(cfg, bytes.Replace(readAuditFile(t, cfg), []byte(`out = "out"`+"\n"), nil, 1), 0o644))
 	code, stdout, stderr = runCmd(t, "audit", "-config", cfg, sc.file)
 	require.Equal(t, exitFlagged, code, "%s\n%s", stdout, stderr)
 	out := filepath.Join(sc.dir, "out-xml")
-	assert.Equal(t, csvAudit, string(mustRead(t, filepath.Join(out, "audit.csv"))))
+	assert.Equal(t, csvAudit, string(readAuditFile(t, filepath.Join(out, "audit.csv"))))
 
 	rows, col := readColumns(t, filepath.Join(out, "audit.csv"))
 	named := 0
@@ -106,7 +106,7 @@ func TestAuditRawLandXML(t *testing.T) {
 			ObsRejected int `json:"observations_rejected"`
 		} `json:"counts"`
 	}
-	require.NoError(t, json.Unmarshal(mustRead(t, filepath.Join(out, "summary.json")), &sum))
+	require.NoError(t, json.Unmarshal(readAuditFile(t, filepath.Join(out, "summary.json")), &sum))
 	assert.Equal(t, sc.obs+1, sum.Counts.ObsRead)
 	assert.Equal(t, 2, sum.Counts.ObsRejected)
 	assert.Contains(t, sum.Inputs, struct{ Role, Path string }{"raw observations", filepath.Join(sc.dir, "raw.xml")})
@@ -121,16 +121,16 @@ func TestAuditRawStdin(t *testing.T) {
 	sc := newRawScenario(t)
 	code, stdout, stderr := exitCode(t, bin, "audit", "-config", sc.config, sc.file)
 	require.Equal(t, exitFlagged, code, "%s\n%s", stdout, stderr)
-	want := string(mustRead(t, filepath.Join(sc.dir, "out", "audit.csv")))
+	want := string(readAuditFile(t, filepath.Join(sc.dir, "out", "audit.csv")))
 	xml := landXML(rawXMLRows(t, sc), `<Metric linearUnit="meter" angularUnit="decimal degrees"/>`, nil)
 	atm := rawJobWith(t, sc, "atm.toml", "", rawScenarioAtmosphere, `observations = ["raw.csv"]`)
 	alpha := rawJobWith(t, sc, "alpha.toml", "job_alpha = 0.001\n", rawScenarioAtmosphere, `observations = ["raw.csv"]`)
 	for _, c := range []struct {
 		name, config, input string
 	}{
-		{"CSV", sc.config, string(mustRead(t, filepath.Join(sc.dir, "raw.csv")))},
+		{"CSV", sc.config, string(readAuditFile(t, filepath.Join(sc.dir, "raw.csv")))},
 		{"LandXML", atm, xml},
-		{"CSV with job_alpha", alpha, string(mustRead(t, filepath.Join(sc.dir, "raw.csv")))},
+		{"CSV with job_alpha", alpha, string(readAuditFile(t, filepath.Join(sc.dir, "raw.csv")))},
 	} {
 		cmd := exec.Command(bin, "audit", "-config", c.config, "-quiet", "-observations", "-", sc.file)
 		cmd.Stdin = strings.NewReader(c.input)
@@ -148,7 +148,7 @@ func TestAuditRawStdin(t *testing.T) {
 			} `json:"inputs"`
 			Tests int `json:"tests"`
 		}
-		require.NoError(t, json.Unmarshal(mustRead(t, filepath.Join(out, "summary.json")), &sum))
+		require.NoError(t, json.Unmarshal(readAuditFile(t, filepath.Join(out, "summary.json")), &sum))
 		assert.Contains(t, sum.Inputs, struct {
 			Role, Path string
 			Rows       int
@@ -157,19 +157,19 @@ func TestAuditRawStdin(t *testing.T) {
 			assert.Equal(t, 2*sc.rows, sum.Tests, "%s: the delivered rows and their raw comparisons", c.name)
 			continue
 		}
-		assert.Equal(t, want, string(mustRead(t, filepath.Join(out, "audit.csv"))), c.name)
+		assert.Equal(t, want, string(readAuditFile(t, filepath.Join(out, "audit.csv"))), c.name)
 	}
 	code, _, stderr = exitCode(t, bin, "audit", "-config", sc.config, "-observations", "-", "-observations", "-", sc.file)
 	assert.Equal(t, exitFailed, code)
 	assert.Contains(t, stderr, `standard input ("-") can be read once`)
 }
 
-// offsetRow is a delivered grid distance of ALDER–BIRCH 7 mm longer than
+// auditOffsetRow is a delivered grid distance of ALDER–BIRCH 7 mm longer than
 // the scenario's clean one: within the tolerance (5 mm + 2 ppm, 95 %)
 // but |w| = 3.5 beside our reduction (σ 2 mm), over the default critical
 // value 3.29: a cause is looked for, and named, only while the critical
 // value is under 3.5.
-func offsetRow(t *testing.T, sc *rawScenario) {
+func auditOffsetRow(t *testing.T, sc *rawScenario) {
 	t.Helper()
 	rows := readCSV(t, sc.file)
 	require.Equal(t, []string{"id", "from", "to", "kind", "distance", "sigma"}, rows[0])
@@ -191,7 +191,7 @@ func offsetRow(t *testing.T, sc *rawScenario) {
 // row within the tolerance.
 func TestAuditCriticalValue(t *testing.T) {
 	sc := newRawScenario(t)
-	offsetRow(t, sc)
+	auditOffsetRow(t, sc)
 	tests := 2 * sc.rows // every delivered row has raw observations
 	cases := []struct {
 		name, top string
@@ -213,7 +213,7 @@ func TestAuditCriticalValue(t *testing.T) {
 			JobAlpha float64 `json:"job_alpha"`
 			Tests    int     `json:"tests"`
 		}
-		require.NoError(t, json.Unmarshal(mustRead(t, filepath.Join(out, "summary.json")), &sum))
+		require.NoError(t, json.Unmarshal(readAuditFile(t, filepath.Join(out, "summary.json")), &sum))
 		want := c.critical
 		if alpha, ok := strings.CutPrefix(c.top, "job_alpha = "); ok {
 			a, err := strconv.ParseFloat(strings.TrimSpace(alpha), 64)
@@ -226,6 +226,11 @@ func TestAuditCriticalValue(t *testing.T) {
 			assert.Zero(t, sum.Tests, c.name)
 		}
 		assert.InDelta(t, want, sum.Critical, 1e-12, c.name)
+		html := string(readAuditFile(t, filepath.Join(out, "report.html")))
+		assert.Contains(t, html, "critical value "+strconv.FormatFloat(want, 'f', 2, 64), c.name)
+		if sum.Tests > 0 {
+			assert.Contains(t, html, "over the audit's "+strconv.Itoa(tests)+" tests", c.name)
+		}
 		rows, col := readColumns(t, filepath.Join(out, "audit.csv"))
 		last := rows[len(rows)-1]
 		require.Equal(t, "r-offset", last[col["id"]])
@@ -263,7 +268,7 @@ func TestAuditRerunSaysWhatItReplaces(t *testing.T) {
 	}
 	read := func() summary {
 		var s summary
-		require.NoError(t, json.Unmarshal(mustRead(t, filepath.Join(out, "summary.json")), &s))
+		require.NoError(t, json.Unmarshal(readAuditFile(t, filepath.Join(out, "summary.json")), &s))
 		return s
 	}
 	code, _, stderr := runCmd(t, "audit", "-config", sc.config, "-quiet", sc.file)
