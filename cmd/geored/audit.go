@@ -5,6 +5,7 @@ import (
 	"context"
 	"crypto/sha256"
 	"encoding/hex"
+	"encoding/json"
 	"errors"
 	"flag"
 	"fmt"
@@ -12,7 +13,9 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
+	"time"
 
 	"github.com/geored/geored/io/baselines"
 	"github.com/geored/geored/io/jobconfig"
@@ -31,7 +34,7 @@ func runAudit(args []string, stdout, stderr io.Writer) int {
 	jf.register(fs)
 	quiet := fs.Bool("quiet", false, "print nothing but errors")
 	var rawFiles fileList
-	fs.Var(&rawFiles, "observations", "the subcontractor's raw observations (an observation CSV as reduce reads), reduced with the job's settings and set beside the delivered distances stage by stage; may be given more than once, and replaces the job file's observations (config: observations)")
+	fs.Var(&rawFiles, "observations", "the subcontractor's raw observations (an observation CSV or a LandXML 1.2 file, as reduce reads them; - reads standard input), reduced with the job's settings and set beside the delivered distances stage by stage; may be given more than once, and replaces the job file's observations (config: observations)")
 	fs.Usage = func() {
 		fmt.Fprint(stderr, `Usage: geored audit [flags] baselines.csv ...
 
@@ -44,7 +47,12 @@ delivered both as a distance and a vector. A value that fails, or differs
 by more than its σ allows, is matched against the usual reduction errors
 and the one that fits is named. Writes to the output folder (-out, default
 geored-audit): audit.csv (a row per delivered value with every check),
-loops.csv, rejects.csv, summary.json and report.html.
+loops.csv (a row per independent loop of the vectors: its misclosure,
+tolerance, marks and vectors, each vector its line in its baselines file,
+"−" before one taken backwards, the file named before the first and where
+it changes: "net.csv:12 −40 17"), rejects.csv, summary.json (with the
+audit's input hash, and the earlier outputs a rerun replaces) and
+report.html.
 
 Baselines CSV columns: from, to, kind (grid, ellipsoid, ground, sea-level
 or vector); distance and sigma for a distance; dx, dy, dz (geocentric, the
@@ -63,6 +71,19 @@ the horizontal distance at the marks' mean height, the ellipsoid, sea
 level and grid distances. Where the delivered value differs from ours of
 its kind, the usual errors are matched with our stage values and the
 stage that explains the difference is named, or "no known cause".
+
+Raw observations are read as reduce reads them: the observation CSV (its
+delimiter found as reduce finds it), or LandXML 1.2 (a file named *.xml, or
+whose first character other than a blank is '<'); "-observations -" reads
+them from standard input.
+
+Critical value: |w| of a delivered value against the control, and of its
+difference from our reduction, is tested against critical_value (default
+3.29 for each test); with job_alpha instead, Šidák's critical value that
+holds that α over all the audit's tests: one a delivered row, and one more
+a delivered distance set beside our reduction of its raw observations.
+Above it, or past the tolerance, the usual errors are matched, each within
+the same critical value.
 
 Kinds: grid is the plane distance between the projected marks; ellipsoid
 the geodesic; ground the horizontal distance at the marks' mean ellipsoidal
@@ -84,16 +105,25 @@ Flags:
 	if !ok {
 		return code
 	}
+	if err := observationArgs(rawFiles); err != nil {
+		return fail(stderr, "audit", err)
+	}
 	j, err := jf.resolveFor(fs, jobconfig.Needs{}, rawFiles)
 	if err != nil {
 		return fail(stderr, "audit", err)
+	}
+	// "-" reads standard input once: the audit's tests are counted from
+	// the delivered rows, so job_alpha needs no copy of it.
+	var obsIn observationInput
+	if slices.Contains(j.Observations, stdinArg) {
+		obsIn.stdin = os.Stdin
 	}
 	if j.Out == "" {
 		j.Out = defaultAuditOut
 	}
 	ctx, stop := stopOnSignals()
 	defer stop()
-	sum, err := auditJob(ctx, j, jf.config, files, !*quiet, stderr)
+	sum, err := auditJob(ctx, j, jf.config, files, obsIn, !*quiet, stderr)
 	if code, ok := stopped(stderr, "audit", j.Out, err); ok {
 		return code
 	}
@@ -114,7 +144,7 @@ Flags:
 
 // auditJob audits the baselines files against the job's control and
 // writes the outputs.
-func auditJob(ctx context.Context, j *jobconfig.Job, jobFile string, files []string, verbose bool, stderr io.Writer) (*report.AuditSummary, error) {
+func auditJob(ctx context.Context, j *jobconfig.Job, jobFile string, files []string, obsIn observationInput, verbose bool, stderr io.Writer) (*report.AuditSummary, error) {
 	if !j.HasTolerance {
 		return nil, errors.New("the job has no tolerance: give [tolerance] class, or constant_mm and ppm (or -tolerance)")
 	}
@@ -150,16 +180,14 @@ func auditJob(ctx context.Context, j *jobconfig.Job, jobFile string, files []str
 		return nil, err
 	}
 	sum.Inputs = append(sum.Inputs, inputFile("points", j.Points, pointsData, nPoints))
-	settings := audit.Settings{Tolerance: j.Tolerance, ToleranceText: j.ToleranceText, Critical: j.Critical, ControlSigma: controlSigma(j)}
-	sum.ControlSigma = settings.ControlSigma
-	var raw *job.RawLines
-	if len(j.Observations) > 0 {
-		if raw, err = reduceRaw(ctx, j, s, sum, warn); err != nil {
-			return nil, err
-		}
+	// The baselines, read whole (they are small beside the raw
+	// observations), then our reduction of the raw observations: the
+	// critical value under job_alpha depends on how many tests both make.
+	type delivered struct {
+		data []byte
+		res  *baselines.Result
 	}
-
-	var checks []checked
+	var dels []delivered
 	for _, path := range files {
 		data, err := os.ReadFile(path)
 		if err != nil {
@@ -173,6 +201,30 @@ func auditJob(ctx context.Context, j *jobconfig.Job, jobFile string, files []str
 		for _, w := range res.Warnings {
 			warn(w.String())
 		}
+		dels = append(dels, delivered{data, res})
+	}
+	var raw *job.RawLines
+	if len(j.Observations) > 0 {
+		if raw, err = reduceRaw(ctx, j, s, obsIn, sum, warn); err != nil {
+			return nil, err
+		}
+	}
+	if j.HasJobAlpha {
+		n := 0
+		for _, d := range dels {
+			n += auditTests(d.res, raw)
+		}
+		if err := j.SetTests(n); err != nil {
+			return nil, err
+		}
+		sum.Critical, sum.JobAlpha, sum.Tests = j.Critical, j.JobAlpha, n
+	}
+	rules := audit.Settings{Tolerance: j.Tolerance, ToleranceText: j.ToleranceText, Critical: j.Critical, ControlSigma: controlSigma(j)}
+	sum.ControlSigma = rules.ControlSigma
+
+	var checks []checked
+	for _, d := range dels {
+		data, res := d.data, d.res
 		sum.Counts.Read += res.Read
 		for _, r := range res.Rejects {
 			sum.Counts.Rejected++
@@ -185,7 +237,7 @@ func auditJob(ctx context.Context, j *jobconfig.Job, jobFile string, files []str
 		}
 		for i := range res.Baselines {
 			b := &res.Baselines[i]
-			c, err := checkBaseline(s, b, settings, raw, warn)
+			c, err := checkBaseline(s, b, rules, raw, warn)
 			if err != nil {
 				sum.Counts.Rejected++
 				sum.Rejects = append(sum.Rejects, report.AuditReject{File: b.File, Line: b.Line, Raw: b.Raw, Reason: err.Error()})
@@ -194,24 +246,63 @@ func auditJob(ctx context.Context, j *jobconfig.Job, jobFile string, files []str
 			checks = append(checks, c)
 		}
 	}
-	if err := crossCheck(checks, settings); err != nil {
+	if err := crossCheck(checks, rules); err != nil {
 		return nil, err
 	}
 	for _, c := range checks {
 		sum.Add(c.row)
 	}
-	if err := addLoops(sum, checks, settings); err != nil {
+	if err := addLoops(sum, checks, rules); err != nil {
 		return nil, err
 	}
 	report.DecideAudit(sum)
 	if ctx.Err() != nil {
 		return nil, context.Cause(ctx)
 	}
+	sum.InputHash = auditInputHash(sum, settings(j, s.crs, s.geoidGrid, false))
 	keep := append(jobInputs(j), outset.Keep{Role: "the job file", Path: jobFile})
 	for _, f := range files {
 		keep = append(keep, outset.Keep{Role: "a baselines file", Path: f})
 	}
 	return sum, writeAudit(ctx, j, sum, keep, stderr)
+}
+
+// auditTests is the number of |w| tests that a baselines file's rows
+// make, each against the critical value: one for every row read (a
+// delivered value against the control; a row rejected later counts, as
+// reduce counts every row before its run), and one more for every
+// delivered distance set beside our reduction of its line's raw
+// observations (raw may be nil).
+func auditTests(res *baselines.Result, raw *job.RawLines) int {
+	n := res.Read
+	if raw == nil {
+		return n
+	}
+	for i := range res.Baselines {
+		b := &res.Baselines[i]
+		if _, ok, _ := raw.Ours(b.From, b.To); ok && !b.IsVector {
+			n++
+		}
+	}
+	return n
+}
+
+// auditInputHash is the SHA-256 over the audit's inputs' hashes (not
+// their paths), the job's settings as reduce records them (they reduce the
+// raw observations) and the audit's own: the identity of the audit.
+func auditInputHash(sum *report.AuditSummary, st report.Settings) string {
+	h := sha256.New()
+	for _, in := range sum.Inputs {
+		fmt.Fprintf(h, "%s %s\n", in.Role, in.SHA256)
+	}
+	b, _ := json.Marshal(struct {
+		Settings     report.Settings
+		Critical     float64
+		ControlSigma float64
+		Tests        int
+	}{st, sum.Critical, sum.ControlSigma, sum.Tests})
+	h.Write(b)
+	return hex.EncodeToString(h.Sum(nil))
 }
 
 // lineText is line n (1-based) of data without its line end, "" past
@@ -352,15 +443,15 @@ func addLoops(sum *report.AuditSummary, checks []checked, st audit.Settings) err
 		var marks []string
 		for k, stp := range l.Steps {
 			c := at[stp.Index]
-			from, to, sign := c.b.From, c.b.To, ""
+			from, to := c.b.From, c.b.To
 			if stp.Reversed {
-				from, to, sign = to, from, "−"
+				from, to = to, from
 			}
 			if k == 0 {
 				marks = append(marks, from)
 			}
 			marks = append(marks, to)
-			al.Vectors = append(al.Vectors, fmt.Sprintf("%s%s:%d", sign, c.b.File, c.b.Line))
+			al.Vectors = append(al.Vectors, report.LoopStep{File: c.b.File, Line: c.b.Line, Reversed: stp.Reversed})
 		}
 		al.Marks = strings.Join(marks, " → ")
 		sum.AddLoop(al)
@@ -397,6 +488,9 @@ func writeAudit(ctx context.Context, j *jobconfig.Job, sum *report.AuditSummary,
 		return err
 	}
 	defer out.Abort()
+	if r := out.Replaces(); r != nil {
+		sum.Replaces = &report.Replaced{Created: r.Created.Format(time.RFC3339), InputHash: r.InputHash}
+	}
 	write := func(name string, f func(io.Writer) error) error {
 		w, err := out.Create(name)
 		if err != nil {
@@ -425,7 +519,7 @@ func writeAudit(ctx context.Context, j *jobconfig.Job, sum *report.AuditSummary,
 			return err
 		}
 	}
-	return out.Commit(outset.Identity{Tool: "geored", Command: "audit"})
+	return out.Commit(outset.Identity{Tool: "geored", Command: "audit", InputHash: sum.InputHash})
 }
 
 // printAuditVerdict prints the audit's outcome for a person.

@@ -92,4 +92,9 @@ func BenchmarkAudit10000Vectors(b *testing.B) {
 			b.Fatalf("exit status %d", code)
 		}
 	}
+	st, err := os.Stat(filepath.Join(dir, "out", "loops.csv"))
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.ReportMetric(float64(st.Size()), "loops.csv-bytes")
 }

@@ -7,7 +7,6 @@ import (
 	"errors"
 	"hash"
 	"io"
-	"os"
 	"strings"
 
 	"github.com/geored/geored/io/jobconfig"
@@ -30,11 +29,11 @@ func (f *fileList) Set(v string) error {
 }
 
 // reduceRaw reduces the subcontractor's raw observations (the job's
-// observation files) with the job's settings, as reduce does, and
-// gathers our reduction line by line. Every row is counted: reduced, or
-// rejected into the summary's rejects with its file, line, raw row and
-// reason.
-func reduceRaw(ctx context.Context, j *jobconfig.Job, s *session, sum *report.AuditSummary, warn func(string)) (*job.RawLines, error) {
+// observation files: CSV or LandXML, "-" standard input through obsIn)
+// with the job's settings, read as reduce reads them, and gathers our
+// reduction line by line. Every row is counted: reduced, or rejected
+// into the summary's rejects with its file, line, raw row and reason.
+func reduceRaw(ctx context.Context, j *jobconfig.Job, s *session, obsIn observationInput, sum *report.AuditSummary, warn func(string)) (*job.RawLines, error) {
 	if len(j.Profiles) == 0 {
 		return nil, errors.New("raw observations need an instrument profile to be reduced: give [instrument.NAME] with wavelength_um, a reference, spec_mm and spec_ppm (or the instrument flags)")
 	}
@@ -42,28 +41,27 @@ func reduceRaw(ctx context.Context, j *jobconfig.Job, s *session, sum *report.Au
 	if err != nil {
 		return nil, err
 	}
+	xml := landxmlSources{}
 	var sources []job.Source
-	var files []*os.File
-	var hashes []hashedFile
-	defer func() {
-		for _, f := range files {
-			f.Close()
-		}
-	}()
+	var hashes []hash.Hash
 	for _, path := range j.Observations {
-		f, err := os.Open(path)
+		h := sha256.New()
+		f, src, err := xml.open(path, obsIn, j, func(r io.Reader) io.Reader { return io.TeeReader(r, h) })
 		if err != nil {
 			return nil, err
 		}
-		files = append(files, f)
-		h := sha256.New()
-		hf := hashedFile{path: path, h: h}
-		hashes = append(hashes, hf)
-		sources = append(sources, job.Source{Name: path, Reader: io.TeeReader(f, h)})
+		defer f.Close()
+		hashes = append(hashes, h)
+		sources = append(sources, src)
 	}
+	u := report.Units{Length: j.LengthUnit, Angle: j.AngleUnit}
+	warnObs := func(w obsfile.Warning) { warn(w.String()) }
 	rows := map[string]int{}
 	raw := job.NewRawLines()
-	err = job.Run(ctx, plan, sources, func(w obsfile.Warning) { warn(w.String()) }, func(r *job.Result) error {
+	err = job.Run(ctx, plan, sources, warnObs, func(r *job.Result) error {
+		if len(xml) > 0 {
+			xml.fix(r, u)
+		}
 		sum.Counts.ObsRead++
 		if r.Rejected {
 			sum.Counts.ObsRejected++
@@ -77,16 +75,12 @@ func reduceRaw(ctx context.Context, j *jobconfig.Job, s *session, sum *report.Au
 		raw.Add(r)
 		return nil
 	})
+	xml.warnings(sources, warnObs)
 	if err != nil {
-		return nil, err
+		return nil, plainLandXMLError(err)
 	}
-	for _, hf := range hashes {
-		sum.Inputs = append(sum.Inputs, report.InputFile{Role: "raw observations", Path: hf.path, SHA256: hex.EncodeToString(hf.h.Sum(nil)), Rows: rows[hf.path]})
+	for i, src := range sources {
+		sum.Inputs = append(sum.Inputs, report.InputFile{Role: "raw observations", Path: src.Name, SHA256: hex.EncodeToString(hashes[i].Sum(nil)), Rows: rows[src.Name]})
 	}
 	return raw, nil
-}
-
-type hashedFile struct {
-	path string
-	h    hash.Hash
 }

@@ -92,6 +92,36 @@ func anyLandXML(paths []string) bool {
 // their rows carry.
 type landxmlSources map[string]*landxml.Observations
 
+// open opens an observation file as every command reads one: the file,
+// or standard input for "-" (obsIn); its bytes through wrap (to hash or
+// count them, or as they are), then read as LandXML (isLandXML, its stream
+// kept in x for fix and warnings) or as the observation CSV. The caller
+// closes the file.
+func (x landxmlSources) open(path string, obsIn observationInput, j *jobconfig.Job, wrap func(io.Reader) io.Reader) (*os.File, job.Source, error) {
+	f, name, err := obsIn.open(path)
+	if err != nil {
+		return nil, job.Source{}, err
+	}
+	in, isXML := sniff(wrap(f), name)
+	if isXML {
+		lx := landxml.NewObservations(in, name, landxmlOptions(j))
+		x[name], in = lx, lx
+	}
+	return f, job.Source{Name: name, Reader: in}, nil
+}
+
+// warnings hands warn what the LandXML streams among sources said, once
+// the run has read them.
+func (x landxmlSources) warnings(sources []job.Source, warn func(obsfile.Warning)) {
+	for _, src := range sources {
+		if lx := x[src.Name]; lx != nil {
+			for _, w := range lx.Warnings() {
+				warn(w)
+			}
+		}
+	}
+}
+
 // fix puts into r what the CSV stream of its LandXML file could not say:
 // the reason an observation was refused and its element, or its element's
 // line where several share one. It runs in the sink, before the result is

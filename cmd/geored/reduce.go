@@ -401,7 +401,8 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 	var read atomic.Int64
 	xml := landxmlSources{}
 	for _, path := range j.Observations {
-		f, name, err := opt.obsIn.open(path)
+		h := sha256.New()
+		f, src, err := xml.open(path, opt.obsIn, j, func(r io.Reader) io.Reader { return io.TeeReader(&countingReader{r: r, n: &read}, h) })
 		if err != nil {
 			return nil, err
 		}
@@ -409,14 +410,8 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 		if st, err := f.Stat(); err == nil && st.Mode().IsRegular() {
 			total += st.Size()
 		}
-		h := sha256.New()
 		hashes = append(hashes, h)
-		in, isXML := sniff(io.TeeReader(&countingReader{r: f, n: &read}, h), name)
-		if isXML {
-			lx := landxml.NewObservations(in, name, landxmlOptions(j))
-			xml[name], in = lx, lx
-		}
-		sources = append(sources, job.Source{Name: name, Reader: in})
+		sources = append(sources, src)
 	}
 	for _, src := range opt.inputs {
 		h := sha256.New()
@@ -469,13 +464,7 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 		return err
 	})
 	stop()
-	for _, src := range sources {
-		if lx := xml[src.Name]; lx != nil {
-			for _, w := range lx.Warnings() {
-				warn(w)
-			}
-		}
-	}
+	xml.warnings(sources, warn)
 	if moreWarnings > 0 {
 		more := fmt.Sprintf("%d more warnings, not shown", moreWarnings)
 		sum.Warnings = append(sum.Warnings, more)

@@ -147,20 +147,61 @@ func testedText(fits []audit.Fit) string {
 
 // AuditLoop is one loop of the vector network as loops.csv shows it.
 type AuditLoop struct {
-	Number    int      `json:"loop"`
-	Repeat    bool     `json:"repeat"`
-	Vectors   []string `json:"vectors"` // "file:line" of each vector, "−" before one taken backwards
-	Marks     string   `json:"marks"`   // the marks in turn
-	Length    float64  `json:"length_m"`
-	MM        float64  `json:"misclosure_mm"`
-	DX        float64  `json:"dx_m"`
-	DY        float64  `json:"dy_m"`
-	DZ        float64  `json:"dz_m"`
-	PPM       float64  `json:"ppm"`
-	Sigma     float64  `json:"sigma_m"`
-	Tolerance float64  `json:"tolerance_m"`
-	Margin    float64  `json:"margin_m"`
-	Pass      bool     `json:"pass"`
+	Number    int        `json:"loop"`
+	Repeat    bool       `json:"repeat"`
+	Vectors   []LoopStep `json:"vectors"` // in turn; JSON "file:line" each, "−" before one taken backwards
+	Marks     string     `json:"marks"`   // the marks in turn
+	Length    float64    `json:"length_m"`
+	MM        float64    `json:"misclosure_mm"`
+	DX        float64    `json:"dx_m"`
+	DY        float64    `json:"dy_m"`
+	DZ        float64    `json:"dz_m"`
+	PPM       float64    `json:"ppm"`
+	Sigma     float64    `json:"sigma_m"`
+	Tolerance float64    `json:"tolerance_m"`
+	Margin    float64    `json:"margin_m"`
+	Pass      bool       `json:"pass"`
+}
+
+// LoopStep is a vector of a loop: the baselines file and line that
+// delivered it, and whether the loop takes it backwards.
+type LoopStep struct {
+	File     string
+	Line     int
+	Reversed bool
+}
+
+// MarshalJSON writes the step as "file:line", "−file:line" backwards.
+func (s LoopStep) MarshalJSON() ([]byte, error) {
+	sign := ""
+	if s.Reversed {
+		sign = "−"
+	}
+	return json.Marshal(sign + s.File + ":" + strconv.Itoa(s.Line))
+}
+
+// appendLoopVectors appends loops.csv's vectors of a loop: each step its
+// line in its baselines file, "−" before one taken backwards, separated by
+// spaces; the file's path, with a colon, comes before the first step's
+// line and before that of any step from another file than the one before
+// it ("net.csv:12 −40 17 more.csv:3"). A loop of 30 vectors names its
+// file once, not 30 times.
+func appendLoopVectors(b []byte, steps []LoopStep) []byte {
+	file := ""
+	for i, st := range steps {
+		if i > 0 {
+			b = append(b, ' ')
+		}
+		if st.Reversed {
+			b = append(b, "−"...)
+		}
+		if i == 0 || st.File != file {
+			b = append(append(b, st.File...), ':')
+			file = st.File
+		}
+		b = strconv.AppendInt(b, int64(st.Line), 10)
+	}
+	return b
 }
 
 // AuditCounts add up: Read = Checked + Rejected, Checked = Passed + Failed.
@@ -206,8 +247,12 @@ type AuditSummary struct {
 	Counts      AuditCounts `json:"counts"`
 	// Tolerance is the class or a mm + b ppm with its source, Critical
 	// the bound of the signatures' fit, ControlSigma the control's σ.
-	Tolerance    string        `json:"tolerance"`
-	Critical     float64       `json:"critical_value"`
+	Tolerance string  `json:"tolerance"`
+	Critical  float64 `json:"critical_value"`
+	// JobAlpha is the job's α over all the audit's Tests where the job
+	// gives job_alpha (Critical is then Šidák's), 0 otherwise.
+	JobAlpha     float64       `json:"job_alpha,omitempty"`
+	Tests        int           `json:"tests,omitempty"`
 	ControlSigma float64       `json:"control_sigma_m"`
 	CRS          string        `json:"crs"`
 	CRSName      string        `json:"crs_name"`
@@ -220,6 +265,11 @@ type AuditSummary struct {
 	Rejects      []AuditReject `json:"rejects"`
 	Warnings     []string      `json:"warnings"`
 	Caution      string        `json:"caution"`
+	// InputHash is the identity of the audit: the SHA-256 over its
+	// inputs' hashes and its settings. Replaces is the set of outputs
+	// this run replaced in its output folder, where there was one.
+	InputHash string    `json:"input_hash"`
+	Replaces  *Replaced `json:"replaces,omitempty"`
 
 	Rows  []AuditRow  `json:"-"`
 	Loops []AuditLoop `json:"-"`
@@ -403,7 +453,9 @@ func WriteLoopsCSV(w io.Writer, s *AuditSummary) error {
 	if err := cw.Write(LoopsHeader); err != nil {
 		return err
 	}
+	var vectors []byte
 	for _, l := range s.Loops {
+		vectors = appendLoopVectors(vectors[:0], l.Vectors)
 		kind, v := "loop", "pass"
 		if l.Repeat {
 			kind = "repeated baseline"
@@ -412,7 +464,7 @@ func WriteLoopsCSV(w io.Writer, s *AuditSummary) error {
 			v = "fail"
 		}
 		rec := []string{strconv.Itoa(l.Number), kind, v, cell(l.MM, 1), cell(l.PPM, 2), cell(l.Tolerance*1e3, 1), cell(l.Margin*1e3, 1),
-			cell(l.Sigma*1e3, 1), cell(l.Length, 3), cell(l.DX*1e3, 1), cell(l.DY*1e3, 1), cell(l.DZ*1e3, 1), l.Marks, strings.Join(l.Vectors, " ")}
+			cell(l.Sigma*1e3, 1), cell(l.Length, 3), cell(l.DX*1e3, 1), cell(l.DY*1e3, 1), cell(l.DZ*1e3, 1), l.Marks, string(vectors)}
 		if err := cw.Write(rec); err != nil {
 			return err
 		}

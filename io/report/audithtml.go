@@ -144,7 +144,7 @@ figure { margin: 0; } figure svg { width: 100%; height: auto; }
 <h1>Audit of delivered baselines</h1>
 <p class="verdict" id="verdict">Exit status {{.ExitStatus}}: {{.Verdict}}</p>
 {{if .Reasons}}<ul id="reasons">{{range .Reasons}}<li>{{.}}</li>{{end}}</ul>{{end}}
-<p>Tolerance: <strong id="tolerance">{{.Tolerance}}</strong>; signatures fit within {{f2 .Critical}} σ; control σ {{mm .ControlSigma}} mm.
+<p>Tolerance: <strong id="tolerance">{{.Tolerance}}</strong>; critical value {{f2 .Critical}}{{if .JobAlpha}} (Šidák's for α {{.JobAlpha}} over the audit's {{.Tests}} tests){{end}}: above it a cause is looked for, and signatures fit within it; control σ {{mm .ControlSigma}} mm.
 CRS {{.CRS}} ({{.CRSName}}), {{.Ellipsoid}}; geoid {{.Geoid}}; lengths in {{.LengthUnit}}.
 Read {{.Counts.Read}} rows: {{.Counts.Checked}} checked ({{.Counts.Distances}} distances, {{.Counts.Vectors}} vectors), {{.Counts.Rejected}} rejected; {{.Counts.Passed}} pass, {{.Counts.Failed}} fail.</p>
 <p class="caution" role="note"><strong>Caution.</strong> {{.Caution}}</p>

@@ -1,18 +1,19 @@
 package report
 
 import (
-	"bytes"
 	"fmt"
 	"image/color"
 	"math"
 
 	"gonum.org/v1/plot"
-	"gonum.org/v1/plot/font"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
-	"gonum.org/v1/plot/vg/vgsvg"
 )
+
+// plotFloorMM is the foot of the audit plot's misclosure axis: a smaller
+// misclosure is drawn on it.
+const plotFloorMM = 0.1
 
 // auditPlot draws each delivered value's |misclosure| (distances: the
 // residual's size; vectors: the 3-D misclosure; loops: the loop's) in mm
@@ -20,10 +21,6 @@ import (
 // above the curve fails. The misclosure axis is logarithmic, from
 // plotFloorMM, so that a millimetre and a metre show on one plot. Nil when
 // there is nothing to plot.
-// plotFloorMM is the foot of the audit plot's misclosure axis: a smaller
-// misclosure is drawn on it.
-const plotFloorMM = 0.1
-
 func auditPlot(s *AuditSummary, tolerance func(float64) float64) ([]byte, error) {
 	var ok, bad, loops plotter.XYs
 	maxX, maxY := 0.0, 0.0
@@ -46,13 +43,7 @@ func auditPlot(s *AuditSummary, tolerance func(float64) float64) ([]byte, error)
 	if len(ok)+len(bad)+len(loops) == 0 {
 		return nil, nil
 	}
-	p := plot.New()
-	for _, ts := range []*text{
-		{&p.X.Label.TextStyle.Font, 11}, {&p.Y.Label.TextStyle.Font, 11},
-		{&p.X.Tick.Label.Font, 10}, {&p.Y.Tick.Label.Font, 10}, {&p.Legend.TextStyle.Font, 10},
-	} {
-		*ts.font = font.From(plotSansFont, ts.size)
-	}
+	p := newPlot()
 	p.X.Label.Text = "control length (m)"
 	p.Y.Label.Text = "|misclosure| (mm, logarithmic)"
 	p.X.Tick.Marker = plot.TickerFunc(fixedTicks)
@@ -91,11 +82,5 @@ func auditPlot(s *AuditSummary, tolerance func(float64) float64) ([]byte, error)
 		p.Legend.Add(set.name, sc)
 	}
 	p.Legend.Top = true
-	c := vgsvg.New(plotWidth, plotHeight)
-	p.Draw(draw.New(c))
-	var buf bytes.Buffer
-	if _, err := c.WriteTo(&buf); err != nil {
-		return nil, fmt.Errorf("audit plot: %w", err)
-	}
-	return inlineSVG(buf.Bytes())
+	return plotSVG(p, "audit plot")
 }

@@ -194,17 +194,7 @@ func residualPlot(s *Summary) ([]byte, error) {
 		return nil, nil
 	}
 
-	p := plot.New()
-	for _, ts := range []*text{
-		{&p.Title.TextStyle.Font, 12},
-		{&p.X.Label.TextStyle.Font, 11},
-		{&p.Y.Label.TextStyle.Font, 11},
-		{&p.X.Tick.Label.Font, 10},
-		{&p.Y.Tick.Label.Font, 10},
-		{&p.Legend.TextStyle.Font, 10},
-	} {
-		*ts.font = font.From(plotSansFont, ts.size)
-	}
+	p := newPlot()
 	p.X.Label.Text = "geodesic distance from control (" + lay.Unit.label + ")"
 	p.Y.Label.Text = "residual of the mean, reduced − control (mm)"
 	p.X.Tick.Marker = plot.TickerFunc(fixedTicks)
@@ -345,19 +335,39 @@ func residualPlot(s *Summary) ([]byte, error) {
 		p.Add(lab)
 	}
 
+	return plotSVG(p, "residual plot")
+}
+
+// newPlot is a plot in the report's type: the title in 12 pt, the axis
+// labels in 11, the tick labels and the legend in 10.
+func newPlot() *plot.Plot {
+	p := plot.New()
+	for _, ts := range []struct {
+		font *font.Font
+		size vg.Length
+	}{
+		{&p.Title.TextStyle.Font, 12},
+		{&p.X.Label.TextStyle.Font, 11},
+		{&p.Y.Label.TextStyle.Font, 11},
+		{&p.X.Tick.Label.Font, 10},
+		{&p.Y.Tick.Label.Font, 10},
+		{&p.Legend.TextStyle.Font, 10},
+	} {
+		*ts.font = font.From(plotSansFont, ts.size)
+	}
+	return p
+}
+
+// plotSVG draws p at the report's plot size and returns it as an <svg>
+// element to place inline (inlineSVG); what names the plot in an error.
+func plotSVG(p *plot.Plot, what string) ([]byte, error) {
 	c := vgsvg.New(plotWidth, plotHeight)
 	p.Draw(draw.New(c))
 	var buf bytes.Buffer
 	if _, err := c.WriteTo(&buf); err != nil {
-		return nil, fmt.Errorf("residual plot: %w", err)
+		return nil, fmt.Errorf("%s: %w", what, err)
 	}
 	return inlineSVG(buf.Bytes())
-}
-
-// text is a font of the plot to set and its size in points.
-type text struct {
-	font *font.Font
-	size vg.Length
 }
 
 // barThumbnail draws an error bar, a vertical stroke with a cap at each
