@@ -1,7 +1,6 @@
 package report
 
 import (
-	"bytes"
 	"errors"
 	"fmt"
 	"html/template"
@@ -10,11 +9,9 @@ import (
 	"time"
 
 	"gonum.org/v1/plot"
-	"gonum.org/v1/plot/font"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
-	"gonum.org/v1/plot/vg/vgsvg"
 )
 
 // A NightSeries is one series of a plot over nights: X the night's number
@@ -41,13 +38,7 @@ func NightPlot(title, yLabel string, series []NightSeries) (template.HTML, error
 	if len(series) == 0 {
 		return "", errors.New("night plot: no series")
 	}
-	p := plot.New()
-	for _, ts := range []*text{
-		{&p.Title.TextStyle.Font, 12}, {&p.X.Label.TextStyle.Font, 11}, {&p.Y.Label.TextStyle.Font, 11},
-		{&p.X.Tick.Label.Font, 10}, {&p.Y.Tick.Label.Font, 10}, {&p.Legend.TextStyle.Font, 10},
-	} {
-		*ts.font = font.From(plotSansFont, ts.size)
-	}
+	p := newPlot()
 	p.Title.Text = title
 	p.X.Label.Text = "night"
 	p.Y.Label.Text = yLabel
@@ -113,13 +104,7 @@ func NightPlot(title, yLabel string, series []NightSeries) (template.HTML, error
 	p.Legend.Left = true
 	p.Legend.XOffs = vg.Points(8)
 	p.Legend.YOffs = -vg.Points(4)
-	c := vgsvg.New(plotWidth, plotHeight)
-	p.Draw(draw.New(c))
-	var buf bytes.Buffer
-	if _, err := c.WriteTo(&buf); err != nil {
-		return "", fmt.Errorf("night plot: %w", err)
-	}
-	svg, err := inlineSVG(buf.Bytes())
+	svg, err := plotSVG(p, "night plot")
 	if err != nil {
 		return "", err
 	}
