@@ -29,6 +29,8 @@ func main() {
 		err = floor(os.Args[2:])
 	case "run":
 		err = runBench(os.Args[2:])
+	case "mem":
+		err = memBench(os.Args[2:])
 	default:
 		err = fmt.Errorf("unknown command %q", os.Args[1])
 	}

@@ -125,7 +125,7 @@ func (c *lineCache) get(a, b int32, plan *Plan, p *geodesic.Projector) (reduce.L
 	id, _, ok := c.find(lo, hi)
 	sh.mu.Unlock()
 	if !ok {
-		line, _, err := NewReduceLine(plan.points[lo].control(), plan.points[hi].control(), plan.Geodesic, p)
+		line, _, err := NewReduceLine(plan.pts.at(lo).control(), plan.pts.at(hi).control(), plan.Geodesic, p)
 		sh.mu.Lock()
 		var at int
 		if id, at, ok = c.find(lo, hi); !ok {
@@ -155,7 +155,7 @@ func (c *lineCache) line(id, a, b int32, plan *Plan) (reduce.Line, error) {
 		defer c.errMu.Unlock()
 		return reduce.Line{}, c.errs[id]
 	}
-	pa, pb := &plan.points[a], &plan.points[b]
+	pa, pb := plan.pts.at(a), plan.pts.at(b)
 	l := reduce.Line{A: pa.ll, B: pb.ll, Inverse: reduce.Inverse{Distance: rec.distance}, GridDistance: rec.grid,
 		Radius: rec.radius, CurvatureRate: rec.curvatureRate,
 		Scale: reduce.ScaleFactors{A: pa.scale, Mid: rec.kMid, B: pb.scale, Curvature: rec.curvature}}

@@ -98,7 +98,9 @@ func predicted(t *testing.T, plan *Plan, p *geodesic.Projector, obs func(a, c st
 				continue
 			}
 			a, c := fmt.Sprintf("M%d", i), fmt.Sprintf("M%d", k)
-			line, _, err := NewReduceLine(plan.points[plan.index[a]].control(), plan.points[plan.index[c]].control(), plan.Geodesic, p)
+			ia, _ := plan.pts.find(a)
+			ic, _ := plan.pts.find(c)
+			line, _, err := NewReduceLine(plan.pts.at(ia).control(), plan.pts.at(ic).control(), plan.Geodesic, p)
 			require.NoError(t, err)
 			o := obs(a, c)
 			o.InstrumentHeight, o.TargetHeight = 1.6, 1.5
