@@ -78,10 +78,13 @@ type lineRef struct{ hi, id int32 }
 type lineChunk [lineChunkSize]lineRec
 
 // lineRec is a line from its lower-numbered point to its higher, less
-// what the points hold (ends and their scale factors). A zero distance
-// marks a line that could not be computed (see lineCache.errs).
+// what the points hold: the ends, their scale factors and the grid
+// distance between them (reduce.GridDistanceBetween of the ends, as
+// reduce.NewLine has it; the same either way round, the differences only
+// changing sign). A zero distance marks a line that could not be
+// computed (see lineCache.errs). 40 bytes.
 type lineRec struct {
-	distance, grid, radius, curvatureRate, kMid, curvature float64
+	distance, radius, curvatureRate, kMid, curvature float64
 }
 
 func newLineCache(points int) *lineCache {
@@ -156,7 +159,7 @@ func (c *lineCache) line(id, a, b int32, plan *Plan) (reduce.Line, error) {
 		return reduce.Line{}, c.errs[id]
 	}
 	pa, pb := plan.pts.at(a), plan.pts.at(b)
-	l := reduce.Line{A: pa.ll, B: pb.ll, Inverse: reduce.Inverse{Distance: rec.distance}, GridDistance: rec.grid,
+	l := reduce.Line{A: pa.ll, B: pb.ll, Inverse: reduce.Inverse{Distance: rec.distance}, GridDistance: reduce.GridDistanceBetween(reduce.GridPoint(pa.grid), reduce.GridPoint(pb.grid)),
 		Radius: rec.radius, CurvatureRate: rec.curvatureRate,
 		Scale: reduce.ScaleFactors{A: pa.scale, Mid: rec.kMid, B: pb.scale, Curvature: rec.curvature}}
 	if a > b {
@@ -192,7 +195,7 @@ func (c *lineCache) store(l reduce.Line, lineErr error) (int32, error) {
 		c.errMu.Unlock()
 		return id, nil
 	}
-	ch[id%lineChunkSize] = lineRec{distance: l.Inverse.Distance, grid: l.GridDistance, radius: l.Radius,
+	ch[id%lineChunkSize] = lineRec{distance: l.Inverse.Distance, radius: l.Radius,
 		curvatureRate: l.CurvatureRate, kMid: l.Scale.Mid, curvature: l.Scale.Curvature}
 	return id, nil
 }

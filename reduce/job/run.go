@@ -104,13 +104,7 @@ func NewPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, control 
 }
 
 func newPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, points int) *Plan {
-	p := &Plan{Job: j, CRS: crs, Geodesic: g, Workers: j.Workers,
-		pts:      newPlanPoints(j.Datum, points),
-		profiles: make(map[string]planProfile, len(j.Profiles))}
-	for name, prof := range j.Profiles {
-		p.profiles[name] = planProfile{name, &prof}
-	}
-	return p
+	return &Plan{Job: j, CRS: crs, Geodesic: g, pts: newPlanPoints(j.Datum, points)}
 }
 
 // addControl keeps what a run needs of control point id, c, numbered
@@ -126,10 +120,17 @@ func (p *Plan) addControl(id string, c Control) error {
 	return nil
 }
 
-// complete ends adding points: the plan is ready to run.
+// complete ends adding points: the plan is ready to run, with the job's
+// settings as they are now (jobconfig.Job.SetTests may have changed them
+// while the points were read).
 func (p *Plan) complete() {
 	p.pts.done()
 	p.lines = newLineCache(int(p.pts.n))
+	p.Workers = p.Job.Workers
+	p.profiles = make(map[string]planProfile, len(p.Job.Profiles))
+	for name, prof := range p.Job.Profiles {
+		p.profiles[name] = planProfile{name, &prof}
+	}
 }
 
 // A PlanBuilder makes a plan from the points file's rows as they are read
@@ -146,7 +147,8 @@ type PlanBuilder struct {
 }
 
 // NewPlanBuilder prepares to plan a job whose points come from file,
-// resolved with p and seps (ResolveControl).
+// resolved with p and seps (ResolveControl). The plan takes the job's
+// datum now, and its other settings when Plan makes it.
 func NewPlanBuilder(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, file string, p *geodesic.Projector, seps Separations) *PlanBuilder {
 	return &PlanBuilder{plan: newPlan(j, crs, g, 0), file: file, proj: p, seps: seps}
 }
