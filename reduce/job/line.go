@@ -54,9 +54,13 @@ type lineCache struct {
 	adj    [][]lineRef  // by lower point: its lines, sorted by the higher point
 	next   atomic.Int32 // lines stored
 	chunks [maxLineChunks]atomic.Pointer[lineChunk]
-	grow   sync.Mutex // allocates chunks
-	errMu  sync.Mutex
-	errs   map[int32]error // lines that could not be computed
+	// kept are the lines once the runs have ended (endFinding): of each
+	// only what the summary reads, in chunks numbered as chunks were.
+	kept  []*[lineChunkSize]lineKept
+	ended bool
+	grow  sync.Mutex // allocates chunks
+	errMu sync.Mutex
+	errs  map[int32]error // lines that could not be computed
 }
 
 const (
@@ -91,11 +95,33 @@ func newLineCache(points int) *lineCache {
 	return &lineCache{adj: make([][]lineRef, points), errs: map[int32]error{}}
 }
 
-// endFinding frees the lists that find lines; the lines' records stay.
-func (c *lineCache) endFinding() { c.adj = nil }
+// lineKept is what a line keeps once the runs have ended: its distance
+// and radius (Plan.KnownLine). 16 bytes.
+type lineKept struct{ distance, radius float64 }
 
-// ended reports whether endFinding has run.
-func (c *lineCache) ended() bool { return c.adj == nil }
+// endFinding frees the lists that find lines, and replaces the lines'
+// records by what the summary reads of them, a chunk at a time, so that
+// the summary's own memory comes in the place of the rest.
+func (c *lineCache) endFinding() {
+	if c.ended {
+		return
+	}
+	c.adj, c.ended = nil, true
+	n := (int(c.next.Load()) + lineChunkSize - 1) / lineChunkSize
+	c.kept = make([]*[lineChunkSize]lineKept, min(n, maxLineChunks))
+	for k := range c.kept {
+		ch := c.chunks[k].Load()
+		if ch == nil {
+			continue
+		}
+		kept := new([lineChunkSize]lineKept)
+		for i := range ch {
+			kept[i] = lineKept{distance: ch[i].distance, radius: ch[i].radius}
+		}
+		c.kept[k] = kept
+		c.chunks[k].Store(nil)
+	}
+}
 
 // find looks the line from lo to hi up in lo's list (under lo's shard
 // lock): its number, or where to insert it.
@@ -146,13 +172,23 @@ func (c *lineCache) get(a, b int32, plan *Plan, p *geodesic.Projector) (reduce.L
 }
 
 // line rebuilds line number id, from point a to point b, from its record
-// and the points.
+// and the points; once the runs have ended, only its ends, distances and
+// radius.
 func (c *lineCache) line(id, a, b int32, plan *Plan) (reduce.Line, error) {
-	ch := c.chunks[id/lineChunkSize].Load()
-	if ch == nil {
-		return reduce.Line{}, fmt.Errorf("line %d is not in the cache", id)
+	var rec lineRec
+	if c.ended {
+		k := c.kept[id/lineChunkSize]
+		if k == nil {
+			return reduce.Line{}, fmt.Errorf("line %d is not in the cache", id)
+		}
+		rec = lineRec{distance: k[id%lineChunkSize].distance, radius: k[id%lineChunkSize].radius}
+	} else {
+		ch := c.chunks[id/lineChunkSize].Load()
+		if ch == nil {
+			return reduce.Line{}, fmt.Errorf("line %d is not in the cache", id)
+		}
+		rec = ch[id%lineChunkSize]
 	}
-	rec := &ch[id%lineChunkSize]
 	if rec.distance == 0 {
 		c.errMu.Lock()
 		defer c.errMu.Unlock()

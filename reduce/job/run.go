@@ -48,8 +48,10 @@ func (p *Plan) Points() int { return int(p.pts.n) }
 
 // EndRuns tells the plan that no more runs will use it. It frees what
 // only finding a line from its end points needs (each point's list of its
-// lines: about 18 bytes a line), and keeps what KnownLine, PointID, Mark
-// and MarkHeight read. Run on an ended plan is an error.
+// lines: about 11 bytes a line) and what only the chain reads of a line
+// (24 bytes a line), and keeps what PointID, Mark and MarkHeight read, and
+// of KnownLine's lines their ends, distances and radius (the rest is
+// zero). Run on an ended plan is an error.
 func (p *Plan) EndRuns() { p.lines.endFinding() }
 
 // Mark is the height of the point id's mark on the job's reduction
@@ -70,7 +72,8 @@ func (p *Plan) MarkHeight(i int32) float64 { return p.pts.mark(p.pts.at(i)).Heig
 
 // KnownLine is the line numbered id (Result.LineID) from point number a to
 // point number b, as a run of the plan computed it and Result.Line has
-// it; ok is false if no run has computed it, or it could not be.
+// it (after EndRuns, only its ends, Inverse.Distance, GridDistance and
+// Radius); ok is false if no run has computed it, or it could not be.
 func (p *Plan) KnownLine(id, a, b int32) (l reduce.Line, ok bool) {
 	if id < 0 || id >= p.lines.next.Load() {
 		return reduce.Line{}, false
@@ -278,7 +281,7 @@ type batch struct {
 // before it have reached the sink (for a file that cannot be read on, the
 // rows of the chunks before the one that failed).
 func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Warning), sink Sink) error {
-	if plan.lines.ended() {
+	if plan.lines.ended {
 		return errors.New("the plan's runs have ended (Plan.EndRuns)")
 	}
 	workers := plan.Workers
