@@ -11,6 +11,7 @@ import (
 	"slices"
 	"strconv"
 	"strings"
+	"time"
 )
 
 // memBench measures what geored reduce holds per control point and per
@@ -54,10 +55,8 @@ func memBench(args []string) error {
 	}
 	for _, j := range jobs {
 		d := filepath.Join(*dir, fmt.Sprintf("mem-%s-%d-%d", j.name, j.points, j.lines))
-		if _, err := os.Stat(filepath.Join(d, "observations.csv")); err != nil {
-			if err := genProcess(d, j.points, j.lines, j.obs); err != nil {
-				return err
-			}
+		if err := ensureJob(d, j.points, j.lines, j.obs); err != nil {
+			return err
 		}
 		j.name = d
 	}
@@ -70,12 +69,9 @@ func memBench(args []string) error {
 		start = append(start, r)
 		for _, j := range jobs {
 			out := filepath.Join(j.name, "out-mem")
-			if err := os.RemoveAll(out); err != nil {
-				return err
-			}
-			_, _, r, err := timeCommand([]string{*geored, "reduce", "-config", filepath.Join(j.name, "job.toml"), "-quiet", "-out", out}, "")
+			_, r, err := reducePeak(*geored, j.name, out)
 			if err != nil {
-				return fmt.Errorf("%s: %w", j.name, err)
+				return err
 			}
 			j.peaks = append(j.peaks, r)
 			if j.countedLines, err = summaryLines(filepath.Join(out, "summary.json")); err != nil {
@@ -98,12 +94,29 @@ func memBench(args []string) error {
 	return nil
 }
 
-// genProcess runs gen in a process of its own: a child's peak RSS, as
-// the kernel reports it, is at least that of the process that started it
-// (Linux carries the parent's high-water mark over the exec of a child
-// that shared its memory), so georedbench must stay small while it
-// measures, and gen on millions of lines is not.
-func genProcess(dir string, points, lines, obs int) error {
+// reducePeak runs geored reduce on the job in dir into the folder out
+// (removed first) and returns its wall time and peak RSS in KiB.
+func reducePeak(geored, dir, out string) (time.Duration, int64, error) {
+	if err := os.RemoveAll(out); err != nil {
+		return 0, 0, err
+	}
+	wall, _, rss, err := timeCommand([]string{geored, "reduce", "-config", filepath.Join(dir, "job.toml"), "-quiet", "-out", out}, "")
+	if err != nil {
+		return 0, 0, fmt.Errorf("%s: %w", dir, err)
+	}
+	return wall, rss, nil
+}
+
+// ensureJob makes the synthetic job in dir with gen unless it is there,
+// in a process of its own: a child's peak RSS, as the kernel reports it,
+// is at least that of the process that started it (Linux carries the
+// parent's high-water mark over the exec of a child that shared its
+// memory), so georedbench must stay small while it measures, and gen on
+// millions of lines is not.
+func ensureJob(dir string, points, lines, obs int) error {
+	if _, err := os.Stat(filepath.Join(dir, "observations.csv")); err == nil {
+		return nil
+	}
 	self, err := os.Executable()
 	if err != nil {
 		return err

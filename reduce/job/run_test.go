@@ -12,7 +12,6 @@ import (
 	"github.com/stretchr/testify/require"
 
 	"github.com/geored/geored/geodesic"
-	"github.com/geored/geored/io/jobconfig"
 	"github.com/geored/geored/io/obsfile"
 	"github.com/geored/geored/reduce"
 )
@@ -40,18 +39,8 @@ func testPlan(t *testing.T, workers int) (*Plan, *geodesic.Projector) {
 // planFor is testPlan for the job file text jobText.
 func planFor(t *testing.T, jobText string, workers int) (*Plan, *geodesic.Projector) {
 	t.Helper()
-	f, err := jobconfig.Parse([]byte(jobText), "job.toml")
-	require.NoError(t, err)
-	j, err := jobconfig.Resolve(f, "job.toml")
-	require.NoError(t, err)
+	j, crs, g, p := jobParts(t, jobText)
 	j.Workers = workers
-	crs, err := geodesic.OpenCRS(j.CRS)
-	require.NoError(t, err)
-	g, err := geodesic.NewGeodesic(crs.Ellipsoid())
-	require.NoError(t, err)
-	p, err := crs.NewProjector()
-	require.NoError(t, err)
-	t.Cleanup(p.Close)
 	var pts []obsfile.Point
 	for i := range 6 {
 		pts = append(pts, obsfile.Point{ID: fmt.Sprintf("M%d", i), Line: i + 2,
