@@ -128,3 +128,18 @@ fuzz: deps
 			$(if $(FUZZTMPDIR),TMPDIR=$(FUZZTMPDIR)) $(GO) test $$pkg -run '^$$' -fuzz "^$$t\$$" -fuzztime $(FUZZTIME) -fuzzminimizetime $(FUZZMINIMIZETIME); \
 		done; \
 	done
+
+# soak: geored reduce on the synthetic job (10,000 points, 200,000 lines)
+# with 1,000,000 and with 10,000,000 observations, once each; fails when
+# the long run's peak RSS exceeds the short one's by more than
+# SOAK_MAX_GROWTH MiB, that is when memory grows with the observations
+# (BENCHMARKS.md, "Memory"). The jobs (about 1.4 GB) stay in SOAK_DIR
+# for the next run; the outputs (4.3 GB of reduced.csv) are removed.
+SOAK_DIR        ?= /tmp/geored-soak
+SOAK_OBS        ?= 10000000
+SOAK_BASE_OBS   ?= 1000000
+SOAK_MAX_GROWTH ?= 16
+.PHONY: soak
+soak: build
+	$(GO) build -o bin/georedbench ./cmd/georedbench
+	./bin/georedbench soak -dir $(SOAK_DIR) -geored $(BIN) -obs $(SOAK_OBS) -base-obs $(SOAK_BASE_OBS) -max-growth $(SOAK_MAX_GROWTH)

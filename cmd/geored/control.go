@@ -103,12 +103,7 @@ func (s *session) close() {
 // loadPoints reads and resolves a points file; each warning goes to warn.
 // It returns the number of points.
 func (s *session) loadPoints(r io.Reader, name string, warn func(obsfile.Warning)) (int, error) {
-	pts, warnings, err := obsfile.ReadPoints(r, name, obsfile.PointOptions{
-		GridUnit:   s.gridUnit,
-		HeightUnit: s.unit,
-		Limits:     s.limits,
-		Delimiter:  s.delimiter,
-	})
+	pts, warnings, err := obsfile.ReadPoints(r, name, s.pointOptions())
 	for _, w := range warnings {
 		warn(w)
 	}
@@ -124,6 +119,11 @@ func (s *session) loadPoints(r io.Reader, name string, warn func(obsfile.Warning
 	}
 	s.pointFile = name
 	return len(pts), nil
+}
+
+// pointOptions are the units and limits of the session's points file.
+func (s *session) pointOptions() obsfile.PointOptions {
+	return obsfile.PointOptions{GridUnit: s.gridUnit, HeightUnit: s.unit, Limits: s.limits, Delimiter: s.delimiter}
 }
 
 func (s *session) loadPointFile(path string, warn func(obsfile.Warning)) error {

@@ -369,9 +369,18 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 	if xmlPoints == "" {
 		points = io.TeeReader(points, pointsHash)
 	}
-	nPoints, err := s.loadPoints(points, pointsName, warn)
+	// The points go straight into the plan, which keeps of each what the
+	// run needs (about 120 bytes a point), not the file's rows.
+	planned := job.NewPlanBuilder(j, s.crs, s.geod, pointsName, s.proj, s.seps)
+	warnings, err := obsfile.EachPoint(points, pointsName, s.pointOptions(), planned.Add)
+	for _, w := range warnings {
+		warn(w)
+	}
 	if err != nil {
 		return nil, plainLandXMLError(err)
+	}
+	if err := planned.Resolved(); err != nil {
+		return nil, err
 	}
 	if j.HasJobAlpha {
 		// The critical value that holds α for the whole job depends on
@@ -385,14 +394,11 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 		}
 		sum.Testing = report.Testing{Scope: report.ScopeJob, JobAlpha: j.JobAlpha, Tests: n}
 	}
-	plan, err := job.NewPlan(j, s.crs, s.geod, s.control)
+	plan, err := planned.Plan()
 	if err != nil {
 		return nil, err
 	}
-	// The plan holds what the run needs of the points: the session's map
-	// of them (about 300 bytes a point) is not kept through the run.
-	s.control, s.order = nil, nil
-	sum.Inputs = append(sum.Inputs, report.InputFile{Role: "points", Path: pointsName, SHA256: hex.EncodeToString(pointsHash.Sum(nil)), Rows: nPoints})
+	sum.Inputs = append(sum.Inputs, report.InputFile{Role: "points", Path: pointsName, SHA256: hex.EncodeToString(pointsHash.Sum(nil)), Rows: plan.Points()})
 
 	// Observation sources, hashed and counted as they stream.
 	var sources []job.Source

@@ -67,42 +67,61 @@ const maxErrors = 50
 // reports every bad row (up to 50) in one joined error, and refuses
 // repeated ids.
 func ReadPoints(r io.Reader, file string, opt PointOptions) ([]Point, []Warning, error) {
+	var pts []Point
+	seen := map[string]int{}
+	warnings, err := EachPoint(r, file, opt, func(p Point) int {
+		if first, dup := seen[p.ID]; dup {
+			return first
+		}
+		seen[p.ID] = p.Line
+		pts = append(pts, p)
+		return 0
+	})
+	if err != nil {
+		return nil, warnings, err
+	}
+	return pts, warnings, nil
+}
+
+// EachPoint reads a points file as ReadPoints does, handing each point to
+// add in file order instead of keeping them, so that a caller can keep
+// what it needs of a large file and no more. add keeps a point and
+// returns 0, or returns the line of the earlier point with the same id,
+// which makes this row a duplicate error. The points handed over before
+// an error are not valid: the file is wrong as a whole. p.ID may share
+// memory with the row (keep a copy).
+func EachPoint(r io.Reader, file string, opt PointOptions, add func(p Point) (firstLine int)) ([]Warning, error) {
 	if opt.LatLonUnit == 0 {
 		opt.LatLonUnit = units.Degrees
 	}
 	lim := opt.Limits.OrDefault()
 	t, warnings, err := openTable(r, file, pointColumns, lim, csvFormat{delim: opt.Delimiter, numeric: pointColumns[1:]})
 	if err != nil {
-		return nil, nil, err
+		return nil, err
 	}
 	if err := t.require("id"); err != nil {
-		return nil, warnings, err
+		return warnings, err
 	}
 	geo, grid := t.has("lat") && t.has("lon"), t.has("easting") && t.has("northing")
 	if !geo && !grid {
-		return nil, warnings, t.headerError(t.line, "want columns lat and lon, or easting and northing")
+		return warnings, t.headerError(t.line, "want columns lat and lon, or easting and northing")
 	}
-	var pts []Point
-	seen := map[string]int{}
+	kept := 0
 	err = t.eachRow("points", func() error {
-		if len(pts) == lim.MaxPoints {
+		if kept == lim.MaxPoints {
 			return &LimitError{File: file, Line: t.line, What: "this point", Max: lim.MaxPoints, Unit: "points", Key: LimitPointsKey}
 		}
 		p, err := t.point(opt, geo, grid)
 		if err != nil {
 			return err
 		}
-		if first, dup := seen[p.ID]; dup {
+		if first := add(p); first != 0 {
 			return t.fieldError("id", fmt.Sprintf("a unique id; %q is already on line %d", Clip(p.ID), first), nil)
 		}
-		seen[p.ID] = p.Line
-		pts = append(pts, p)
+		kept++
 		return nil
 	})
-	if err != nil {
-		return nil, warnings, err
-	}
-	return pts, warnings, nil
+	return warnings, err
 }
 
 func (t *table) point(opt PointOptions, geo, grid bool) (Point, error) {

@@ -50,9 +50,13 @@ type Aggregator struct {
 
 // lineAccs are the lines' records by number (job.Result.LineID), in
 // chunks made as numbers come, so that growing never copies them. A
-// record with no observations is a line not (yet) observed.
+// record with no observations is a line not (yet) observed. A line
+// observed more than once has a second record too (lineMore), numbered
+// as they come and kept alike.
 type lineAccs struct {
 	chunks []*[lineAccChunk]lineAcc
+	more   []*[lineAccChunk]lineMore
+	nMore  uint32
 }
 
 const lineAccChunk = 4096
@@ -67,6 +71,33 @@ func (s *lineAccs) get(id int32) *lineAcc {
 		s.chunks[c] = new([lineAccChunk]lineAcc)
 	}
 	return &s.chunks[c][int(id)%lineAccChunk]
+}
+
+// moreOf is the second record of l, nil while l has one observation.
+func (s *lineAccs) moreOf(l *lineAcc) *lineMore {
+	i := l.bits & moreIndex
+	if i == 0 {
+		return nil
+	}
+	i--
+	return &s.more[i/lineAccChunk][i%lineAccChunk]
+}
+
+// addMore gives l, which has one observation, its second record: the
+// sums of that one observation, as Aggregator.Add would have made them.
+func (s *lineAccs) addMore(l *lineAcc) *lineMore {
+	i := s.nMore
+	if i%lineAccChunk == 0 {
+		s.more = append(s.more, new([lineAccChunk]lineMore))
+	}
+	s.nMore++
+	l.bits |= i + 1
+	m := &s.more[i/lineAccChunk][i%lineAccChunk]
+	*m = lineMore{min: l.mean, max: l.mean}
+	if l.flagged == 0 {
+		m.unflaggedMean = l.mean
+	}
+	return m
 }
 
 // at returns the record of the line at position i in the order first
@@ -102,22 +133,56 @@ const DefaultGlobalTestAlpha = 0.05
 // factor (0 < α < 1).
 func (a *Aggregator) SetGlobalTestAlpha(alpha float64) { a.globalAlpha = alpha }
 
-// lineAcc accumulates one line's observations; 128 bytes.
+// lineAcc accumulates one line's observations; 64 bytes. What only a
+// line observed more than once needs is in its lineMore (48 bytes more):
+// of one observation, the mean is the arc, its smallest and largest and
+// the mean of the unflagged, and the sum of squared deviations is 0.
 type lineAcc struct {
-	from, to           int32 // point numbers, in the direction first observed
-	outliers, outOfTol int32
-	heightOff          int32    // observations whose target height disagrees with their zenith angle
-	dirN               [2]int32 // observations from → to as first seen, and the other way
-	flagged            int32    // observations flagged (Aggregator.obsFlagged)
-	mean, m2           float64  // Welford: mean reduced arc and sum of squared deviations
-	unflaggedMean      float64  // mean reduced arc of the unflagged observations
-	gridMean           float64  // mean reduced grid distance
-	min, max           float64
-	sumVar             float64 // Σσ² of the observations
-	maxAbsW            float64
-	// Each direction's sums for reciprocal zenith angles: mark-to-mark
-	// zenith angle (rad) and chord S3 (m).
-	zenith, slope [2]float64
+	from, to int32    // point numbers, in the direction first observed
+	dirN     [2]int32 // observations from → to as first seen, and the other way
+	flagged  int32    // observations flagged (Aggregator.obsFlagged)
+	// bits: lineOutlier, lineOutOfTol, lineHeightOff, and under moreIndex
+	// 1 + the number of the line's lineMore (0: none).
+	bits    uint32
+	mean    float64 // Welford: mean reduced arc
+	sumVar  float64 // Σσ² of the observations
+	maxAbsW float64
+	// The sums for reciprocal zenith angles of the direction first
+	// observed (lineMore has the other's): mark-to-mark zenith angle
+	// (rad) and chord S3 (m).
+	zenith, slope float64
+}
+
+// lineMore is the rest of a line's sums once it has two observations.
+type lineMore struct {
+	m2            float64 // Welford: sum of squared deviations of the arcs
+	unflaggedMean float64 // mean reduced arc of the unflagged observations
+	min, max      float64
+	// The other direction's sums for reciprocal zenith angles.
+	zenith, slope float64
+}
+
+// lineAcc.bits.
+const (
+	lineOutlier   = 1 << 31 // an observation's |w| is over the critical value
+	lineOutOfTol  = 1 << 30 // an observation is over the job's tolerance
+	lineHeightOff = 1 << 29 // an observation's target height disagrees with its zenith angle
+	moreIndex     = 1<<29 - 1
+)
+
+// lineSums are a line's sums, whether it has a lineMore or not.
+type lineSums struct {
+	m2, unflaggedMean, min, max float64
+	zenith, slope               [2]float64
+}
+
+func (s *lineAccs) sums(l *lineAcc) lineSums {
+	m := s.moreOf(l)
+	if m == nil {
+		return lineSums{unflaggedMean: l.mean, min: l.mean, max: l.mean, zenith: [2]float64{l.zenith}, slope: [2]float64{l.slope}}
+	}
+	return lineSums{m2: m.m2, unflaggedMean: m.unflaggedMean, min: m.min, max: m.max,
+		zenith: [2]float64{l.zenith, m.zenith}, slope: [2]float64{l.slope, m.slope}}
 }
 
 // residualAcc gathers the statistics of one set of observations'
@@ -243,48 +308,61 @@ func (a *Aggregator) Add(r *job.Result) {
 	from, to := r.Points[0], r.Points[1]
 	l := a.lines.get(r.LineID)
 	dir := 0
+	var m *lineMore // nil for the line's first observation
 	if l.count() == 0 {
 		l.from, l.to = from, to
 		a.order = append(a.order, r.LineID)
-	} else if l.from != from {
-		dir = 1
+	} else {
+		if l.from != from {
+			dir = 1
+		}
+		if m = a.lines.moreOf(l); m == nil {
+			m = a.lines.addMore(l)
+		}
 	}
 	l.dirN[dir]++
 	n := l.count()
 	arc := red.Geometry.Arc
 	d := arc - l.mean
 	l.mean += d / float64(n)
-	l.m2 += d * (arc - l.mean)
-	if n == 1 || arc < l.min {
-		l.min = arc
-	}
-	if n == 1 || arc > l.max {
-		l.max = arc
+	if m != nil {
+		m.m2 += d * (arc - l.mean)
+		if arc < m.min {
+			m.min = arc
+		}
+		if arc > m.max {
+			m.max = arc
+		}
 	}
 	if flagged {
 		l.flagged++
-	} else {
-		l.unflaggedMean += (arc - l.unflaggedMean) / float64(n-l.flagged)
+	} else if m != nil {
+		m.unflaggedMean += (arc - m.unflaggedMean) / float64(n-l.flagged)
 	}
-	l.gridMean += (red.Grid.GridDistance - l.gridMean) / float64(n)
 	l.sumVar += e.Sigma * e.Sigma
 	l.maxAbsW = math.Max(l.maxAbsW, math.Abs(e.Standardized))
 	if e.Outlier {
-		l.outliers++
+		l.bits |= lineOutlier
 	}
 	if a.hasTol && e.OutOfTolerance {
-		l.outOfTol++
+		l.bits |= lineOutOfTol
 	}
 	if red.HeightCheck.Flagged {
-		l.heightOff++
+		l.bits |= lineHeightOff
 	}
 	// Reciprocal zenith angles give k only along one chord: reduce each
 	// to the chord between the marks, z_m = z + (HT − HI) sin z / S
 	// (raising the target by HT lowers z by HT sin z / S; raising the
 	// instrument by HI raises it alike).
 	z, slope := float64(r.Obs.Zenith), red.SecondVelocity.Distance
-	l.zenith[dir] += z + (r.Obs.TargetHeight-r.Obs.InstrumentHeight)*math.Sin(z)/slope
-	l.slope[dir] += slope
+	zm := z + (r.Obs.TargetHeight-r.Obs.InstrumentHeight)*math.Sin(z)/slope
+	if dir == 0 {
+		l.zenith += zm
+		l.slope += slope
+	} else {
+		m.zenith += zm
+		m.slope += slope
+	}
 }
 
 // obsFlagged reports whether an observation is flagged: over the critical
@@ -310,34 +388,34 @@ const (
 func (a *Aggregator) line(id int32, l *lineAcc, limits *spreadLimits) Line {
 	ctl, _ := a.control.KnownLine(id, l.from, l.to) // every line reduced is known
 	n := l.count()
+	sums := a.lines.sums(l)
 	out := Line{From: a.control.PointID(l.from), To: a.control.PointID(l.to), Count: int(n), Reciprocal: l.dirN[0] > 0 && l.dirN[1] > 0,
-		Geodesic: ctl.Inverse.Distance, Grid: ctl.GridDistance, MeanArc: l.mean, SpreadMM: (l.max - l.min) * 1e3,
+		Geodesic: ctl.Inverse.Distance, Grid: ctl.GridDistance, MeanArc: l.mean, SpreadMM: (sums.max - sums.min) * 1e3,
 		MaxAbsW: l.maxAbsW}
 	if n > 1 {
-		out.StdDevMM = math.Sqrt(l.m2/float64(n-1)) * 1e3
+		out.StdDevMM = math.Sqrt(sums.m2/float64(n-1)) * 1e3
 	}
 	res := l.mean - out.Geodesic
 	sigmaObs := math.Sqrt(l.sumVar / float64(n)) // typical σ of one observation
 	sigmaMean := math.Sqrt(l.sumVar) / float64(n)
 	out.ResidualMM, out.ResidualPPM, out.SigmaMM = res*1e3, res/out.Geodesic*1e6, sigmaMean*1e3
-	out.gridResidualMM = (l.gridMean - out.Grid) * 1e3
 	out.FlaggedObservations = int(l.flagged)
 	if l.flagged < n {
-		out.UnflaggedResidualMM = (l.unflaggedMean - out.Geodesic) * 1e3
+		out.UnflaggedResidualMM = (sums.unflaggedMean - out.Geodesic) * 1e3
 	}
 	if out.Reciprocal {
 		nf, nb := float64(l.dirN[0]), float64(l.dirN[1])
-		slope := (l.slope[0]/nf + l.slope[1]/nb) / 2
-		rr, err := reduce.Reciprocal(slope, s1.Angle(l.zenith[0]/nf), s1.Angle(l.zenith[1]/nb), a.control.MarkHeight(l.from), ctl.Radius)
+		slope := (sums.slope[0]/nf + sums.slope[1]/nb) / 2
+		rr, err := reduce.Reciprocal(slope, s1.Angle(sums.zenith[0]/nf), s1.Angle(sums.zenith[1]/nb), a.control.MarkHeight(l.from), ctl.Radius)
 		if err == nil {
 			k := rr.K
 			out.K = &k
 		}
 	}
-	if l.outliers > 0 {
+	if l.bits&lineOutlier != 0 {
 		out.Flags = append(out.Flags, FlagOutlier)
 	}
-	tolFlag := l.outOfTol > 0
+	tolFlag := l.bits&lineOutOfTol != 0
 	if a.hasTol && !tolFlag {
 		if t, err := a.tolerance.At(out.Geodesic); err == nil && math.Abs(res) > t {
 			tolFlag = true
@@ -346,14 +424,14 @@ func (a *Aggregator) line(id int32, l *lineAcc, limits *spreadLimits) Line {
 	if tolFlag {
 		out.Flags = append(out.Flags, FlagTolerance)
 	}
-	if l.heightOff > 0 {
+	if l.bits&lineHeightOff != 0 {
 		out.Flags = append(out.Flags, FlagHeight)
 	}
 	// The scatter of a line's observations against their σ: (n − 1)s²/σ²
 	// follows χ² with n − 1 degrees of freedom; the line is flagged above
 	// its upper quantile at the α of the job's critical value. For two
 	// observations this is |x₁ − x₂| > critical·√2·σ.
-	if n > 1 && sigmaObs > 0 && l.m2/(sigmaObs*sigmaObs) > limits.at(int(n)-1) {
+	if n > 1 && sigmaObs > 0 && sums.m2/(sigmaObs*sigmaObs) > limits.at(int(n)-1) {
 		out.Flags = append(out.Flags, FlagSpread)
 	}
 	return out

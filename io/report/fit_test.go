@@ -94,7 +94,7 @@ func TestSummaryListsTheWorstFlaggedLines(t *testing.T) {
 	for i := range n {
 		acc := observed(a, int32(n-1-i), lineAcc{from: 0, to: 1, dirN: [2]int32{1, 0}, mean: 1000, sumVar: 1e-6, maxAbsW: float64(i % 7)})
 		if i%2 == 0 {
-			acc.outliers, acc.maxAbsW = 1, 4+float64(i)
+			acc.bits, acc.maxAbsW = lineOutlier, 4+float64(i)
 		}
 	}
 	var s Summary
@@ -140,7 +140,7 @@ func TestWriteLinesInEachLinesOrder(t *testing.T) {
 		for i := range n {
 			acc := observed(a, int32(n-1-i), lineAcc{from: 0, to: 1, dirN: [2]int32{1, 0}, mean: 1000 + float64(i)*1e-5, sumVar: 1e-6, maxAbsW: float64(i % 7)})
 			if i%5 == 0 || (i > lineBlock && i < lineBlock+40) {
-				acc.outliers, acc.maxAbsW = 1, 4+float64(i)
+				acc.bits, acc.maxAbsW = lineOutlier, 4+float64(i)
 			}
 		}
 		return a

@@ -297,8 +297,6 @@ type Line struct {
 	// the job's tolerance), "spread" (observations disagree), "height" (a
 	// target height disagrees with its zenith angle).
 	Flags []string `json:"flags,omitempty"`
-
-	gridResidualMM float64 // mean reduced grid distance − grid from control
 }
 
 // Flagged reports whether the line carries any flag.

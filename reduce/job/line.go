@@ -54,9 +54,13 @@ type lineCache struct {
 	adj    [][]lineRef  // by lower point: its lines, sorted by the higher point
 	next   atomic.Int32 // lines stored
 	chunks [maxLineChunks]atomic.Pointer[lineChunk]
-	grow   sync.Mutex // allocates chunks
-	errMu  sync.Mutex
-	errs   map[int32]error // lines that could not be computed
+	// kept are the lines once the runs have ended (endFinding): of each
+	// only what the summary reads, in chunks numbered as chunks were.
+	kept  []*[lineChunkSize]lineKept
+	ended bool
+	grow  sync.Mutex // allocates chunks
+	errMu sync.Mutex
+	errs  map[int32]error // lines that could not be computed
 }
 
 const (
@@ -78,21 +82,46 @@ type lineRef struct{ hi, id int32 }
 type lineChunk [lineChunkSize]lineRec
 
 // lineRec is a line from its lower-numbered point to its higher, less
-// what the points hold (ends and their scale factors). A zero distance
-// marks a line that could not be computed (see lineCache.errs).
+// what the points hold: the ends, their scale factors and the grid
+// distance between them (reduce.GridDistanceBetween of the ends, as
+// reduce.NewLine has it; the same either way round, the differences only
+// changing sign). A zero distance marks a line that could not be
+// computed (see lineCache.errs). 40 bytes.
 type lineRec struct {
-	distance, grid, radius, curvatureRate, kMid, curvature float64
+	distance, radius, curvatureRate, kMid, curvature float64
 }
 
 func newLineCache(points int) *lineCache {
 	return &lineCache{adj: make([][]lineRef, points), errs: map[int32]error{}}
 }
 
-// endFinding frees the lists that find lines; the lines' records stay.
-func (c *lineCache) endFinding() { c.adj = nil }
+// lineKept is what a line keeps once the runs have ended: its distance
+// and radius (Plan.KnownLine). 16 bytes.
+type lineKept struct{ distance, radius float64 }
 
-// ended reports whether endFinding has run.
-func (c *lineCache) ended() bool { return c.adj == nil }
+// endFinding frees the lists that find lines, and replaces the lines'
+// records by what the summary reads of them, a chunk at a time, so that
+// the summary's own memory comes in the place of the rest.
+func (c *lineCache) endFinding() {
+	if c.ended {
+		return
+	}
+	c.adj, c.ended = nil, true
+	n := (int(c.next.Load()) + lineChunkSize - 1) / lineChunkSize
+	c.kept = make([]*[lineChunkSize]lineKept, min(n, maxLineChunks))
+	for k := range c.kept {
+		ch := c.chunks[k].Load()
+		if ch == nil {
+			continue
+		}
+		kept := new([lineChunkSize]lineKept)
+		for i := range ch {
+			kept[i] = lineKept{distance: ch[i].distance, radius: ch[i].radius}
+		}
+		c.kept[k] = kept
+		c.chunks[k].Store(nil)
+	}
+}
 
 // find looks the line from lo to hi up in lo's list (under lo's shard
 // lock): its number, or where to insert it.
@@ -125,7 +154,7 @@ func (c *lineCache) get(a, b int32, plan *Plan, p *geodesic.Projector) (reduce.L
 	id, _, ok := c.find(lo, hi)
 	sh.mu.Unlock()
 	if !ok {
-		line, _, err := NewReduceLine(plan.points[lo].control(), plan.points[hi].control(), plan.Geodesic, p)
+		line, _, err := NewReduceLine(plan.pts.at(lo).control(), plan.pts.at(hi).control(), plan.Geodesic, p)
 		sh.mu.Lock()
 		var at int
 		if id, at, ok = c.find(lo, hi); !ok {
@@ -143,20 +172,30 @@ func (c *lineCache) get(a, b int32, plan *Plan, p *geodesic.Projector) (reduce.L
 }
 
 // line rebuilds line number id, from point a to point b, from its record
-// and the points.
+// and the points; once the runs have ended, only its ends, distances and
+// radius.
 func (c *lineCache) line(id, a, b int32, plan *Plan) (reduce.Line, error) {
-	ch := c.chunks[id/lineChunkSize].Load()
-	if ch == nil {
-		return reduce.Line{}, fmt.Errorf("line %d is not in the cache", id)
+	var rec lineRec
+	if c.ended {
+		k := c.kept[id/lineChunkSize]
+		if k == nil {
+			return reduce.Line{}, fmt.Errorf("line %d is not in the cache", id)
+		}
+		rec = lineRec{distance: k[id%lineChunkSize].distance, radius: k[id%lineChunkSize].radius}
+	} else {
+		ch := c.chunks[id/lineChunkSize].Load()
+		if ch == nil {
+			return reduce.Line{}, fmt.Errorf("line %d is not in the cache", id)
+		}
+		rec = ch[id%lineChunkSize]
 	}
-	rec := &ch[id%lineChunkSize]
 	if rec.distance == 0 {
 		c.errMu.Lock()
 		defer c.errMu.Unlock()
 		return reduce.Line{}, c.errs[id]
 	}
-	pa, pb := &plan.points[a], &plan.points[b]
-	l := reduce.Line{A: pa.ll, B: pb.ll, Inverse: reduce.Inverse{Distance: rec.distance}, GridDistance: rec.grid,
+	pa, pb := plan.pts.at(a), plan.pts.at(b)
+	l := reduce.Line{A: pa.ll, B: pb.ll, Inverse: reduce.Inverse{Distance: rec.distance}, GridDistance: reduce.GridDistanceBetween(reduce.GridPoint(pa.grid), reduce.GridPoint(pb.grid)),
 		Radius: rec.radius, CurvatureRate: rec.curvatureRate,
 		Scale: reduce.ScaleFactors{A: pa.scale, Mid: rec.kMid, B: pb.scale, Curvature: rec.curvature}}
 	if a > b {
@@ -192,7 +231,7 @@ func (c *lineCache) store(l reduce.Line, lineErr error) (int32, error) {
 		c.errMu.Unlock()
 		return id, nil
 	}
-	ch[id%lineChunkSize] = lineRec{distance: l.Inverse.Distance, grid: l.GridDistance, radius: l.Radius,
+	ch[id%lineChunkSize] = lineRec{distance: l.Inverse.Distance, radius: l.Radius,
 		curvatureRate: l.CurvatureRate, kMid: l.Scale.Mid, curvature: l.Scale.Curvature}
 	return id, nil
 }

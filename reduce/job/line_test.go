@@ -102,7 +102,7 @@ func BenchmarkNewReduceLine(b *testing.B) {
 // both ways in different orders; run under -race by make test.
 func TestLineCache(t *testing.T) {
 	plan, _ := testPlan(t, 1)
-	n := int32(len(plan.points))
+	n := int32(plan.Points())
 	cache := plan.lines
 	var wg sync.WaitGroup
 	ids := make([]map[[2]int32]int32, 4)
@@ -140,7 +140,7 @@ func TestLineCache(t *testing.T) {
 		got, _, err := cache.get(ab[0], ab[1], plan, p)
 		require.NoError(t, err)
 		lo, hi := min(ab[0], ab[1]), max(ab[0], ab[1])
-		want, _, err := NewReduceLine(plan.points[lo].control(), plan.points[hi].control(), plan.Geodesic, p)
+		want, _, err := NewReduceLine(plan.pts.at(lo).control(), plan.pts.at(hi).control(), plan.Geodesic, p)
 		require.NoError(t, err)
 		if ab[0] != lo {
 			want = want.Reversed()

@@ -7,10 +7,7 @@ import (
 	"io"
 	"runtime"
 	"slices"
-	"strings"
 	"sync"
-
-	"github.com/golang/geo/s2"
 
 	"github.com/geored/geored/geodesic"
 	"github.com/geored/geored/io/jobconfig"
@@ -37,41 +34,46 @@ type Plan struct {
 	Format func(dst []byte, r *Result) []byte
 
 	profiles map[string]planProfile // Job.Profiles, not copied per row
-	index    map[string]int32       // point id → position in points
-	points   []planPoint
-	ids      []string // by position in points
+	pts      *planPoints
 	// lines holds each line the plan's runs have met, computed once:
 	// it depends only on the plan.
 	lines *lineCache
 }
 
 // PointID is the id of the plan's point number i (Result.Points).
-func (p *Plan) PointID(i int32) string { return p.ids[i] }
+func (p *Plan) PointID(i int32) string { return p.pts.id(i) }
+
+// Points is the number of the plan's points.
+func (p *Plan) Points() int { return int(p.pts.n) }
 
 // EndRuns tells the plan that no more runs will use it. It frees what
 // only finding a line from its end points needs (each point's list of its
-// lines: about 18 bytes a line), and keeps what KnownLine, PointID, Mark
-// and MarkHeight read. Run on an ended plan is an error.
+// lines: about 11 bytes a line) and what only the chain reads of a line
+// (24 bytes a line), and keeps what PointID, Mark and MarkHeight read, and
+// of KnownLine's lines their ends, distances and radius (the rest is
+// zero). Run on an ended plan is an error.
 func (p *Plan) EndRuns() { p.lines.endFinding() }
 
 // Mark is the height of the point id's mark on the job's reduction
 // datum; false when the point is not in the plan or has no usable height.
 func (p *Plan) Mark(id string) (reduce.MarkHeight, bool) {
-	i, ok := p.index[id]
-	if !ok || !p.points[i].hasMark {
+	i, ok := p.pts.find(id)
+	if !ok {
 		return reduce.MarkHeight{}, false
 	}
-	return p.points[i].mark, true
+	pt := p.pts.at(i)
+	return p.pts.mark(pt), pt.hasMark
 }
 
 // MarkHeight is the height of point number i's mark on the job's
 // reduction datum, as the chain takes it (reduce.LineHeights.MarkA and
 // MarkB); 0 for a point without one.
-func (p *Plan) MarkHeight(i int32) float64 { return p.points[i].mark.Height }
+func (p *Plan) MarkHeight(i int32) float64 { return p.pts.mark(p.pts.at(i)).Height }
 
 // KnownLine is the line numbered id (Result.LineID) from point number a to
 // point number b, as a run of the plan computed it and Result.Line has
-// it; ok is false if no run has computed it, or it could not be.
+// it (after EndRuns, only its ends, Inverse.Distance, GridDistance and
+// Radius); ok is false if no run has computed it, or it could not be.
 func (p *Plan) KnownLine(id, a, b int32) (l reduce.Line, ok bool) {
 	if id < 0 || id >= p.lines.next.Load() {
 		return reduce.Line{}, false
@@ -86,58 +88,110 @@ type planProfile struct {
 	*jobconfig.Profile
 }
 
-// planPoint is one control point as the per-row path needs it: the mark,
-// and the end and its scale factor for the row's line. It holds no
-// pointer, so that the garbage collector, which runs often to keep the
-// peak memory down, passes over the array without reading it; the ids
-// are apart (Plan.ids).
-type planPoint struct {
-	hasMark  bool
-	mark     reduce.MarkHeight // what every row reads
-	ll       s2.LatLng
-	grid     geodesic.GridPoint
-	scale    float64
-	hasScale bool
-}
-
-// control is the point as NewReduceLine takes it.
-func (pt *planPoint) control() Control {
-	return Control{LatLng: pt.ll, Grid: pt.grid, Scale: pt.scale, HasScale: pt.hasScale}
-}
-
 // NewPlan completes a plan: the marks' heights on the job's datum. The
 // plan keeps of control what a run needs, and not the map.
 func NewPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, control map[string]Control) (*Plan, error) {
-	p := &Plan{Job: j, CRS: crs, Geodesic: g, Workers: j.Workers,
-		index: make(map[string]int32, len(control)), lines: newLineCache(len(control)),
-		points:   make([]planPoint, 0, len(control)),
-		profiles: make(map[string]planProfile, len(j.Profiles))}
-	for name, prof := range j.Profiles {
-		p.profiles[name] = planProfile{name, &prof}
-	}
+	p := newPlan(j, crs, g, len(control))
 	ids := make([]string, 0, len(control))
 	for id := range control {
 		ids = append(ids, id)
 	}
 	slices.SortFunc(ids, func(a, b string) int { return control[a].Line - control[b].Line })
-	// The ids that every row looks up, side by side in one string: the
-	// index's keys stay in a few kilobytes of cache, not scattered
-	// through the points file's rows.
-	all := strings.Join(ids, "")
-	for i, id := range ids {
-		ids[i], all = all[:len(id)], all[len(id):]
-	}
-	p.ids = ids
 	for _, id := range ids {
-		c := control[id]
-		m, ok, err := markHeight(c, j.Datum)
-		if err != nil {
-			return nil, fmt.Errorf("point %q (line %d): %w", obsfile.Clip(id), c.Line, err)
+		if err := p.addControl(id, control[id]); err != nil {
+			return nil, err
 		}
-		p.index[id] = int32(len(p.points))
-		p.points = append(p.points, planPoint{hasMark: ok, mark: m, ll: c.LatLng, grid: c.Grid, scale: c.Scale, hasScale: c.HasScale})
 	}
+	p.complete()
 	return p, nil
+}
+
+func newPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, points int) *Plan {
+	return &Plan{Job: j, CRS: crs, Geodesic: g, pts: newPlanPoints(j.Datum, points)}
+}
+
+// addControl keeps what a run needs of control point id, c, numbered
+// next; the error says why its mark has no height on the job's datum.
+func (p *Plan) addControl(id string, c Control) error {
+	m, ok, err := markHeight(c, p.Job.Datum)
+	p.pts.add(id, planPoint{hasMark: ok, orthometric: m.Orthometric, ellipsoidal: m.Ellipsoidal,
+		separation: m.Separation.N, sepSource: uint8(m.Separation.Source),
+		ll: c.LatLng, grid: c.Grid, scale: c.Scale, hasScale: c.HasScale, line: int32(c.Line)})
+	if err != nil {
+		return fmt.Errorf("point %q (line %d): %w", obsfile.Clip(id), c.Line, err)
+	}
+	return nil
+}
+
+// complete ends adding points: the plan is ready to run, with the job's
+// settings as they are now (jobconfig.Job.SetTests may have changed them
+// while the points were read).
+func (p *Plan) complete() {
+	p.pts.done()
+	p.lines = newLineCache(int(p.pts.n))
+	p.Workers = p.Job.Workers
+	p.profiles = make(map[string]planProfile, len(p.Job.Profiles))
+	for name, prof := range p.Job.Profiles {
+		p.profiles[name] = planProfile{name, &prof}
+	}
+}
+
+// A PlanBuilder makes a plan from the points file's rows as they are read
+// (obsfile.EachPoint with Add): each point resolved as ResolveControl
+// does, with its errors, and of it kept only what a run needs, never the
+// file's points nor a map of them.
+type PlanBuilder struct {
+	plan       *Plan
+	file       string
+	proj       *geodesic.Projector
+	seps       Separations
+	resolveErr error // the first point that could not be resolved
+	markErr    error // the first point whose mark has no height on the datum
+}
+
+// NewPlanBuilder prepares to plan a job whose points come from file,
+// resolved with p and seps (ResolveControl). The plan takes the job's
+// datum now, and its other settings when Plan makes it.
+func NewPlanBuilder(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, file string, p *geodesic.Projector, seps Separations) *PlanBuilder {
+	return &PlanBuilder{plan: newPlan(j, crs, g, 0), file: file, proj: p, seps: seps}
+}
+
+// Add takes the next point of the file (obsfile.EachPoint's add): it
+// returns the line of an earlier point with the same id, or else 0.
+func (b *PlanBuilder) Add(pt obsfile.Point) int {
+	if i, dup := b.plan.pts.find(pt.ID); dup {
+		return int(b.plan.pts.at(i).line)
+	}
+	var c Control
+	if b.resolveErr == nil {
+		var err error
+		if c, err = resolve(pt, b.proj, b.seps); err != nil {
+			b.resolveErr = fmt.Errorf("%s:%d: point %q: %w", b.file, pt.Line, obsfile.Clip(pt.ID), err)
+		}
+	}
+	c.Line = pt.Line
+	if err := b.plan.addControl(pt.ID, c); err != nil && b.markErr == nil {
+		b.markErr = err
+	}
+	return 0
+}
+
+// Resolved is the error of the first point that could not be resolved
+// (as ResolveControl says it), once the file is read.
+func (b *PlanBuilder) Resolved() error { return b.resolveErr }
+
+// Plan is the plan of the points added, or the error of the first point
+// that could not be resolved, or else of the first whose mark has no
+// height on the job's datum (as NewPlan says it).
+func (b *PlanBuilder) Plan() (*Plan, error) {
+	if b.resolveErr != nil {
+		return nil, b.resolveErr
+	}
+	if b.markErr != nil {
+		return nil, b.markErr
+	}
+	b.plan.complete()
+	return b.plan, nil
 }
 
 func markHeight(c Control, datum reduce.Datum) (reduce.MarkHeight, bool, error) {
@@ -227,7 +281,7 @@ type batch struct {
 // before it have reached the sink (for a file that cannot be read on, the
 // rows of the chunks before the one that failed).
 func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Warning), sink Sink) error {
-	if plan.lines.ended() {
+	if plan.lines.ended {
 		return errors.New("the plan's runs have ended (Plan.EndRuns)")
 	}
 	workers := plan.Workers
@@ -442,8 +496,8 @@ func reduceOne(plan *Plan, p *geodesic.Projector, r *Result, readErr error) {
 		return
 	}
 	r.Profile = prof.name // the plan's string: the row's may go
-	ia, okA := plan.index[o.From]
-	ib, okB := plan.index[o.To]
+	ia, okA := plan.pts.find(o.From)
+	ib, okB := plan.pts.find(o.To)
 	switch {
 	case !okA:
 		reject(fmt.Sprintf("%s: station %q is not in the points file", where, obsfile.Clip(o.From)))
@@ -452,14 +506,14 @@ func reduceOne(plan *Plan, p *geodesic.Projector, r *Result, readErr error) {
 		reject(fmt.Sprintf("%s: target %q is not in the points file", where, obsfile.Clip(o.To)))
 		return
 	}
-	a, b := &plan.points[ia], &plan.points[ib]
-	o.From, o.To = plan.ids[ia], plan.ids[ib] // the plan's strings: the row's may go
+	a, b := plan.pts.at(ia), plan.pts.at(ib)
+	o.From, o.To = plan.pts.id(ia), plan.pts.id(ib) // the plan's strings: the row's may go
 	r.Points = [2]int32{ia, ib}
 	if !a.hasMark {
 		reject(fmt.Sprintf("%s: station %q has no height on the reduction datum (%s)", where, obsfile.Clip(o.From), plan.Job.Datum))
 		return
 	}
-	markA, markB := a.mark, b.mark // markB zero: the target's height comes from the zenith angle
+	markA, markB := plan.pts.mark(a), plan.pts.mark(b) // markB zero: the target's height comes from the zenith angle
 	var err error
 	if r.Line, r.LineID, err = plan.lines.get(ia, ib, plan, p); err != nil {
 		reject(fmt.Sprintf("%s: line %s → %s: %v", where, o.From, o.To, err))
