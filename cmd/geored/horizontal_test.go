@@ -1,0 +1,151 @@
+package main
+
+import (
+	"bufio"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+
+	"github.com/golang/geo/r3"
+	"github.com/golang/geo/s2"
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+
+	"github.com/geored/geored/geodesic"
+)
+
+// horizontalJob reduces with nothing but geometry: no instrument or
+// prism constants, the air at the instrument's reference atmosphere (a
+// first velocity correction of exactly 0) and k = 0 (no second velocity
+// correction, no refraction), as the exact construction below has no
+// refraction.
+const horizontalJob = `crs = "EPSG:25832"
+points = "points.csv"
+observations = ["obs.csv"]
+geoid = "none"
+length_unit = "m"
+angle_unit = "deg"
+out = "out"
+refraction_k = 0
+default_instrument = "ts"
+[tolerance]
+constant_mm = 5
+ppm = 5
+[default_atmosphere]
+temperature_c = 12
+pressure_hpa = 1013.25
+humidity_pct = 60
+[instrument.ts]
+wavelength_um = 0.658
+reference_atmosphere = { temperature_c = 12, pressure_hpa = 1013.25, humidity_pct = 60 }
+prism_constant_mm = 0
+field_prism_constant_mm = 0
+spec_mm = 1
+spec_ppm = 1
+`
+
+// hdLine is one line of ../../testdata/reduce/horizontal_geodsolve.txt.
+type hdLine struct {
+	a, b s2.LatLng
+	s12  float64 // GeodSolve's geodesic, metres
+}
+
+func readHorizontalLines(t *testing.T) []hdLine {
+	t.Helper()
+	f, err := os.Open(filepath.Join("..", "..", "testdata", "reduce", "horizontal_geodsolve.txt"))
+	require.NoError(t, err)
+	defer f.Close()
+	var out []hdLine
+	sc := bufio.NewScanner(f)
+	for sc.Scan() {
+		fs := strings.Fields(sc.Text())
+		if len(fs) == 0 || strings.HasPrefix(fs[0], "#") {
+			continue
+		}
+		require.Len(t, fs, 7, sc.Text())
+		out = append(out, hdLine{a: s2.LatLngFromDegrees(num(t, fs[0]), num(t, fs[1])), b: s2.LatLngFromDegrees(num(t, fs[2]), num(t, fs[3])), s12: num(t, fs[6])})
+	}
+	require.NoError(t, sc.Err())
+	require.Len(t, out, 24)
+	return out
+}
+
+// Horizontal-distance observations against the exact 3-D construction:
+// for each GeodSolve line the instrument's axis and the reflector are put
+// at their ellipsoidal heights (mark + instrument or target height) in
+// earth-centred coordinates (PROJ's geodetic → geocentric), and the
+// instrument's horizontal and vertical distances are the components of
+// axis → reflector across and along the ellipsoid normal at the axis (its
+// local level frame; a straight line of sight, no refraction). Each is
+// reduced by the command twice — to a target mark of known height (route
+// "horizontal heights") and to the same mark without a height (route
+// "horizontal": its height from vd) — and each reduced ellipsoid distance
+// must be GeodSolve's geodesic between the marks within 0.05 mm. The
+// equivalent slope distance and zenith angle row reduces to the same
+// distance, to reduced.csv's 0.01 mm.
+func TestHorizontalDistanceAgainstGeodSolve(t *testing.T) {
+	lines := readHorizontalLines(t)
+	crs, err := geodesic.OpenCRS("EPSG:25832")
+	require.NoError(t, err)
+	p, err := crs.NewProjector()
+	require.NoError(t, err)
+	defer p.Close()
+
+	var pts, obs strings.Builder
+	pts.WriteString("id,lat,lon,ellipsoid_height\n")
+	obs.WriteString("obs_id,from,to,slope_distance,zenith_angle,horizontal_distance,vertical_distance,instrument_height,target_height\n")
+	const hi, ht = 1.543, 1.612
+	for i, l := range lines {
+		// invented heights: hills and valleys up to 900 m apart
+		ha := 40 + 37.5*float64(i%7)
+		hb := ha + []float64{-3, 12, -40, 85, -150, 300, 600, 900}[i%8]*(1+float64(i%3))/3
+		a, err := p.ToGeocentric(l.a, ha+hi)
+		require.NoError(t, err)
+		b, err := p.ToGeocentric(l.b, hb+ht)
+		require.NoError(t, err)
+		phi, lam := float64(l.a.Lat), float64(l.a.Lng)
+		up := r3.Vector{X: math.Cos(phi) * math.Cos(lam), Y: math.Cos(phi) * math.Sin(lam), Z: math.Sin(phi)} // the ellipsoid normal
+		d := b.Sub(a)
+		vd := d.Dot(up)
+		hd := d.Sub(up.Mul(vd)).Norm()
+		fmt.Fprintf(&pts, "A%02d,%.12f,%.12f,%.4f\nB%02d,%.12f,%.12f,%.4f\nC%02d,%.12f,%.12f,\n",
+			i, l.a.Lat.Degrees(), l.a.Lng.Degrees(), ha, i, l.b.Lat.Degrees(), l.b.Lng.Degrees(), hb, i, l.b.Lat.Degrees(), l.b.Lng.Degrees())
+		s, z := math.Hypot(hd, vd), math.Atan2(hd, vd)*180/math.Pi
+		for _, to := range []string{"B", "C"} {
+			fmt.Fprintf(&obs, "h%s%02d,A%02d,%s%02d,,,%.6f,%.6f,%g,%g\n", to, i, i, to, i, hd, vd, hi, ht)
+			fmt.Fprintf(&obs, "s%s%02d,A%02d,%s%02d,%.6f,%.10f,,,%g,%g\n", to, i, i, to, i, s, z, hi, ht)
+		}
+	}
+	dir := t.TempDir()
+	for name, text := range map[string]string{"job.toml": horizontalJob, "points.csv": pts.String(), "obs.csv": obs.String()} {
+		require.NoError(t, os.WriteFile(filepath.Join(dir, name), []byte(text), 0o644))
+	}
+	code, _, stderr := runCmd(t, "reduce", "-config", filepath.Join(dir, "job.toml"), "-quiet")
+	require.Equal(t, 0, code, stderr)
+	rows, col := readColumns(t, filepath.Join(dir, "out", "reduced.csv"))
+	require.Len(t, rows, 1+4*len(lines))
+	byID := map[string][]string{}
+	for _, r := range rows[1:] {
+		byID[r[col["obs_id"]]] = r
+	}
+	worst := 0.0
+	for i, l := range lines {
+		for to, route := range map[string]string{"B": "horizontal heights", "C": "horizontal"} {
+			h, s := byID[fmt.Sprintf("h%s%02d", to, i)], byID[fmt.Sprintf("s%s%02d", to, i)]
+			require.NotNil(t, h)
+			require.NotNil(t, s)
+			assert.Equal(t, route, h[col["route"]], "line %d", i)
+			dist, err := strconv.ParseFloat(h[col["ellipsoid_distance_m"]], 64)
+			require.NoError(t, err)
+			diff := dist - l.s12
+			worst = math.Max(worst, math.Abs(diff))
+			assert.LessOrEqualf(t, math.Abs(diff), 0.05e-3, "line %d to %s (%.0f m, %s): %.4f mm from GeodSolve", i, to, l.s12, route, diff*1e3)
+			assert.Equal(t, s[col["ellipsoid_distance_m"]], h[col["ellipsoid_distance_m"]], "line %d to %s: the slope row", i, to)
+		}
+	}
+	t.Logf("worst difference from GeodSolve: %.4f mm", worst*1e3)
+}
