@@ -95,7 +95,12 @@ func TestHorizontalDistanceAgainstGeodSolve(t *testing.T) {
 	require.NoError(t, err)
 	defer p.Close()
 
-	var pts, obs strings.Builder
+	var pts, obs, xml strings.Builder
+	xml.WriteString(`<?xml version="1.0"?>
+<LandXML xmlns="http://www.landxml.org/schema/LandXML-1.2" version="1.2">
+<Units><Metric linearUnit="meter" angularUnit="decimal degrees"/></Units>
+<Survey>
+`)
 	pts.WriteString("id,lat,lon,ellipsoid_height\n")
 	obs.WriteString("obs_id,from,to,slope_distance,zenith_angle,horizontal_distance,vertical_distance,instrument_height,target_height\n")
 	const hi, ht = 1.543, 1.612
@@ -115,13 +120,16 @@ func TestHorizontalDistanceAgainstGeodSolve(t *testing.T) {
 		fmt.Fprintf(&pts, "A%02d,%.12f,%.12f,%.4f\nB%02d,%.12f,%.12f,%.4f\nC%02d,%.12f,%.12f,\n",
 			i, l.a.Lat.Degrees(), l.a.Lng.Degrees(), ha, i, l.b.Lat.Degrees(), l.b.Lng.Degrees(), hb, i, l.b.Lat.Degrees(), l.b.Lng.Degrees())
 		s, z := math.Hypot(hd, vd), math.Atan2(hd, vd)*180/math.Pi
+		fmt.Fprintf(&xml, "<InstrumentSetup id=\"s%02d\" stationName=\"A%02d\" instrumentHeight=\"%g\"/>\n", i, i, hi)
 		for _, to := range []string{"B", "C"} {
 			fmt.Fprintf(&obs, "h%s%02d,A%02d,%s%02d,,,%.6f,%.6f,%g,%g\n", to, i, i, to, i, hd, vd, hi, ht)
+			fmt.Fprintf(&xml, "<RawObservation setupID=\"s%02d\" name=\"h%s%02d\" horizDistance=\"%.6f\" vertDistance=\"%.6f\" targetHeight=\"%g\"><TargetPoint pntRef=\"%s%02d\"/></RawObservation>\n", i, to, i, hd, vd, ht, to, i)
 			fmt.Fprintf(&obs, "s%s%02d,A%02d,%s%02d,%.6f,%.10f,,,%g,%g\n", to, i, i, to, i, s, z, hi, ht)
 		}
 	}
+	xml.WriteString("</Survey>\n</LandXML>\n")
 	dir := t.TempDir()
-	for name, text := range map[string]string{"job.toml": horizontalJob, "points.csv": pts.String(), "obs.csv": obs.String()} {
+	for name, text := range map[string]string{"job.toml": horizontalJob, "points.csv": pts.String(), "obs.csv": obs.String(), "obs.xml": xml.String()} {
 		require.NoError(t, os.WriteFile(filepath.Join(dir, name), []byte(text), 0o644))
 	}
 	code, _, stderr := runCmd(t, "reduce", "-config", filepath.Join(dir, "job.toml"), "-quiet")
@@ -148,4 +156,18 @@ func TestHorizontalDistanceAgainstGeodSolve(t *testing.T) {
 		}
 	}
 	t.Logf("worst difference from GeodSolve: %.4f mm", worst*1e3)
+
+	// The same horizontal observations from LandXML (horizDistance,
+	// vertDistance) reduce to the same rows but for their source.
+	code, _, stderr = runCmd(t, "reduce", "-config", filepath.Join(dir, "job.toml"), "-quiet", "-out", filepath.Join(dir, "outxml"), filepath.Join(dir, "obs.xml"))
+	require.Equal(t, 0, code, stderr)
+	xrows, xcol := readColumns(t, filepath.Join(dir, "outxml", "reduced.csv"))
+	require.Len(t, xrows, 1+2*len(lines))
+	for _, x := range xrows[1:] {
+		c := byID[x[xcol["obs_id"]]]
+		require.NotNil(t, c, x[xcol["obs_id"]])
+		for _, name := range []string{"route", "slope_raw_m", "zenith_deg", "height_target_m", "ellipsoid_distance_m", "grid_distance_m"} {
+			assert.Equal(t, c[col[name]], x[xcol[name]], "%s %s", x[xcol["obs_id"]], name)
+		}
+	}
 }
