@@ -22,10 +22,6 @@ type Observation struct {
 
 	SlopeDistance float64  // as the instrument stored it
 	Zenith        s1.Angle // face left, 0..π
-	// Horizontal says the row gave horizontal_distance and
-	// vertical_distance, from which SlopeDistance and Zenith were derived
-	// exactly (SlopeFromHorizontal).
-	Horizontal bool
 
 	InstrumentHeight, TargetHeight float64 // 0 where the file has no column or a blank
 
@@ -38,6 +34,10 @@ type Observation struct {
 	// the prism constant the instrument applied on the shot.
 	FieldPrismConstant    float64
 	HasFieldPrismConstant bool
+	// Horizontal says the row gave horizontal_distance and
+	// vertical_distance, from which SlopeDistance and Zenith were derived
+	// exactly (SlopeFromHorizontal). (Here, beside a bool, it takes no room.)
+	Horizontal bool
 
 	// Meteorology at the instrument and, where recorded, at the target.
 	AtInstrument, AtTarget Weather
@@ -264,13 +264,32 @@ func (o *ObsReader) parse(fields []string) (Observation, *FieldError) {
 	}
 	u := o.opt.LengthUnit
 	var fe *FieldError
-	if o.hd < 0 {
-		fe = o.slopeZenith(&ob)
-	} else {
-		fe = o.distances(&ob)
+	slope := true // the row gives slope_distance and zenith_angle
+	if o.hd >= 0 {
+		if slope, fe = o.distances(&ob); fe != nil {
+			return ob, fe
+		}
 	}
-	if fe != nil {
-		return ob, fe
+	if slope {
+		v, fe := o.number(o.slope, func() string { return fmt.Sprintf("a slope distance in %s", u) })
+		if fe != nil {
+			return ob, fe
+		}
+		if !(v > 0) || v*float64(u) > 1e5 {
+			return ob, o.bad(o.slope, fmt.Sprintf("a slope distance in %s, > 0 and at most 100 km", u))
+		}
+		ob.SlopeDistance = v * float64(u)
+		var z s1.Angle
+		var err error
+		if o.comma {
+			z, err = units.ParseZenithAngleMark(o.field(o.zenith), o.opt.AngleUnit, units.DecimalComma)
+		} else {
+			z, err = units.ParseZenithAngle(o.field(o.zenith), o.opt.AngleUnit)
+		}
+		if err != nil {
+			return ob, &FieldError{File: t.file, Line: ob.Line, Column: o.zenith + 1, Field: colZenith, Value: t.row[o.zenith], Want: zenithWant(err, o.opt.AngleUnit) + t.markText(o.field(o.zenith)), Err: err}
+		}
+		ob.Zenith = z
 	}
 	for _, h := range [...]struct {
 		i   int
@@ -308,34 +327,11 @@ func (o *ObsReader) parse(fields []string) (Observation, *FieldError) {
 	return ob, nil
 }
 
-// slopeZenith reads the row's slope_distance and zenith_angle.
-func (o *ObsReader) slopeZenith(ob *Observation) *FieldError {
-	u := o.opt.LengthUnit
-	v, fe := o.number(o.slope, func() string { return fmt.Sprintf("a slope distance in %s", u) })
-	if fe != nil {
-		return fe
-	}
-	if !(v > 0) || v*float64(u) > 1e5 {
-		return o.bad(o.slope, fmt.Sprintf("a slope distance in %s, > 0 and at most 100 km", u))
-	}
-	ob.SlopeDistance = v * float64(u)
-	var z s1.Angle
-	var err error
-	if o.comma {
-		z, err = units.ParseZenithAngleMark(o.field(o.zenith), o.opt.AngleUnit, units.DecimalComma)
-	} else {
-		z, err = units.ParseZenithAngle(o.field(o.zenith), o.opt.AngleUnit)
-	}
-	if err != nil {
-		return &FieldError{File: o.t.file, Line: ob.Line, Column: o.zenith + 1, Field: colZenith, Value: o.t.row[o.zenith], Want: zenithWant(err, o.opt.AngleUnit) + o.t.markText(o.field(o.zenith)), Err: err}
-	}
-	ob.Zenith = z
-	return nil
-}
-
 // distances reads a row of a file with horizontal_distance and
-// vertical_distance columns: either pair, given whole, and not both.
-func (o *ObsReader) distances(ob *Observation) *FieldError {
+// vertical_distance columns: either pair, given whole, and not both. It
+// reads the horizontal pair into ob, or returns slope true for a row
+// whose slope_distance and zenith_angle the caller reads.
+func (o *ObsReader) distances(ob *Observation) (bool, *FieldError) {
 	given := func(i int) bool { return i >= 0 && o.field(i) != "" }
 	slope := given(o.slope) || given(o.zenith)
 	horiz := given(o.hd) || given(o.vd)
@@ -345,39 +341,39 @@ func (o *ObsReader) distances(ob *Observation) *FieldError {
 		if !given(i) {
 			i = o.vd
 		}
-		return o.bad(i, "a blank: a row gives slope_distance and zenith_angle or horizontal_distance and vertical_distance, not both")
+		return false, o.bad(i, "a blank: a row gives slope_distance and zenith_angle or horizontal_distance and vertical_distance, not both")
 	case slope:
-		return o.slopeZenith(ob)
+		return true, nil
 	case !horiz:
 		if o.slope >= 0 {
-			return o.bad(o.slope, "a slope distance and zenith angle, or a horizontal_distance and vertical_distance")
+			return false, o.bad(o.slope, "a slope distance and zenith angle, or a horizontal_distance and vertical_distance")
 		}
-		return o.bad(o.hd, "a horizontal distance and vertical distance")
+		return false, o.bad(o.hd, "a horizontal distance and vertical distance")
 	}
 	u := o.opt.LengthUnit
 	if !given(o.vd) {
-		return o.bad(o.vd, fmt.Sprintf("a vertical distance in %s: horizontal_distance and vertical_distance go together", u))
+		return false, o.bad(o.vd, fmt.Sprintf("a vertical distance in %s: horizontal_distance and vertical_distance go together", u))
 	}
 	if !given(o.hd) {
-		return o.bad(o.hd, fmt.Sprintf("a horizontal distance in %s: horizontal_distance and vertical_distance go together", u))
+		return false, o.bad(o.hd, fmt.Sprintf("a horizontal distance in %s: horizontal_distance and vertical_distance go together", u))
 	}
 	hd, fe := o.number(o.hd, func() string { return fmt.Sprintf("a horizontal distance in %s", u) })
 	if fe != nil {
-		return fe
+		return false, fe
 	}
 	if !(hd > 0) || hd*float64(u) > 1e5 {
-		return o.bad(o.hd, fmt.Sprintf("a horizontal distance in %s, > 0 and at most 100 km", u))
+		return false, o.bad(o.hd, fmt.Sprintf("a horizontal distance in %s, > 0 and at most 100 km", u))
 	}
 	vd, fe := o.number(o.vd, func() string { return fmt.Sprintf("a vertical distance in %s", u) })
 	if fe != nil {
-		return fe
+		return false, fe
 	}
 	s, z := SlopeFromHorizontal(hd*float64(u), vd*float64(u))
 	if s > 1e5 {
-		return o.bad(o.vd, fmt.Sprintf("a vertical distance in %s that keeps the slope distance within 100 km", u))
+		return false, o.bad(o.vd, fmt.Sprintf("a vertical distance in %s that keeps the slope distance within 100 km", u))
 	}
 	ob.SlopeDistance, ob.Zenith, ob.Horizontal = s, z, true
-	return nil
+	return false, nil
 }
 
 // SlopeFromHorizontal returns the slope distance S and the face-left
