@@ -16,6 +16,7 @@ import (
 	"github.com/stretchr/testify/require"
 
 	"github.com/geored/geored/geodesic"
+	"github.com/geored/geored/io/units"
 )
 
 // horizontalJob reduces with nothing but geometry: no instrument or
@@ -170,4 +171,80 @@ func TestHorizontalDistanceAgainstGeodSolve(t *testing.T) {
 			assert.Equal(t, c[col[name]], x[xcol[name]], "%s %s", x[xcol["obs_id"]], name)
 		}
 	}
+}
+
+// The demo's observations, each also written as the horizontal and
+// vertical distance its instrument would have stored (hd = S sin z,
+// vd = S cos z), reduce alike through the demo job's constants, field
+// prism constant, atmosphere and k = 0.13: on the heights route, and on
+// the zenith route to a copy of a mark without a height.
+func TestHorizontalRowsReduceAsTheirSlopeRows(t *testing.T) {
+	var obs strings.Builder
+	n := 0
+	for _, line := range strings.Split(strings.TrimSpace(string(mustDemo(t, "demo/observations.csv"))), "\n") {
+		if strings.HasPrefix(line, "#") {
+			continue
+		}
+		f := strings.Split(line, ",")
+		if f[0] == "obs_id" {
+			obs.WriteString(line + ",horizontal_distance,vertical_distance\n")
+			continue
+		}
+		s, err := strconv.ParseFloat(f[3], 64)
+		require.NoError(t, err)
+		z, err := units.ParseZenithAngle(f[4], units.PackedDMS)
+		if err != nil {
+			continue // a row the demo has for its rejects
+		}
+		for _, to := range []string{f[2], f[2] + "-NH"} {
+			g := append([]string(nil), f...)
+			g[2] = to
+			obs.WriteString("s" + strings.Join(g[:1], "") + to + "," + strings.Join(g[1:], ",") + ",,\n")
+			g[3], g[4] = "", ""
+			obs.WriteString(fmt.Sprintf("h%s%s,%s,%.9f,%.9f\n", f[0], to, strings.Join(g[1:], ","), s*math.Sin(float64(z)), s*math.Cos(float64(z))))
+			n++
+		}
+	}
+	cfg := writeJob(t, obs.String(), "")
+	dir := filepath.Dir(cfg)
+	pts, err := os.ReadFile(filepath.Join(dir, "points.csv"))
+	require.NoError(t, err)
+	var more strings.Builder
+	for _, l := range strings.Split(string(pts), "\n") {
+		if f := strings.Split(l, ","); len(f) == 4 && !strings.HasPrefix(l, "#") && f[0] != "id" {
+			more.WriteString(f[0] + "-NH," + f[1] + "," + f[2] + ",\n")
+		}
+	}
+	require.NoError(t, os.WriteFile(filepath.Join(dir, "points.csv"), append(pts, more.String()...), 0o644))
+	code, _, stderr := runCmd(t, "reduce", "-config", cfg, "-quiet")
+	require.Contains(t, []int{0, 1}, code, stderr) // the demo's blunders are flagged
+	rows, col := readColumns(t, filepath.Join(dir, "out", "reduced.csv"))
+	byID := map[string][]string{}
+	for _, r := range rows[1:] {
+		byID[r[col["obs_id"]]] = r
+	}
+	routes := map[string]int{}
+	for id, h := range byID {
+		twin := map[byte]string{'h': "s", 's': "h"}[id[0]] + id[1:]
+		require.NotNil(t, byID[twin], "%s is reduced and %s is not", id, twin)
+		if id[0] != 'h' {
+			continue
+		}
+		s := byID[twin]
+		routes[h[col["route"]]]++
+		assert.Equal(t, map[string]string{"heights": "horizontal heights", "zenith": "horizontal"}[s[col["route"]]], h[col["route"]], id)
+		for _, name := range []string{"slope_instrument_m", "slope_chord_m", "height_target_m", "ellipsoid_distance_m", "grid_distance_m", "residual_mm"} {
+			a, err := strconv.ParseFloat(h[col[name]], 64)
+			require.NoError(t, err, "%s %s", id, name)
+			b, err := strconv.ParseFloat(s[col[name]], 64)
+			require.NoError(t, err, "%s %s", id, name)
+			tol := 1e-5 // one unit of reduced.csv's last decimal, m
+			if name == "residual_mm" {
+				tol = 0.01
+			}
+			assert.InDelta(t, b, a, tol+1e-12, "%s %s", id, name)
+		}
+	}
+	assert.Equal(t, routes["horizontal heights"], routes["horizontal"])
+	assert.Greater(t, routes["horizontal"], n/3, "most demo rows reduced (%d written)", n)
 }
