@@ -320,7 +320,7 @@ func TestLandXMLBadInput(t *testing.T) {
 		{file: "malformed.xml", stop: "malformed.xml:16:12: want well-formed XML (element <RawObservation> closed by </Survey>)"},
 		{file: "missing-target.xml", reject: map[int]string{14: "missing-target.xml:14:5: RawObservation: want a TargetPoint with the pntRef of the point sighted"}},
 		{file: "setup-without-station.xml", reject: map[int]string{16: `setup-without-station.xml:16:5: RawObservation setupID "s2": want a setup with a station: the InstrumentSetup at line 14, column 5 has no InstrumentPoint pntRef and no stationName`}},
-		{file: "no-distance.xml", reject: map[int]string{14: `no-distance.xml:14:5: RawObservation slopeDistance "": want a slope distance in m: an observation without a distance cannot be reduced`}},
+		{file: "no-distance.xml", reject: map[int]string{14: `no-distance.xml:14:5: RawObservation slopeDistance "": want a slope distance in m, or a horizDistance and vertDistance: an observation without a distance cannot be reduced`}},
 		{file: "bad-reference-and-number.xml", reject: map[int]string{
 			14: `bad-reference-and-number.xml:14:5: RawObservation setupID "s9": want the id of an InstrumentSetup earlier in the file`,
 			17: `bad-reference-and-number.xml:17:5: RawObservation slopeDistance "887,2055": want a slope distance in m, > 0 and at most 100 km`}},

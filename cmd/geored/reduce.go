@@ -110,11 +110,23 @@ folder: reduced.csv (every stage of every observation), lines.csv (per line,
 either direction), rejects.csv (rows that could not be reduced, with the
 reason), summary.json and report.html.
 
-Observation CSV columns: from, to, slope_distance, zenith_angle (required);
+Observation CSV columns: from, to, and slope_distance with zenith_angle or
+horizontal_distance with vertical_distance (required: a row gives one pair,
+whole; a file may have both pairs' columns);
 instrument_height, target_height, temperature_c, pressure_hpa, humidity_pct
 (instrument end), temperature_c_to, pressure_hpa_to, humidity_pct_to (target
 end), prism_constant_mm (the target's, mm), field_prism_constant_mm (applied
 by the instrument on the shot, mm), instrument, obs_id (optional).
+
+A horizontal_distance and vertical_distance are the instrument's own
+reduction of its slope distance S (its ppm and prism constant applied) at
+its zenith angle z, with no curvature or refraction correction: hd = S sin z
+and vd = S cos z, from the instrument's axis to the reflector, vd positive
+up (not the mark-to-mark height difference). They are turned back into
+S = sqrt(hd² + vd²) and z = atan2(hd, vd) exactly, and reduced as a slope
+distance: constants and velocity corrections on S, refraction k on z.
+reduced.csv's route says which: heights, zenith, horizontal heights, or
+horizontal (the target's height from vd and k).
 
 A file named *.xml, or whose first character other than a blank is '<', is
 LandXML 1.2: its Survey's InstrumentSetup, TargetSetup and RawObservation

@@ -16,7 +16,8 @@
 //   - Survey: InstrumentSetup (id, stationName, instrumentHeight, its
 //     InstrumentPoint pntRef), TargetSetup (id, targetHeight),
 //     ObservationGroup (setupID) and RawObservation (setupID,
-//     targetSetupID, slopeDistance, zenithAngle, targetHeight, name, its
+//     targetSetupID, slopeDistance, zenithAngle, or horizDistance and
+//     vertDistance where it has no slopeDistance, targetHeight, name, its
 //     TargetPoint pntRef) (Observations).
 //
 // Everything else, among it the instrument's details and corrections, the

@@ -15,11 +15,11 @@ import (
 
 // ObservationHeader is the first line of an Observations stream: the
 // observation CSV's columns it fills.
-const ObservationHeader = "obs_id,from,to,slope_distance,zenith_angle,instrument_height,target_height\n"
+const ObservationHeader = "obs_id,from,to,slope_distance,zenith_angle,instrument_height,target_height,horizontal_distance,vertical_distance\n"
 
 // refusedRow is the row written for an observation this reader refuses:
 // the CSV reader rejects it (no station), and Take gives the reason.
-const refusedRow = "refused,,,,,,\n"
+const refusedRow = "refused,,,,,,,,\n"
 
 // Observations reads the Survey observations of a LandXML file as an
 // observation CSV (ObservationHeader), one row per RawObservation, each
@@ -327,23 +327,40 @@ func (o *Observations) observation(p *pending) (row []byte, reason string) {
 	if st.bad != "" {
 		return nil, at("setupID", p.setup, "a setup that can be used: "+st.bad)
 	}
-	// The distance and the zenith angle.
+	// The distance and the zenith angle, or the horizontal and vertical
+	// distances (horizDistance, vertDistance: LandXML 1.2's names, from
+	// memory), which the CSV reader turns into the slope distance and
+	// zenith angle they came from (obsfile.SlopeFromHorizontal). Where the
+	// element has a slope distance, it and the zenith angle are read and
+	// any horizontal distance beside them, derived from them, is not.
 	sd, ok := get("slopeDistance")
+	var za, hd, vd string
 	if !ok || sd == "" {
-		if _, hd := get("horizDistance"); hd {
-			return nil, at("slopeDistance", sd, fmt.Sprintf("a slope distance in %s (an observation of a horizontal distance is not read)", u))
+		hd, _ = get("horizDistance")
+		if hd == "" {
+			return nil, at("slopeDistance", sd, fmt.Sprintf("a slope distance in %s, or a horizDistance and vertDistance: an observation without a distance cannot be reduced", u))
 		}
-		return nil, at("slopeDistance", sd, fmt.Sprintf("a slope distance in %s: an observation without a distance cannot be reduced", u))
-	}
-	if v, err := units.ParseFloat(sd); err != nil || !(v > 0) || v*float64(u) > 1e5 {
-		return nil, at("slopeDistance", sd, fmt.Sprintf("a slope distance in %s, > 0 and at most 100 km", u))
-	}
-	za, ok := get("zenithAngle")
-	if !ok || za == "" {
-		return nil, at("zenithAngle", za, fmt.Sprintf("a zenith angle in %s: the slope distance is reduced with it", o.opt.AngleUnit))
-	}
-	if _, err := units.ParseZenithAngle(za, o.opt.AngleUnit); err != nil {
-		return nil, at("zenithAngle", za, fmt.Sprintf("a zenith angle in %s, face left, strictly between 0 and a half turn (%v)", o.opt.AngleUnit, err))
+		if v, err := units.ParseFloat(hd); err != nil || !(v > 0) || v*float64(u) > 1e5 {
+			return nil, at("horizDistance", hd, fmt.Sprintf("a horizontal distance in %s, > 0 and at most 100 km", u))
+		}
+		vd, _ = get("vertDistance")
+		if vd == "" {
+			return nil, at("vertDistance", vd, fmt.Sprintf("the vertical distance in %s from the instrument's axis to the target, which goes with the horizDistance", u))
+		}
+		if v, err := units.ParseFloat(vd); err != nil || math.IsNaN(v) || math.Abs(v*float64(u)) > 1e5 {
+			return nil, at("vertDistance", vd, fmt.Sprintf("a vertical distance in %s, within ±100 km", u))
+		}
+	} else {
+		if v, err := units.ParseFloat(sd); err != nil || !(v > 0) || v*float64(u) > 1e5 {
+			return nil, at("slopeDistance", sd, fmt.Sprintf("a slope distance in %s, > 0 and at most 100 km", u))
+		}
+		za, ok = get("zenithAngle")
+		if !ok || za == "" {
+			return nil, at("zenithAngle", za, fmt.Sprintf("a zenith angle in %s: the slope distance is reduced with it", o.opt.AngleUnit))
+		}
+		if _, err := units.ParseZenithAngle(za, o.opt.AngleUnit); err != nil {
+			return nil, at("zenithAngle", za, fmt.Sprintf("a zenith angle in %s, face left, strictly between 0 and a half turn (%v)", o.opt.AngleUnit, err))
+		}
 	}
 	// The target and its height.
 	if !p.hasTarget || p.target == "" {
@@ -382,7 +399,7 @@ func (o *Observations) observation(p *pending) (row []byte, reason string) {
 		}
 	}
 	row = appendCSVField(o.row[:0], name)
-	for _, f := range [...]string{st.station, p.target, sd, za, st.hi, ht} {
+	for _, f := range [...]string{st.station, p.target, sd, za, st.hi, ht, hd, vd} {
 		row = append(row, ',')
 		row = appendCSVField(row, f)
 	}

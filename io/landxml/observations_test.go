@@ -188,7 +188,7 @@ func TestObservationsRefused(t *testing.T) {
 		10: `f.xml:10:1: RawObservation zenithAngle "190": want a zenith angle in dms, face left, strictly between 0 and a half turn`,
 		11: `f.xml:11:1: RawObservation: want a target other than the station "C"`,
 		12: `f.xml:12:1: RawObservation targetSetupID "zz": want the id of a TargetSetup earlier in the file`,
-		13: `f.xml:13:1: RawObservation slopeDistance "": want a slope distance in m (an observation of a horizontal distance is not read)`,
+		13: `f.xml:13:1: RawObservation vertDistance "": want the vertical distance in m from the instrument's axis to the target, which goes with the horizDistance`,
 		15: `f.xml:15:1: RawObservation targetHeight "": want the target's height above the mark (here, or its TargetSetup's; 0 if the target is on the mark) in m`,
 	}
 	require.Len(t, res.refused, len(want))

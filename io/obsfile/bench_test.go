@@ -68,6 +68,24 @@ func BenchmarkObsReaderFieldPrism(b *testing.B) {
 	benchReader(b, data)
 }
 
+// BenchmarkObsReaderHorizontal is BenchmarkObsReader on a file with both
+// pairs of distance columns, every other row giving the instrument's
+// horizontal and vertical distance instead of the slope distance and
+// zenith angle; ns/row is per row.
+func BenchmarkObsReaderHorizontal(b *testing.B) {
+	var buf bytes.Buffer
+	buf.WriteString("obs_id,from,to,slope_distance,zenith_angle,horizontal_distance,vertical_distance,instrument_height,target_height,temperature_c,pressure_hpa,humidity_pct,prism_constant_mm,instrument\n")
+	for i := range 10000 {
+		s := 1000 + float64(i)*0.37
+		pair := fmt.Sprintf("%.4f,%.6f,,", s, 89+float64(i%1000)/500)
+		if i%2 == 1 {
+			pair = fmt.Sprintf(",,%.4f,%.4f", s, float64(i%1000)/50-10)
+		}
+		fmt.Fprintf(&buf, "%d,P%05d,P%05d,%s,1.%03d,1.600,%.1f,1003.2,65,-30,ts\n", i, i%9973, (i+1)%9973, pair, i%1000, 5+float64(i%200)/10)
+	}
+	benchReader(b, buf.Bytes())
+}
+
 // BenchmarkObsChunks decodes the same file as a run does: split into
 // chunks of 16 KB, each parsed by its own reader (plainRows, as the file
 // has no quotes); ns/row is per row.

@@ -22,6 +22,8 @@ func FuzzObsReader(f *testing.F) {
 		"from,to,slope_distance,zenith_angle,prism_constant_mm,field_prism_constant_mm\nA,B,100,90,-34.4,-30\nA,B,100,90,,1e-320\n",
 		"from,to\n",
 		"",
+		"from,to,slope_distance,zenith_angle,horizontal_distance,vertical_distance\nA,B,100,90,,\nA,B,,,100,-1\nA,B,100,,,1e308\n",
+		"from;to;horizontal_distance;vertical_distance\nA;B;1e-300;-1e5\n",
 	} {
 		f.Add([]byte(seed))
 	}

@@ -34,6 +34,10 @@ type Observation struct {
 	// the prism constant the instrument applied on the shot.
 	FieldPrismConstant    float64
 	HasFieldPrismConstant bool
+	// Horizontal says the row gave horizontal_distance and
+	// vertical_distance, from which SlopeDistance and Zenith were derived
+	// exactly (SlopeFromHorizontal). (Here, beside a bool, it takes no room.)
+	Horizontal bool
 
 	// Meteorology at the instrument and, where recorded, at the target.
 	AtInstrument, AtTarget Weather
@@ -69,6 +73,8 @@ const (
 	colTo        = "to"
 	colSlope     = "slope_distance"
 	colZenith    = "zenith_angle"
+	colHD        = "horizontal_distance"
+	colVD        = "vertical_distance"
 	colHI        = "instrument_height"
 	colHT        = "target_height"
 	colTemp      = "temperature_c"
@@ -84,11 +90,11 @@ const (
 	maxHeightAbs = 1000.0 // metres: an instrument or target height beyond this is a blunder
 )
 
-var obsColumns = []string{colFrom, colTo, colSlope, colZenith, colHI, colHT, colTemp, colPressure, colHumidity,
+var obsColumns = []string{colFrom, colTo, colSlope, colZenith, colHD, colVD, colHI, colHT, colTemp, colPressure, colHumidity,
 	colTempTo, colPresTo, colHumTo, colPrism, colField, colInstr, colObsID}
 
 // obsNumeric are the observation file's columns that hold numbers.
-var obsNumeric = []string{colSlope, colZenith, colHI, colHT, colTemp, colPressure, colHumidity,
+var obsNumeric = []string{colSlope, colZenith, colHD, colVD, colHI, colHT, colTemp, colPressure, colHumidity,
 	colTempTo, colPresTo, colHumTo, colPrism, colField}
 
 // An ObsReader streams an observation file row by row; it holds one row
@@ -97,7 +103,7 @@ type ObsReader struct {
 	t   *table
 	opt ObsOptions
 	// column indexes, −1 where absent
-	from, to, slope, zenith, hi, ht, temp, pres, hum, tempTo, presTo, humTo, prism, fieldPrism, instr, obsID int
+	from, to, slope, zenith, hd, vd, hi, ht, temp, pres, hum, tempTo, presTo, humTo, prism, fieldPrism, instr, obsID int
 	// comma is whether the file's decimal mark is a comma (t.mark), as
 	// of the row being parsed.
 	comma bool
@@ -114,8 +120,9 @@ func (e *RowError) Error() string { return e.Err.Error() }
 func (e *RowError) Unwrap() error { return e.Err }
 
 // NewObsReader reads the header of an observation file. A missing required
-// column (from, to, slope_distance, zenith_angle) stops here, before any
-// work; each unknown column is one warning.
+// column (from, to, and slope_distance with zenith_angle or
+// horizontal_distance with vertical_distance) stops here, before any work;
+// each unknown column is one warning.
 func NewObsReader(r io.Reader, file string, opt ObsOptions) (*ObsReader, []Warning, error) {
 	if opt.LengthUnit == 0 || opt.AngleUnit == 0 {
 		return nil, nil, fmt.Errorf("%s: observation units not set", file)
@@ -124,7 +131,7 @@ func NewObsReader(r io.Reader, file string, opt ObsOptions) (*ObsReader, []Warni
 	if err != nil {
 		return nil, nil, err
 	}
-	if err := t.require(colFrom, colTo, colSlope, colZenith); err != nil {
+	if err := obsRequire(t); err != nil {
 		return nil, warnings, err
 	}
 	idx := func(name string) int {
@@ -134,7 +141,7 @@ func NewObsReader(r io.Reader, file string, opt ObsOptions) (*ObsReader, []Warni
 		return -1
 	}
 	o := &ObsReader{t: t, opt: opt,
-		from: idx(colFrom), to: idx(colTo), slope: idx(colSlope), zenith: idx(colZenith),
+		from: idx(colFrom), to: idx(colTo), slope: idx(colSlope), zenith: idx(colZenith), hd: idx(colHD), vd: idx(colVD),
 		hi: idx(colHI), ht: idx(colHT), temp: idx(colTemp), pres: idx(colPressure), hum: idx(colHumidity),
 		tempTo: idx(colTempTo), presTo: idx(colPresTo), humTo: idx(colHumTo),
 		prism: idx(colPrism), fieldPrism: idx(colField), instr: idx(colInstr), obsID: idx(colObsID)}
@@ -145,6 +152,22 @@ func NewObsReader(r io.Reader, file string, opt ObsOptions) (*ObsReader, []Warni
 		return nil, warnings, &HeaderError{File: file, Line: t.line, Reason: "temperature_c_to, pressure_hpa_to and humidity_pct_to go together"}
 	}
 	return o, warnings, nil
+}
+
+// obsRequire checks that the header has from, to, and slope_distance with
+// zenith_angle or horizontal_distance with vertical_distance (or both
+// pairs, each row then giving one).
+func obsRequire(t *table) error {
+	if !t.has(colHD) && !t.has(colVD) {
+		return t.require(colFrom, colTo, colSlope, colZenith)
+	}
+	if err := t.require(colFrom, colTo); err != nil {
+		return err
+	}
+	if err := t.together(colHD, colVD); err != nil {
+		return err
+	}
+	return t.together(colSlope, colZenith)
 }
 
 // Next returns the next observation. At the end it returns io.EOF. A bad
@@ -240,25 +263,34 @@ func (o *ObsReader) parse(fields []string) (Observation, *FieldError) {
 		return ob, o.bad(o.to, fmt.Sprintf("a target other than the station %q", ob.From))
 	}
 	u := o.opt.LengthUnit
-	v, fe := o.number(o.slope, func() string { return fmt.Sprintf("a slope distance in %s", u) })
-	if fe != nil {
-		return ob, fe
+	var fe *FieldError
+	slope := true // the row gives slope_distance and zenith_angle
+	if o.hd >= 0 {
+		if slope, fe = o.distances(&ob); fe != nil {
+			return ob, fe
+		}
 	}
-	if !(v > 0) || v*float64(u) > 1e5 {
-		return ob, o.bad(o.slope, fmt.Sprintf("a slope distance in %s, > 0 and at most 100 km", u))
+	if slope {
+		v, fe := o.number(o.slope, func() string { return fmt.Sprintf("a slope distance in %s", u) })
+		if fe != nil {
+			return ob, fe
+		}
+		if !(v > 0) || v*float64(u) > 1e5 {
+			return ob, o.bad(o.slope, fmt.Sprintf("a slope distance in %s, > 0 and at most 100 km", u))
+		}
+		ob.SlopeDistance = v * float64(u)
+		var z s1.Angle
+		var err error
+		if o.comma {
+			z, err = units.ParseZenithAngleMark(o.field(o.zenith), o.opt.AngleUnit, units.DecimalComma)
+		} else {
+			z, err = units.ParseZenithAngle(o.field(o.zenith), o.opt.AngleUnit)
+		}
+		if err != nil {
+			return ob, &FieldError{File: t.file, Line: ob.Line, Column: o.zenith + 1, Field: colZenith, Value: t.row[o.zenith], Want: zenithWant(err, o.opt.AngleUnit) + t.markText(o.field(o.zenith)), Err: err}
+		}
+		ob.Zenith = z
 	}
-	ob.SlopeDistance = v * float64(u)
-	var z s1.Angle
-	var err error
-	if o.comma {
-		z, err = units.ParseZenithAngleMark(o.field(o.zenith), o.opt.AngleUnit, units.DecimalComma)
-	} else {
-		z, err = units.ParseZenithAngle(o.field(o.zenith), o.opt.AngleUnit)
-	}
-	if err != nil {
-		return ob, &FieldError{File: t.file, Line: ob.Line, Column: o.zenith + 1, Field: colZenith, Value: t.row[o.zenith], Want: zenithWant(err, o.opt.AngleUnit) + t.markText(o.field(o.zenith)), Err: err}
-	}
-	ob.Zenith = z
 	for _, h := range [...]struct {
 		i   int
 		dst *float64
@@ -293,6 +325,86 @@ func (o *ObsReader) parse(fields []string) (Observation, *FieldError) {
 		return ob, err2
 	}
 	return ob, nil
+}
+
+// distances reads a row of a file with horizontal_distance and
+// vertical_distance columns: either pair, given whole, and not both. It
+// reads the horizontal pair into ob, or returns slope true for a row
+// whose slope_distance and zenith_angle the caller reads.
+func (o *ObsReader) distances(ob *Observation) (bool, *FieldError) {
+	given := func(i int) bool { return i >= 0 && o.field(i) != "" }
+	slope := given(o.slope) || given(o.zenith)
+	horiz := given(o.hd) || given(o.vd)
+	switch {
+	case slope && horiz:
+		i := o.hd
+		if !given(i) {
+			i = o.vd
+		}
+		return false, o.bad(i, "a blank: a row gives slope_distance and zenith_angle or horizontal_distance and vertical_distance, not both")
+	case slope:
+		return true, nil
+	case !horiz:
+		if o.slope >= 0 {
+			return false, o.bad(o.slope, "a slope distance and zenith angle, or a horizontal_distance and vertical_distance")
+		}
+		return false, o.bad(o.hd, "a horizontal distance and vertical distance")
+	}
+	u := o.opt.LengthUnit
+	if !given(o.vd) {
+		return false, o.bad(o.vd, fmt.Sprintf("a vertical distance in %s: horizontal_distance and vertical_distance go together", u))
+	}
+	if !given(o.hd) {
+		return false, o.bad(o.hd, fmt.Sprintf("a horizontal distance in %s: horizontal_distance and vertical_distance go together", u))
+	}
+	hd, fe := o.number(o.hd, func() string { return fmt.Sprintf("a horizontal distance in %s", u) })
+	if fe != nil {
+		return false, fe
+	}
+	if !(hd > 0) || hd*float64(u) > 1e5 {
+		return false, o.bad(o.hd, fmt.Sprintf("a horizontal distance in %s, > 0 and at most 100 km", u))
+	}
+	vd, fe := o.number(o.vd, func() string { return fmt.Sprintf("a vertical distance in %s", u) })
+	if fe != nil {
+		return false, fe
+	}
+	s, z := SlopeFromHorizontal(hd*float64(u), vd*float64(u))
+	if s > 1e5 {
+		return false, o.bad(o.vd, fmt.Sprintf("a vertical distance in %s that keeps the slope distance within 100 km", u))
+	}
+	ob.SlopeDistance, ob.Zenith, ob.Horizontal = s, z, true
+	return false, nil
+}
+
+// SlopeFromHorizontal returns the slope distance S and the face-left
+// zenith angle z from which a total station computed the horizontal
+// distance hd and the vertical distance vd it stored (metres):
+//
+//	S = sqrt(hd² + vd²),  z = atan2(hd, vd)
+//
+// The instrument's hd and vd are taken to be its own reduction of the
+// slope distance it measured (with its ppm and prism constant applied) at
+// the zenith angle it observed, at its horizon and with no correction for
+// the earth's curvature or refraction: hd = S sin z, vd = S cos z, from
+// the trunnion axis to the reflector, vd positive up (common practice for
+// total stations' horizontal and vertical distance, from memory; an
+// instrument set to correct them for curvature and refraction stores
+// other values, which this does not undo). So the conversion is exact,
+// and the chain's corrections then apply where they belong: the
+// instrument constants and the first and second velocity corrections to
+// S, refraction (k) to z, and the geometry by its routes. With both
+// marks' heights known that is the chord on Euler's radius from S; else,
+// with z' = z + δ, the zenith route's
+//
+//	ψ = atan2(S sin z', R + hA + S cos z')
+//
+// which for δ = 0 is the horizontal distance at the instrument's horizon
+// reduced through its elevation and the curvature of the horizon plane,
+// s = R atan(hd/(R + hA + vd)) (Rüeger 1996; Torge & Müller 2012
+// [memory]). Scaling hd instead of S would apply the constants to the
+// wrong length: an additive constant c lengthens hd by c sin z, not c.
+func SlopeFromHorizontal(hd, vd float64) (float64, s1.Angle) {
+	return math.Hypot(hd, vd), s1.Angle(math.Atan2(hd, vd))
 }
 
 // What a prism constant column holds, for its errors.

@@ -44,6 +44,27 @@ func ReducedHeader(u Units) []string {
 	}
 }
 
+// RouteName is reduced.csv's route: how the observation reached the
+// ellipsoid. A slope distance and zenith angle go by "heights" (both marks'
+// heights known: the chord on Euler's radius) or "zenith" (the target's
+// height from the zenith angle and k). A horizontal and vertical distance
+// (obsfile.SlopeFromHorizontal: the slope distance and zenith angle they
+// came from, exactly) go by "horizontal heights" (the chord from
+// S = sqrt(hd² + vd²)) or "horizontal" (the target's height from vd and k:
+// the horizontal distance at the instrument's horizon through its
+// elevation and the curvature of the horizon plane).
+func RouteName(horizontal bool, r reduce.Route) string {
+	switch {
+	case horizontal && r == reduce.RouteZenith:
+		return "horizontal"
+	case horizontal:
+		return "horizontal heights"
+	case r == reduce.RouteZenith:
+		return "zenith"
+	}
+	return "heights"
+}
+
 // AppendReducedRow writes one reduced observation as a CSV row (with its
 // line end) in the columns of ReducedHeader.
 func AppendReducedRow(b []byte, r *job.Result, u Units) []byte {
@@ -63,11 +84,7 @@ func AppendReducedRow(b []byte, r *job.Result, u Units) []byte {
 	b = append(b, ',')
 	b = appendField(b, r.Profile)
 	b = append(b, ',')
-	if red.Geometry.Route == reduce.RouteZenith {
-		b = append(b, "zenith"...)
-	} else {
-		b = append(b, "heights"...)
-	}
+	b = append(b, RouteName(o.Horizontal, red.Geometry.Route)...)
 	in, fv, sv := &red.Instrument, &red.FirstVelocity, &red.SecondVelocity
 	b = append(b, ',')
 	b = length(b, in.Raw)
