@@ -27,3 +27,9 @@ func openerOf(t testing.TB, plan *Plan) Opener {
 		return c, w, nil
 	}
 }
+
+// The command's reader of observation files is the run's source of rows.
+var (
+	_ ChunkSource = (*obsfile.ObsChunker)(nil)
+	_ RowError    = (*obsfile.RowError)(nil)
+)
