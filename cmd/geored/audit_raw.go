@@ -37,7 +37,7 @@ func reduceRaw(ctx context.Context, j *jobconfig.Job, s *session, obsIn observat
 	if len(j.Profiles) == 0 {
 		return nil, errors.New("raw observations need an instrument profile to be reduced: give [instrument.NAME] with wavelength_um, a reference, spec_mm and spec_ppm (or the instrument flags)")
 	}
-	plan, err := job.NewPlan(j, s.crs, s.geod, s.control)
+	plan, err := job.NewPlan(j.Settings(), s.crs, s.geod, s.control)
 	if err != nil {
 		return nil, err
 	}
@@ -58,7 +58,7 @@ func reduceRaw(ctx context.Context, j *jobconfig.Job, s *session, obsIn observat
 	warnObs := func(w obsfile.Warning) { warn(w.String()) }
 	rows := map[string]int{}
 	raw := job.NewRawLines()
-	err = job.Run(ctx, plan, sources, warnObs, func(r *job.Result) error {
+	err = job.Run(ctx, plan, sources, obsOpener(j), warnObs, func(r *job.Result) error {
 		if len(xml) > 0 {
 			xml.fix(r, u)
 		}

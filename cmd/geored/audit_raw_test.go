@@ -77,7 +77,7 @@ func newRawScenario(t *testing.T) *rawScenario {
 	t.Cleanup(s.close)
 	_, err = s.loadPoints(strings.NewReader(pts), "points.csv", warnTo(os.Stderr))
 	require.NoError(t, err)
-	plan, err := job.NewPlan(j, s.crs, s.geod, s.control)
+	plan, err := job.NewPlan(j.Settings(), s.crs, s.geod, s.control)
 	require.NoError(t, err)
 	sim := &simulator{job: j, s: s, plan: plan}
 	chain := sim.profile().Chain

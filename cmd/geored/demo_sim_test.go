@@ -123,7 +123,7 @@ func newSimulator(t *testing.T, jobTOML, points []byte) *simulator {
 		s.close()
 		require.NoError(t, err)
 	}
-	plan, err := job.NewPlan(j, s.crs, s.geod, s.control)
+	plan, err := job.NewPlan(j.Settings(), s.crs, s.geod, s.control)
 	if err != nil {
 		s.close()
 		require.NoError(t, err)

@@ -86,7 +86,7 @@ func writeNoiseJob(t *testing.T, nObs int, seed uint64) string {
 	defer s.close()
 	_, err = s.loadPoints(strings.NewReader(pb.String()), "points.csv", warnTo(os.Stderr))
 	require.NoError(t, err)
-	plan, err := job.NewPlan(j, s.crs, s.geod, s.control)
+	plan, err := job.NewPlan(j.Settings(), s.crs, s.geod, s.control)
 	require.NoError(t, err)
 	prof := j.Profiles["ts"]
 

@@ -116,7 +116,7 @@ func openJobWorld(j *jobconfig.Job, stderr io.Writer) (*jobWorld, error) {
 		s.close()
 		return nil, err
 	}
-	if w.plan, err = job.NewPlan(j, s.crs, s.geod, s.control); err != nil {
+	if w.plan, err = job.NewPlan(j.Settings(), s.crs, s.geod, s.control); err != nil {
 		s.close()
 		return nil, err
 	}

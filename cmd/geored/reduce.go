@@ -383,7 +383,7 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 	}
 	// The points go straight into the plan, which keeps of each what the
 	// run needs (about 120 bytes a point), not the file's rows.
-	planned := job.NewPlanBuilder(j, s.crs, s.geod, pointsName, s.proj, s.seps)
+	planned := job.NewPlanBuilder(j.Settings(), s.crs, s.geod, pointsName, s.proj, s.seps)
 	warnings, err := obsfile.EachPoint(points, pointsName, s.pointOptions(), planned.Add)
 	for _, w := range warnings {
 		warn(w)
@@ -461,7 +461,7 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 	var rows atomic.Int64
 	stop := startProgress(opt.progress, &read, &rows, total)
 	hook := opt.set.Hook
-	err = job.Run(ctx, plan, sources, warn, func(r *job.Result) error {
+	err = job.Run(ctx, plan, sources, obsOpener(j), warn, func(r *job.Result) error {
 		if len(xml) > 0 {
 			xml.fix(r, u)
 		}
@@ -631,15 +631,15 @@ func settings(j *jobconfig.Job, crs *geodesic.CRS, geoidGrid string, strict bool
 		st.JobAlpha = j.JobAlpha
 	}
 	for _, n := range j.ProfileNames() {
-		p := j.Profiles[n]
+		p, in := j.Profiles[n], j.Instruments[n]
 		rowPrism := p.RowPrism.String()
 		if rowPrism == "" {
 			rowPrism = "not given"
 		}
 		st.Instruments = append(st.Instruments, report.InstrumentSettings{
 			Name: n, WavelengthUM: p.Chain.Carrier.WavelengthUM, ReferenceRefractivity: p.Chain.Carrier.ReferenceRefractivity,
-			AdditiveConstantMM: p.Source.AdditiveConstantMM, ScalePPM: p.Source.ScalePPM, PrismConstantMM: p.Source.PrismConstantMM,
-			AppliedPPM: p.Source.FieldPPM, AppliedPrismMM: p.Source.FieldPrismConstantMM, RowPrismConstant: rowPrism,
+			AdditiveConstantMM: in.AdditiveConstantMM, ScalePPM: in.ScalePPM, PrismConstantMM: in.PrismConstantMM,
+			AppliedPPM: in.FieldPPM, AppliedPrismMM: in.FieldPrismConstantMM, RowPrismConstant: rowPrism,
 			Spec: jobconfig.SpecText(p.Chain.Budget.Instrument)})
 	}
 	return st
@@ -826,4 +826,18 @@ func writeHeapProfile(path string) error {
 		return err
 	}
 	return f.Close()
+}
+
+// obsOpener opens the run's observation files, and LandXML files as the
+// CSV stream that io/landxml makes of them, with io/obsfile's chunker in
+// the job's units, limits and delimiter.
+func obsOpener(j *jobconfig.Job) job.Opener {
+	opt := j.ObsOptions()
+	return func(src job.Source) (job.ChunkSource, []obsfile.Warning, error) {
+		c, warnings, err := obsfile.NewObsChunker(src.Reader, src.Name, opt)
+		if err != nil {
+			return nil, warnings, err // not a nil *ObsChunker in the interface
+		}
+		return c, warnings, nil
+	}
 }

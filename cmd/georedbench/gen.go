@@ -131,7 +131,7 @@ func gen(args []string) error {
 	if err != nil {
 		return err
 	}
-	plan, err := job.NewPlan(j, crs, g, control)
+	plan, err := job.NewPlan(j.Settings(), crs, g, control)
 	if err != nil {
 		return err
 	}

@@ -12,6 +12,7 @@ import (
 	"github.com/geored/geored/io/obsfile"
 	"github.com/geored/geored/io/units"
 	"github.com/geored/geored/reduce"
+	"github.com/geored/geored/reduce/input"
 )
 
 // Defaults where the job says nothing.
@@ -75,7 +76,9 @@ type Job struct {
 	DefaultAtmosphere    reduce.Atmosphere
 	HasDefaultAtmosphere bool
 
-	Profiles          map[string]Profile
+	Profiles map[string]Profile
+	// Instruments are the profiles' settings as read, for the record.
+	Instruments       map[string]Instrument
 	DefaultInstrument string
 	Workers           int
 
@@ -86,18 +89,15 @@ type Job struct {
 	Delimiter obsfile.Delimiter
 }
 
-// Profile is one instrument profile, ready for the chain.
-type Profile struct {
-	Name string
-	// Chain holds everything of reduce.Job for this instrument.
-	Chain reduce.Job
-	// PrismConstant is the targets' prism constant where a row gives
-	// none, metres.
-	PrismConstant float64
-	// RowPrism says what a row's prism_constant_mm is (Prisms).
-	RowPrism RowPrismReading
-	// Settings as read, for the record.
-	Source Instrument
+// Profile is one instrument profile, ready for the chain; Job.Instruments
+// keeps its settings as read.
+type Profile = input.Profile
+
+// Settings are what a run of the pipeline (reduce/job) reads of the job.
+// Its profiles are the job's map, so that SetTests reaches them.
+func (j *Job) Settings() *input.Settings {
+	return &input.Settings{Datum: j.Datum, Profiles: j.Profiles, DefaultInstrument: j.DefaultInstrument,
+		HasDefaultAtmosphere: j.HasDefaultAtmosphere, Workers: j.Workers, LengthUnit: j.LengthUnit}
 }
 
 // ProfileNames lists the profiles in order.
@@ -189,6 +189,7 @@ func ResolveFor(f File, name string, need Needs) (*Job, error) {
 	budget := j.budget(f.Centring, pr)
 
 	j.Profiles = map[string]Profile{}
+	j.Instruments = map[string]Instrument{}
 	for pname, in := range f.Instrument {
 		p, ok := profile(pname, in, pr)
 		if !ok {
@@ -201,6 +202,7 @@ func ResolveFor(f File, name string, need Needs) (*Job, error) {
 		b.Instrument = p.Chain.Budget.Instrument
 		p.Chain.Budget = b
 		j.Profiles[pname] = p
+		j.Instruments[pname] = in
 	}
 	j.DefaultInstrument = f.DefaultInstrument
 	if j.DefaultInstrument == "" && len(f.Instrument) == 1 {
@@ -402,7 +404,6 @@ func profile(name string, in Instrument, pr *problems) (Profile, bool) {
 		},
 		PrismConstant: in.PrismConstantMM / 1000,
 		RowPrism:      rowPrism,
-		Source:        in,
 	}, true
 }
 
@@ -492,3 +493,9 @@ func deref(p *float64) float64 {
 }
 
 func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
+
+// ObsOptions are the job's units, limits and delimiter for reading its
+// observation files.
+func (j *Job) ObsOptions() obsfile.ObsOptions {
+	return obsfile.ObsOptions{LengthUnit: j.LengthUnit, AngleUnit: j.AngleUnit, Limits: j.Limits, Delimiter: j.Delimiter}
+}

@@ -56,6 +56,9 @@ func TestRowPrismConstantSetting(t *testing.T) {
 // where each came from.
 func TestPrisms(t *testing.T) {
 	const mm = 1e-3
+	prisms := func(target, applied float64, targetFrom, appliedFrom PrismOrigin) Prisms {
+		return Prisms{Target: target, Applied: applied, TargetFrom: targetFrom, AppliedFrom: appliedFrom}
+	}
 	type row struct {
 		prism, field       float64
 		hasPrism, hasField bool
@@ -74,21 +77,21 @@ func TestPrisms(t *testing.T) {
 	}{
 		// No reading given: rows that agree with the profile's field
 		// constant, or give none, are known; a −34.4 row is ambiguous.
-		{"", p30, Prisms{-30 * mm, -30 * mm, PrismFromRow, PrismFromProfile}, PrismsKnown},
-		{"", none, Prisms{-30 * mm, -30 * mm, PrismFromProfile, PrismFromProfile}, PrismsKnown},
-		{"", p34, Prisms{-34.4 * mm, -30 * mm, PrismFromRow, PrismFromProfile}, PrismsAmbiguous},
-		{"", both, Prisms{-34.4 * mm, -30 * mm, PrismFromRow, PrismFromRow}, PrismsKnown},
-		{"", fieldOnly, Prisms{-30 * mm, -34.4 * mm, PrismFromProfile, PrismFromRow}, PrismsKnown},
+		{"", p30, prisms(-30*mm, -30*mm, PrismFromRow, PrismFromProfile), PrismsKnown},
+		{"", none, prisms(-30*mm, -30*mm, PrismFromProfile, PrismFromProfile), PrismsKnown},
+		{"", p34, prisms(-34.4*mm, -30*mm, PrismFromRow, PrismFromProfile), PrismsAmbiguous},
+		{"", both, prisms(-34.4*mm, -30*mm, PrismFromRow, PrismFromRow), PrismsKnown},
+		{"", fieldOnly, prisms(-30*mm, -34.4*mm, PrismFromProfile, PrismFromRow), PrismsKnown},
 		// The row's constant is the target's; the instrument applied −30.
-		{`row_prism_constant = "target"`, p34, Prisms{-34.4 * mm, -30 * mm, PrismFromRow, PrismFromProfile}, PrismsKnown},
-		{`row_prism_constant = "target"`, none, Prisms{-30 * mm, -30 * mm, PrismFromProfile, PrismFromProfile}, PrismsKnown},
-		{`row_prism_constant = "target"`, both, Prisms{-34.4 * mm, -30 * mm, PrismFromRow, PrismFromRow}, PrismsKnown},
+		{`row_prism_constant = "target"`, p34, prisms(-34.4*mm, -30*mm, PrismFromRow, PrismFromProfile), PrismsKnown},
+		{`row_prism_constant = "target"`, none, prisms(-30*mm, -30*mm, PrismFromProfile, PrismFromProfile), PrismsKnown},
+		{`row_prism_constant = "target"`, both, prisms(-34.4*mm, -30*mm, PrismFromRow, PrismFromRow), PrismsKnown},
 		// The instrument applied each row's own constant.
-		{`row_prism_constant = "applied"`, p34, Prisms{-34.4 * mm, -34.4 * mm, PrismFromRow, PrismFromRowPrism}, PrismsKnown},
-		{`row_prism_constant = "applied"`, p30, Prisms{-30 * mm, -30 * mm, PrismFromRow, PrismFromRowPrism}, PrismsKnown},
-		{`row_prism_constant = "applied"`, none, Prisms{-30 * mm, -30 * mm, PrismFromProfile, PrismFromProfile}, PrismsKnown},
-		{`row_prism_constant = "applied"`, bothSame, Prisms{-34.4 * mm, -34.4 * mm, PrismFromRow, PrismFromRow}, PrismsKnown},
-		{`row_prism_constant = "applied"`, both, Prisms{-34.4 * mm, -30 * mm, PrismFromRow, PrismFromRow}, PrismsContradict},
+		{`row_prism_constant = "applied"`, p34, prisms(-34.4*mm, -34.4*mm, PrismFromRow, PrismFromRowPrism), PrismsKnown},
+		{`row_prism_constant = "applied"`, p30, prisms(-30*mm, -30*mm, PrismFromRow, PrismFromRowPrism), PrismsKnown},
+		{`row_prism_constant = "applied"`, none, prisms(-30*mm, -30*mm, PrismFromProfile, PrismFromProfile), PrismsKnown},
+		{`row_prism_constant = "applied"`, bothSame, prisms(-34.4*mm, -34.4*mm, PrismFromRow, PrismFromRow), PrismsKnown},
+		{`row_prism_constant = "applied"`, both, prisms(-34.4*mm, -30*mm, PrismFromRow, PrismFromRow), PrismsContradict},
 	} {
 		p, err := prismJob(t, c.reading)
 		require.NoError(t, err)

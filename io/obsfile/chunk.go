@@ -8,6 +8,8 @@ import (
 	"strings"
 	"sync/atomic"
 	"unsafe"
+
+	"github.com/geored/geored/reduce/input"
 )
 
 // An ObsChunker splits an observation file, after its header, into chunks
@@ -127,6 +129,11 @@ func (c *ObsChunker) Reader(data []byte, firstLine int) *ObsReader {
 	o := *c.head
 	o.t = &t
 	return &o
+}
+
+// Rows is Reader for the pipeline (reduce/job.ChunkSource).
+func (c *ObsChunker) Rows(data []byte, firstLine int) input.RowReader {
+	return c.Reader(data, firstLine)
 }
 
 // plainRows splits text without quotes into rows at line breaks and into

@@ -11,6 +11,7 @@ import (
 	"strings"
 
 	"github.com/geored/geored/io/units"
+	"github.com/geored/geored/reduce/input"
 )
 
 // table reads a CSV file with a header row, mapping column names to field
@@ -350,16 +351,7 @@ func (t *table) raw() string { return JoinRow(t.row, t.delim) }
 // JoinRow writes fields as one CSV row delimited by d (a comma where d is
 // DelimiterAuto), without its line end: a row as written, for a rejects
 // file.
-func JoinRow(fields []string, d Delimiter) string {
-	var b strings.Builder
-	w := csv.NewWriter(&b)
-	if d != DelimiterAuto {
-		w.Comma = rune(d)
-	}
-	w.Write(fields)
-	w.Flush()
-	return strings.TrimRight(b.String(), "\n")
-}
+func JoinRow(fields []string, d Delimiter) string { return input.JoinRow(fields, byte(d)) }
 
 // csvError is a reading error as the file's: encoding/csv's with the
 // file's line (the line where the row began, for a quoted field never

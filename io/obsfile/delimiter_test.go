@@ -65,7 +65,7 @@ func TestObservationsAnyDelimiter(t *testing.T) {
 			require.NoError(t, err, name)
 			require.Len(t, got, len(want), name)
 			for i := range got {
-				assert.Equal(t, Delimiter(c.delim), got[i].Delimiter)
+				assert.Equal(t, byte(c.delim), got[i].Delimiter)
 				got[i].Fields, want[i].Fields, got[i].Delimiter, want[i].Delimiter = nil, nil, 0, 0
 				assert.Equal(t, want[i], got[i], name) // exact: the same digits
 			}

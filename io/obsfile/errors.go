@@ -3,6 +3,8 @@ package obsfile
 import (
 	"fmt"
 	"strconv"
+
+	"github.com/geored/geored/reduce/input"
 )
 
 // A FieldError is a bad value in a CSV file.
@@ -42,11 +44,5 @@ func (e *HeaderError) Error() string {
 }
 
 // A Warning is something the reader noticed and went on from, such as a
-// column it does not know.
-type Warning struct {
-	File string
-	Line int
-	Text string
-}
-
-func (w Warning) String() string { return fmt.Sprintf("%s:%d: %s", w.File, w.Line, w.Text) }
+// column it does not know (input.Warning).
+type Warning = input.Warning

@@ -10,52 +10,15 @@ import (
 	"github.com/golang/geo/s1"
 
 	"github.com/geored/geored/io/units"
+	"github.com/geored/geored/reduce/input"
 )
 
 // An Observation is one row of an observation file, in metres and
-// radians. Optional values carry a Has flag.
-type Observation struct {
-	File string
-	Line int
-
-	ObsID, From, To, Instrument string
-
-	SlopeDistance float64  // as the instrument stored it
-	Zenith        s1.Angle // face left, 0..π
-
-	InstrumentHeight, TargetHeight float64 // 0 where the file has no column or a blank
-
-	// PrismConstant is the row's prism_constant_mm, metres (the file
-	// gives mm): the target's true constant, or, where the job's profile
-	// says so, also the one the instrument applied.
-	PrismConstant    float64
-	HasPrismConstant bool
-	// FieldPrismConstant is the row's field_prism_constant_mm, metres:
-	// the prism constant the instrument applied on the shot.
-	FieldPrismConstant    float64
-	HasFieldPrismConstant bool
-	// Horizontal says the row gave horizontal_distance and
-	// vertical_distance, from which SlopeDistance and Zenith were derived
-	// exactly (SlopeFromHorizontal). (Here, beside a bool, it takes no room.)
-	Horizontal bool
-
-	// Meteorology at the instrument and, where recorded, at the target.
-	AtInstrument, AtTarget Weather
-
-	// Fields is the row as read, for the rejects file if a later stage
-	// cannot reduce it; Delimiter is its file's.
-	Fields    []string
-	Delimiter Delimiter
-}
-
-// Raw is the row as written, re-joined as CSV with its file's delimiter.
-func (o *Observation) Raw() string { return JoinRow(o.Fields, o.Delimiter) }
-
-// Weather is one end's meteorology.
-type Weather struct {
-	TemperatureC, PressureHPa, HumidityPct float64
-	Has                                    bool
-}
+// radians (input.Observation); Weather is one end's meteorology.
+type (
+	Observation = input.Observation
+	Weather     = input.Weather
+)
 
 // ObsOptions say the units of an observation file.
 type ObsOptions struct {
@@ -118,6 +81,12 @@ type RowError struct {
 
 func (e *RowError) Error() string { return e.Err.Error() }
 func (e *RowError) Unwrap() error { return e.Err }
+
+// RejectedRow says where the row is and what it was, for its reject
+// (reduce/job.RowError).
+func (e *RowError) RejectedRow() (file string, line int, raw string) {
+	return e.Err.File, e.Err.Line, e.Raw
+}
 
 // NewObsReader reads the header of an observation file. A missing required
 // column (from, to, and slope_distance with zenith_angle or
@@ -252,7 +221,7 @@ func (o *ObsReader) parse(fields []string) (Observation, *FieldError) {
 	t := o.t
 	ob := Observation{File: t.file, Line: t.line,
 		From: o.field(o.from), To: o.field(o.to), Instrument: o.field(o.instr), ObsID: o.field(o.obsID),
-		Fields: fields, Delimiter: t.delim}
+		Fields: fields, Delimiter: byte(t.delim)}
 	if ob.From == "" {
 		return ob, o.bad(o.from, "the id of the instrument station")
 	}

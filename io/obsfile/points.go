@@ -9,31 +9,12 @@ import (
 	"github.com/golang/geo/s2"
 
 	"github.com/geored/geored/io/units"
+	"github.com/geored/geored/reduce/input"
 )
 
-// A Point is one control point of the points file. Lengths are metres.
-type Point struct {
-	ID   string
-	Line int // line in the points file
-
-	// LatLng is the geodetic position on the job CRS's datum, when the
-	// file gives lat and lon.
-	LatLng    s2.LatLng
-	HasLatLng bool
-	// Easting and Northing are the grid position in metres, when the file
-	// gives easting and northing (in the CRS's unit, converted here).
-	Easting, Northing float64
-	HasGrid           bool
-
-	// EllipsoidHeight h, Elevation H (orthometric) and GeoidSeparation N,
-	// each where the file gives it.
-	EllipsoidHeight    float64
-	HasEllipsoidHeight bool
-	Elevation          float64
-	HasElevation       bool
-	GeoidSeparation    float64
-	HasGeoidSeparation bool
-}
+// A Point is one row of a points file, in metres and radians
+// (input.Point).
+type Point = input.Point
 
 // PointOptions say the units of the points file.
 type PointOptions struct {

@@ -121,3 +121,9 @@ func FormatLength(m float64, u LengthUnit, decimals int) (string, error) {
 	}
 	return strconv.FormatFloat(v, 'f', decimals, 64), nil
 }
+
+// FormatLength is FormatLength(m, u, decimals): a LengthUnit writes
+// lengths for the pipeline's messages (reduce/input.LengthUnit).
+func (u LengthUnit) FormatLength(m float64, decimals int) (string, error) {
+	return FormatLength(m, u, decimals)
+}

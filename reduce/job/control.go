@@ -7,8 +7,8 @@ import (
 	"github.com/golang/geo/s2"
 
 	"github.com/geored/geored/geodesic"
-	"github.com/geored/geored/io/obsfile"
 	"github.com/geored/geored/reduce"
+	"github.com/geored/geored/reduce/input"
 )
 
 // HeightSource says how a control point's ellipsoidal height was found.
@@ -78,12 +78,12 @@ type Separations struct {
 // one or the other way round, and h = H + N. A point that gives both
 // positions must agree with itself to 1 mm on the grid; the error says by
 // how much it does not.
-func ResolveControl(points []obsfile.Point, file string, p *geodesic.Projector, seps Separations) (map[string]Control, error) {
+func ResolveControl(points []input.Point, file string, p *geodesic.Projector, seps Separations) (map[string]Control, error) {
 	out := make(map[string]Control, len(points))
 	for _, pt := range points {
 		c, err := resolve(pt, p, seps)
 		if err != nil {
-			return nil, fmt.Errorf("%s:%d: point %q: %w", file, pt.Line, obsfile.Clip(pt.ID), err)
+			return nil, fmt.Errorf("%s:%d: point %q: %w", file, pt.Line, input.Clip(pt.ID), err)
 		}
 		out[pt.ID] = c
 	}
@@ -94,7 +94,7 @@ func ResolveControl(points []obsfile.Point, file string, p *geodesic.Projector, 
 // the projection of its given geodetic position, in metres.
 const gridAgreement = 1e-3
 
-func resolve(pt obsfile.Point, p *geodesic.Projector, seps Separations) (Control, error) {
+func resolve(pt input.Point, p *geodesic.Projector, seps Separations) (Control, error) {
 	c := Control{ID: pt.ID, Line: pt.Line}
 	var err error
 	switch {

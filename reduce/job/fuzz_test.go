@@ -88,6 +88,7 @@ spec_ppm = 2
 // PROJ's handles are cgo, too costly to make per input.
 type fuzzFixture struct {
 	plan    *job.Plan
+	job     *jobconfig.Job
 	proj    *geodesic.Projector
 	units   report.Units
 	numeric []bool // reduced.csv's columns that hold numbers
@@ -114,9 +115,9 @@ func newFuzzFixtures(f *testing.F) []fuzzFixture {
 		require.NoError(f, err)
 		control, err := job.ResolveControl(pts, "points.csv", p, job.Separations{})
 		require.NoError(f, err)
-		plan, err := job.NewPlan(j, crs, g, control)
+		plan, err := job.NewPlan(j.Settings(), crs, g, control)
 		require.NoError(f, err)
-		out = append(out, fuzzFixture{plan: plan, proj: p, units: report.Units{Length: j.LengthUnit, Angle: j.AngleUnit}})
+		out = append(out, fuzzFixture{plan: plan, job: j, proj: p, units: report.Units{Length: j.LengthUnit, Angle: j.AngleUnit}})
 	}
 	return out
 }
@@ -174,7 +175,7 @@ func FuzzReduceRow(f *testing.F) {
 // returns the fields of the reduced rows as written.
 func reduceFuzzRow(t testing.TB, fx *fuzzFixture, rows string) [][]string {
 	t.Helper()
-	j := fx.plan.Job
+	j := fx.job
 	r, _, err := obsfile.NewObsReader(strings.NewReader(fuzzHeader+rows), "obs.csv", obsfile.ObsOptions{LengthUnit: j.LengthUnit, AngleUnit: j.AngleUnit, Limits: j.Limits})
 	if err != nil {
 		t.Fatalf("the fixed header: %v", err)

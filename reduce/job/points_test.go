@@ -65,10 +65,10 @@ func TestPlanBuilderAsNewPlan(t *testing.T) {
 		require.NoError(t, err)
 		control, err := ResolveControl(pts, "points.csv", p, Separations{Constant: 40, HasConstant: true})
 		require.NoError(t, err)
-		want, err := NewPlan(j, crs, g, control)
+		want, err := NewPlan(j.Settings(), crs, g, control)
 		require.NoError(t, err)
 
-		b := NewPlanBuilder(j, crs, g, "points.csv", p, Separations{Constant: 40, HasConstant: true})
+		b := NewPlanBuilder(j.Settings(), crs, g, "points.csv", p, Separations{Constant: 40, HasConstant: true})
 		_, err = obsfile.EachPoint(strings.NewReader(planBuilderPoints), "points.csv", metres, b.Add)
 		require.NoError(t, err)
 		require.NoError(t, b.Resolved())
@@ -112,12 +112,12 @@ func TestPlanBuilderErrors(t *testing.T) {
 			if want = err; want == nil {
 				control, err := ResolveControl(pts, "points.csv", p, seps)
 				if want = err; want == nil {
-					_, want = NewPlan(j, crs, g, control)
+					_, want = NewPlan(j.Settings(), crs, g, control)
 				}
 			}
 			require.Error(t, want)
 
-			b := NewPlanBuilder(j, crs, g, "points.csv", p, seps)
+			b := NewPlanBuilder(j.Settings(), crs, g, "points.csv", p, seps)
 			_, got := obsfile.EachPoint(strings.NewReader(file), "points.csv", metres, b.Add)
 			if got == nil {
 				_, got = b.Plan()
@@ -171,7 +171,7 @@ func BenchmarkPlanMemory(b *testing.B) {
 		for b.Loop() {
 			plan = nil
 			before := liveHeap()
-			pb := NewPlanBuilder(j, crs, g, "points.csv", p, seps)
+			pb := NewPlanBuilder(j.Settings(), crs, g, "points.csv", p, seps)
 			if _, err := obsfile.EachPoint(strings.NewReader(file.String()), "points.csv", metres, pb.Add); err != nil {
 				b.Fatal(err)
 			}
@@ -185,7 +185,7 @@ func BenchmarkPlanMemory(b *testing.B) {
 		runtime.KeepAlive(plan)
 	})
 	b.Run("lines", func(b *testing.B) {
-		pb := NewPlanBuilder(j, crs, g, "points.csv", p, seps)
+		pb := NewPlanBuilder(j.Settings(), crs, g, "points.csv", p, seps)
 		if _, err := obsfile.EachPoint(strings.NewReader(file.String()), "points.csv", metres, pb.Add); err != nil {
 			b.Fatal(err)
 		}

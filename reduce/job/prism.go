@@ -5,19 +5,17 @@ import (
 	"math"
 	"strconv"
 
-	"github.com/geored/geored/io/jobconfig"
-	"github.com/geored/geored/io/obsfile"
-	"github.com/geored/geored/io/units"
 	"github.com/geored/geored/reduce"
+	"github.com/geored/geored/reduce/input"
 )
 
 // prismConflict is the reason a row whose prism constants cannot be told
-// (jobconfig.Profile.Prisms) is rejected: the two readings, the slope
+// (input.Profile.Prisms) is rejected: the two readings, the slope
 // distance S1 after the instrument's constants that each gives, how far
 // apart they are, and what the job must say. pr is what Prisms returned;
 // both readings take pr.Target, the row's prism_constant_mm, as the
 // target's constant, and differ in the constant the instrument applied.
-func prismConflict(where fileLine, u units.LengthUnit, prof planProfile, o *obsfile.Observation, pr jobconfig.Prisms, c jobconfig.PrismConflict) string {
+func prismConflict(where fileLine, u input.LengthUnit, prof planProfile, o *input.Observation, pr input.Prisms, c input.PrismConflict) string {
 	s1 := func(applied float64) (float64, string) {
 		f := prof.Chain.Field
 		f.PrismConstant = applied
@@ -25,7 +23,7 @@ func prismConflict(where fileLine, u units.LengthUnit, prof planProfile, o *obsf
 		if err != nil {
 			return math.NaN(), fmt.Sprintf("no S1 (%v)", err)
 		}
-		s, err := units.FormatLength(in.Distance, u, 5)
+		s, err := u.FormatLength(in.Distance, 5)
 		if err != nil {
 			return in.Distance, fmt.Sprintf("S1 = %.5f m", in.Distance)
 		}
@@ -34,7 +32,7 @@ func prismConflict(where fileLine, u units.LengthUnit, prof planProfile, o *obsf
 	// The applied constant of the first reading: the profile's, or the
 	// row's field_prism_constant_mm that contradicts the setting.
 	first := prof.Chain.Field.PrismConstant
-	if c == jobconfig.PrismsContradict {
+	if c == input.PrismsContradict {
 		first = pr.Applied
 	}
 	a, aText := s1(first)
@@ -43,7 +41,7 @@ func prismConflict(where fileLine, u units.LengthUnit, prof planProfile, o *obsf
 	if d := math.Abs(a - b); !math.IsNaN(d) {
 		apart = " (" + strconv.FormatFloat(d*1e3, 'f', 2, 64) + " mm apart)"
 	}
-	if c == jobconfig.PrismsContradict {
+	if c == input.PrismsContradict {
 		return fmt.Sprintf(`%s: field_prism_constant_mm %s mm contradicts row_prism_constant = "applied" of [instrument.%s], which says the instrument applied the row's prism_constant_mm %s mm: with %s mm applied %s, with %s mm applied %s%s; correct the row or the setting`,
 			where, mmText(first), prof.name, mmText(pr.Target), mmText(first), aText, mmText(pr.Target), bText, apart)
 	}

@@ -27,7 +27,7 @@ field_prism_constant_mm = -30
 func runRows(t *testing.T, plan *Plan, data string) []Result {
 	t.Helper()
 	var got []Result
-	err := Run(context.Background(), plan, []Source{{Name: "obs.csv", Reader: strings.NewReader(data)}},
+	err := Run(context.Background(), plan, []Source{{Name: "obs.csv", Reader: strings.NewReader(data)}}, openerOf(t, plan),
 		func(w obsfile.Warning) { t.Errorf("warning %s", w) },
 		func(r *Result) error { got = append(got, *r); return nil })
 	require.NoError(t, err)

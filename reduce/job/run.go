@@ -10,21 +10,14 @@ import (
 	"sync"
 
 	"github.com/geored/geored/geodesic"
-	"github.com/geored/geored/io/jobconfig"
-	"github.com/geored/geored/io/obsfile"
 	"github.com/geored/geored/reduce"
+	"github.com/geored/geored/reduce/input"
 )
-
-// A Source is one observation file to read.
-type Source struct {
-	Name   string
-	Reader io.Reader
-}
 
 // Plan is everything a run needs that is fixed for the job: it is built
 // once and shared, read-only, by all workers.
 type Plan struct {
-	Job      *jobconfig.Job
+	Settings *input.Settings
 	CRS      *geodesic.CRS
 	Geodesic *geodesic.Geodesic
 	Workers  int // 0: all cores
@@ -33,7 +26,7 @@ type Plan struct {
 	// row in Result.Row.
 	Format func(dst []byte, r *Result) []byte
 
-	profiles map[string]planProfile // Job.Profiles, not copied per row
+	profiles map[string]planProfile // Settings.Profiles, not copied per row
 	pts      *planPoints
 	// lines holds each line the plan's runs have met, computed once:
 	// it depends only on the plan.
@@ -85,12 +78,12 @@ func (p *Plan) KnownLine(id, a, b int32) (l reduce.Line, ok bool) {
 // planProfile is an instrument profile and its name, the plan's string.
 type planProfile struct {
 	name string
-	*jobconfig.Profile
+	*input.Profile
 }
 
 // NewPlan completes a plan: the marks' heights on the job's datum. The
 // plan keeps of control what a run needs, and not the map.
-func NewPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, control map[string]Control) (*Plan, error) {
+func NewPlan(j *input.Settings, crs *geodesic.CRS, g *geodesic.Geodesic, control map[string]Control) (*Plan, error) {
 	p := newPlan(j, crs, g, len(control))
 	ids := make([]string, 0, len(control))
 	for id := range control {
@@ -106,38 +99,38 @@ func NewPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, control 
 	return p, nil
 }
 
-func newPlan(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, points int) *Plan {
-	return &Plan{Job: j, CRS: crs, Geodesic: g, pts: newPlanPoints(j.Datum, points)}
+func newPlan(j *input.Settings, crs *geodesic.CRS, g *geodesic.Geodesic, points int) *Plan {
+	return &Plan{Settings: j, CRS: crs, Geodesic: g, pts: newPlanPoints(j.Datum, points)}
 }
 
 // addControl keeps what a run needs of control point id, c, numbered
 // next; the error says why its mark has no height on the job's datum.
 func (p *Plan) addControl(id string, c Control) error {
-	m, ok, err := markHeight(c, p.Job.Datum)
+	m, ok, err := markHeight(c, p.Settings.Datum)
 	p.pts.add(id, planPoint{hasMark: ok, orthometric: m.Orthometric, ellipsoidal: m.Ellipsoidal,
 		separation: m.Separation.N, sepSource: uint8(m.Separation.Source),
 		ll: c.LatLng, grid: c.Grid, scale: c.Scale, hasScale: c.HasScale, line: int32(c.Line)})
 	if err != nil {
-		return fmt.Errorf("point %q (line %d): %w", obsfile.Clip(id), c.Line, err)
+		return fmt.Errorf("point %q (line %d): %w", input.Clip(id), c.Line, err)
 	}
 	return nil
 }
 
 // complete ends adding points: the plan is ready to run, with the job's
-// settings as they are now (jobconfig.Job.SetTests may have changed them
-// while the points were read).
+// settings as they are now (the job's critical value may have changed in
+// its profiles while the points were read: io/jobconfig's Job.SetTests).
 func (p *Plan) complete() {
 	p.pts.done()
 	p.lines = newLineCache(int(p.pts.n))
-	p.Workers = p.Job.Workers
-	p.profiles = make(map[string]planProfile, len(p.Job.Profiles))
-	for name, prof := range p.Job.Profiles {
+	p.Workers = p.Settings.Workers
+	p.profiles = make(map[string]planProfile, len(p.Settings.Profiles))
+	for name, prof := range p.Settings.Profiles {
 		p.profiles[name] = planProfile{name, &prof}
 	}
 }
 
 // A PlanBuilder makes a plan from the points file's rows as they are read
-// (obsfile.EachPoint with Add): each point resolved as ResolveControl
+// (io/obsfile's EachPoint with Add): each point resolved as ResolveControl
 // does, with its errors, and of it kept only what a run needs, never the
 // file's points nor a map of them.
 type PlanBuilder struct {
@@ -152,13 +145,13 @@ type PlanBuilder struct {
 // NewPlanBuilder prepares to plan a job whose points come from file,
 // resolved with p and seps (ResolveControl). The plan takes the job's
 // datum now, and its other settings when Plan makes it.
-func NewPlanBuilder(j *jobconfig.Job, crs *geodesic.CRS, g *geodesic.Geodesic, file string, p *geodesic.Projector, seps Separations) *PlanBuilder {
+func NewPlanBuilder(j *input.Settings, crs *geodesic.CRS, g *geodesic.Geodesic, file string, p *geodesic.Projector, seps Separations) *PlanBuilder {
 	return &PlanBuilder{plan: newPlan(j, crs, g, 0), file: file, proj: p, seps: seps}
 }
 
-// Add takes the next point of the file (obsfile.EachPoint's add): it
+// Add takes the next point of the file (io/obsfile's EachPoint's add): it
 // returns the line of an earlier point with the same id, or else 0.
-func (b *PlanBuilder) Add(pt obsfile.Point) int {
+func (b *PlanBuilder) Add(pt input.Point) int {
 	if i, dup := b.plan.pts.find(pt.ID); dup {
 		return int(b.plan.pts.at(i).line)
 	}
@@ -166,7 +159,7 @@ func (b *PlanBuilder) Add(pt obsfile.Point) int {
 	if b.resolveErr == nil {
 		var err error
 		if c, err = resolve(pt, b.proj, b.seps); err != nil {
-			b.resolveErr = fmt.Errorf("%s:%d: point %q: %w", b.file, pt.Line, obsfile.Clip(pt.ID), err)
+			b.resolveErr = fmt.Errorf("%s:%d: point %q: %w", b.file, pt.Line, input.Clip(pt.ID), err)
 		}
 	}
 	c.Line = pt.Line
@@ -211,7 +204,7 @@ func markHeight(c Control, datum reduce.Datum) (reduce.MarkHeight, bool, error) 
 // was rejected. Seq is its 0-based position among all rows read.
 type Result struct {
 	Seq     int64
-	Obs     obsfile.Observation
+	Obs     input.Observation
 	Profile string
 	// Line is the line's control data, from Obs.From to Obs.To, as the
 	// chain uses it: its Midpoint, Azimuth and Inverse azimuths are not
@@ -225,7 +218,7 @@ type Result struct {
 	// PrismFrom and FieldPrismFrom say where the target's prism constant
 	// (Reduction.Instrument.PrismConstant) and the one the instrument
 	// applied (Reduction.Instrument.FieldPrismConstant) came from.
-	PrismFrom, FieldPrismFrom jobconfig.PrismOrigin
+	PrismFrom, FieldPrismFrom input.PrismOrigin
 	// Rejected rows: File and LineNo say where, Raw is the row as written
 	// and Reason why it could not be reduced.
 	Rejected bool
@@ -245,7 +238,7 @@ type Sink func(*Result) error
 
 // PoisonRecycledChunks, for tests, overwrites each chunk of an
 // observation file once its results have reached the sink: the strings
-// of a row share its chunk's memory (obsfile.ObsChunker.Reader), and a
+// of a row share its chunk's memory (ChunkSource.Rows), and a
 // string kept past the sink would then show as tildes.
 var PoisonRecycledChunks bool
 
@@ -257,11 +250,11 @@ const chunkBytes = 16 << 10
 // formatted by one worker; its buffers are reused.
 type batch struct {
 	seq     int64 // batch number
-	src     *obsfile.ObsChunker
+	src     ChunkSource
 	data    []byte // the chunk's rows as read
 	first   int    // line of the file where data starts
 	results []Result
-	errs    []error  // per row: read error (a *obsfile.RowError) or nil
+	errs    []error  // per row: read error (a RowError) or nil
 	rows    [][]byte // formatted rows
 	fields  []string // the rows' fields (Observation.Fields)
 	// fatal ends the run after the batch's results: broken CSV quoting or
@@ -280,7 +273,7 @@ type batch struct {
 // quoting, the sink's error) is returned, after the results of the rows
 // before it have reached the sink (for a file that cannot be read on, the
 // rows of the chunks before the one that failed).
-func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Warning), sink Sink) error {
+func Run(ctx context.Context, plan *Plan, sources []Source, open Opener, warn func(input.Warning), sink Sink) error {
 	if plan.lines.ended {
 		return errors.New("the plan's runs have ended (Plan.EndRuns)")
 	}
@@ -305,7 +298,7 @@ func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Wa
 	var readErr error
 	go func() { // reader
 		defer close(todo)
-		readErr = readAll(ctx, sources, plan, warn, todo, free)
+		readErr = readAll(ctx, sources, open, warn, todo, free)
 		if readErr != nil {
 			cancel(readErr)
 		}
@@ -396,11 +389,10 @@ func Run(ctx context.Context, plan *Plan, sources []Source, warn func(obsfile.Wa
 // readAll reads every source into numbered chunks of rows. An error in
 // reading a source's rows travels with its chunk, in order; an error in
 // its header stops here.
-func readAll(ctx context.Context, sources []Source, plan *Plan, warn func(obsfile.Warning), todo chan<- *batch, free chan *batch) error {
-	opt := obsfile.ObsOptions{LengthUnit: plan.Job.LengthUnit, AngleUnit: plan.Job.AngleUnit, Limits: plan.Job.Limits, Delimiter: plan.Job.Delimiter}
+func readAll(ctx context.Context, sources []Source, open Opener, warn func(input.Warning), todo chan<- *batch, free chan *batch) error {
 	var seq int64
 	for _, src := range sources {
-		c, warnings, err := obsfile.NewObsChunker(src.Reader, src.Name, opt)
+		c, warnings, err := open(src)
 		for _, w := range warnings {
 			warn(w)
 		}
@@ -442,7 +434,7 @@ func (b *batch) parse() {
 	if b.fatal != nil {
 		return
 	}
-	r := b.src.Reader(b.data, b.first)
+	r := b.src.Rows(b.data, b.first)
 	for {
 		obs, fields, err := r.NextAppend(b.fields)
 		b.fields = fields
@@ -458,10 +450,10 @@ func (b *batch) parse() {
 	}
 }
 
-// isRowError reports whether err is a bad row (a *obsfile.RowError),
-// which is rejected, rather than an error that ends the file.
+// isRowError reports whether err is a bad row (a RowError), which is
+// rejected, rather than an error that ends the file.
 func isRowError(err error) bool {
-	var re *obsfile.RowError
+	var re RowError
 	return errors.As(err, &re)
 }
 
@@ -474,9 +466,9 @@ func reduceOne(plan *Plan, p *geodesic.Projector, r *Result, readErr error) {
 		}
 	}
 	if readErr != nil {
-		var re *obsfile.RowError
+		var re RowError
 		errors.As(readErr, &re)
-		r.File, r.LineNo, r.Raw = re.Err.File, re.Err.Line, re.Raw
+		r.File, r.LineNo, r.Raw = re.RejectedRow()
 		reject(re.Error())
 		return
 	}
@@ -484,14 +476,14 @@ func reduceOne(plan *Plan, p *geodesic.Projector, r *Result, readErr error) {
 	where := fileLine{o.File, o.Line}
 	name := o.Instrument
 	if name == "" {
-		name = plan.Job.DefaultInstrument
+		name = plan.Settings.DefaultInstrument
 	}
 	prof, ok := plan.profiles[name]
 	if !ok {
 		if name == "" {
 			reject(where.String() + ": no instrument column and no default_instrument in the job")
 		} else {
-			reject(fmt.Sprintf("%s: instrument %q has no [instrument.%s] profile in the job", where, obsfile.Clip(name), obsfile.Clip(name)))
+			reject(fmt.Sprintf("%s: instrument %q has no [instrument.%s] profile in the job", where, input.Clip(name), input.Clip(name)))
 		}
 		return
 	}
@@ -500,17 +492,17 @@ func reduceOne(plan *Plan, p *geodesic.Projector, r *Result, readErr error) {
 	ib, okB := plan.pts.find(o.To)
 	switch {
 	case !okA:
-		reject(fmt.Sprintf("%s: station %q is not in the points file", where, obsfile.Clip(o.From)))
+		reject(fmt.Sprintf("%s: station %q is not in the points file", where, input.Clip(o.From)))
 		return
 	case !okB:
-		reject(fmt.Sprintf("%s: target %q is not in the points file", where, obsfile.Clip(o.To)))
+		reject(fmt.Sprintf("%s: target %q is not in the points file", where, input.Clip(o.To)))
 		return
 	}
 	a, b := plan.pts.at(ia), plan.pts.at(ib)
 	o.From, o.To = plan.pts.id(ia), plan.pts.id(ib) // the plan's strings: the row's may go
 	r.Points = [2]int32{ia, ib}
 	if !a.hasMark {
-		reject(fmt.Sprintf("%s: station %q has no height on the reduction datum (%s)", where, obsfile.Clip(o.From), plan.Job.Datum))
+		reject(fmt.Sprintf("%s: station %q has no height on the reduction datum (%s)", where, input.Clip(o.From), plan.Settings.Datum))
 		return
 	}
 	markA, markB := plan.pts.mark(a), plan.pts.mark(b) // markB zero: the target's height comes from the zenith angle
@@ -520,8 +512,8 @@ func reduceOne(plan *Plan, p *geodesic.Projector, r *Result, readErr error) {
 		return
 	}
 	pr, conflict := prof.Prisms(o.PrismConstant, o.HasPrismConstant, o.FieldPrismConstant, o.HasFieldPrismConstant)
-	if conflict != jobconfig.PrismsKnown {
-		reject(prismConflict(where, plan.Job.LengthUnit, prof, o, pr, conflict))
+	if conflict != input.PrismsKnown {
+		reject(prismConflict(where, plan.Settings.LengthUnit, prof, o, pr, conflict))
 		return
 	}
 	r.PrismFrom, r.FieldPrismFrom = pr.TargetFrom, pr.AppliedFrom
@@ -535,7 +527,7 @@ func reduceOne(plan *Plan, p *geodesic.Projector, r *Result, readErr error) {
 		HasFieldPrismConstant: true,
 		Meteorology:           Meteorology(o.AtInstrument, o.AtTarget),
 	}
-	if !o.AtInstrument.Has && !o.AtTarget.Has && !plan.Job.HasDefaultAtmosphere {
+	if !o.AtInstrument.Has && !o.AtTarget.Has && !plan.Settings.HasDefaultAtmosphere {
 		reject(where.String() + ": the row records no temperature, pressure and humidity, and the job has no default_atmosphere")
 		return
 	}
@@ -554,8 +546,8 @@ type fileLine struct {
 func (f fileLine) String() string { return fmt.Sprintf("%s:%d", f.file, f.line) }
 
 // Meteorology is what a row recorded of the air at each end, for the chain.
-func Meteorology(atInstrument, atTarget obsfile.Weather) reduce.Meteorology {
-	air := func(w obsfile.Weather) reduce.Atmosphere {
+func Meteorology(atInstrument, atTarget input.Weather) reduce.Meteorology {
+	air := func(w input.Weather) reduce.Atmosphere {
 		return reduce.Atmosphere{TemperatureC: w.TemperatureC, PressureHPa: w.PressureHPa, HumidityPct: w.HumidityPct}
 	}
 	return reduce.Meteorology{Instrument: air(atInstrument), HaveInstrument: atInstrument.Has, Target: air(atTarget), HaveTarget: atTarget.Has}

@@ -49,8 +49,9 @@ func planFor(t *testing.T, jobText string, workers int) (*Plan, *geodesic.Projec
 	}
 	control, err := ResolveControl(pts, "points.csv", p, Separations{})
 	require.NoError(t, err)
-	plan, err := NewPlan(j, crs, g, control)
+	plan, err := NewPlan(j.Settings(), crs, g, control)
 	require.NoError(t, err)
+	planJobs[plan] = j
 	return plan, p
 }
 
@@ -61,7 +62,7 @@ func observations(t *testing.T, plan *Plan, p *geodesic.Projector) string {
 	t.Helper()
 	var b strings.Builder
 	b.WriteString("from,to,slope_distance,zenith_angle,instrument_height,target_height,temperature_c,pressure_hpa,humidity_pct,instrument\n")
-	prof := plan.Job.Profiles["ts"]
+	prof := plan.Settings.Profiles["ts"]
 	predicted(t, plan, p, func(a, c string) reduce.Observation {
 		return reduce.Observation{PrismConstant: prof.PrismConstant}
 	}, func(a, c string, pr reduce.Prediction) {
@@ -80,7 +81,7 @@ func observations(t *testing.T, plan *Plan, p *geodesic.Projector) string {
 // and 70 % at the instrument, and the prism constants that obs gives.
 func predicted(t *testing.T, plan *Plan, p *geodesic.Projector, obs func(a, c string) reduce.Observation, row func(a, c string, pr reduce.Prediction)) {
 	t.Helper()
-	prof := plan.Job.Profiles["ts"]
+	prof := plan.Settings.Profiles["ts"]
 	for i := range 6 {
 		for k := range 6 {
 			if i == k {
@@ -136,7 +137,7 @@ func TestRunReducesInInputOrder(t *testing.T) {
 		plan, p := testPlan(t, workers)
 		data := repeated(observations(t, plan, p), reps)
 		var got []Result
-		err := Run(context.Background(), plan, []Source{{Name: "obs.csv", Reader: strings.NewReader(data)}},
+		err := Run(context.Background(), plan, []Source{{Name: "obs.csv", Reader: strings.NewReader(data)}}, openerOf(t, plan),
 			func(w obsfile.Warning) { t.Errorf("warning %s", w) },
 			func(r *Result) error { got = append(got, *r); return nil })
 		require.NoError(t, err)
@@ -173,7 +174,7 @@ func TestRunReducesInInputOrder(t *testing.T) {
 				GridDistance: r.Line.GridDistance, Radius: r.Line.Radius, Scale: reduce.ScaleFactors{A: r.Line.Scale.A, B: r.Line.Scale.B}}
 			require.Equal(t, want, l, "row %d's line after the runs ended", i)
 		}
-		err = Run(context.Background(), plan, []Source{{Name: "obs.csv", Reader: strings.NewReader(data)}},
+		err = Run(context.Background(), plan, []Source{{Name: "obs.csv", Reader: strings.NewReader(data)}}, openerOf(t, plan),
 			func(obsfile.Warning) {}, func(*Result) error { return nil })
 		require.ErrorContains(t, err, "runs have ended")
 		if first == nil {
@@ -194,7 +195,7 @@ func TestRunStopsAtBrokenQuoting(t *testing.T) {
 	cut := strings.Index(data[3*chunkBytes:], "\n") + 3*chunkBytes + 1
 	bad := data[:cut] + "M0,\"M1,100,90,1.6,1.5,18,1001,70,\n" + data[cut:]
 	rows := 0
-	err := Run(context.Background(), plan, []Source{{Name: "obs.csv", Reader: strings.NewReader(bad)}},
+	err := Run(context.Background(), plan, []Source{{Name: "obs.csv", Reader: strings.NewReader(bad)}}, openerOf(t, plan),
 		func(obsfile.Warning) {}, func(r *Result) error { rows++; return nil })
 	var fe *obsfile.FieldError
 	require.True(t, errors.As(err, &fe), "%v", err)
@@ -217,7 +218,7 @@ func TestRunStops(t *testing.T) {
 	}
 	boom := errors.New("disk full")
 	n := 0
-	err := Run(context.Background(), plan, []Source{{Name: "obs.csv", Reader: strings.NewReader(many.String())}},
+	err := Run(context.Background(), plan, []Source{{Name: "obs.csv", Reader: strings.NewReader(many.String())}}, openerOf(t, plan),
 		func(obsfile.Warning) {}, func(*Result) error {
 			if n++; n == 300 {
 				return boom
@@ -227,7 +228,7 @@ func TestRunStops(t *testing.T) {
 	assert.ErrorIs(t, err, boom)
 	assert.Equal(t, 300, n, "no result after the sink's error")
 
-	err = Run(context.Background(), plan, []Source{{Name: "bad.csv", Reader: strings.NewReader("from,to,slope_distance\nM0,M1,100\n")}},
+	err = Run(context.Background(), plan, []Source{{Name: "bad.csv", Reader: strings.NewReader("from,to,slope_distance\nM0,M1,100\n")}}, openerOf(t, plan),
 		func(obsfile.Warning) {}, func(*Result) error { t.Error("no row may reach the sink"); return nil })
 	var he *obsfile.HeaderError
 	assert.True(t, errors.As(err, &he), "%v", err)
@@ -244,7 +245,7 @@ func TestRunRowStringsLastUntilTheSinkReturns(t *testing.T) {
 	lines := strings.SplitAfter(observations(t, plan, p), "\n")
 	data := lines[0] + strings.Repeat(strings.Join(lines[1:31], ""), 40)
 	var kept, copies, from []string
-	err := Run(context.Background(), plan, []Source{{Name: "obs.csv", Reader: strings.NewReader(data)}},
+	err := Run(context.Background(), plan, []Source{{Name: "obs.csv", Reader: strings.NewReader(data)}}, openerOf(t, plan),
 		func(w obsfile.Warning) { t.Errorf("warning %s", w) },
 		func(r *Result) error {
 			if !r.Rejected {
