@@ -12,6 +12,7 @@ import (
 	"os"
 	"path/filepath"
 	"runtime/debug"
+	"slices"
 	"strings"
 	"syscall"
 	"time"
@@ -47,7 +48,8 @@ type nightlySummary struct {
 	Started    string          `json:"started"`
 	History    string          `json:"history"`
 	Files      []nightlyFile   `json:"files"`
-	Alerts     []history.Alert `json:"alerts"`
+	Alerts     []history.Alert `json:"alerts"` // of the nights whose alerts the run computed
+	Notes      []string        `json:"notes,omitempty"`
 	ExitStatus int             `json:"exit_status"`
 	Caution    string          `json:"caution"`
 
@@ -257,14 +259,37 @@ Flags:
 		}
 		sum.Files = append(sum.Files, nf)
 	}
-	_, sum.Plots, err = driftAlerts(ctx, store, j, *jobName, *night, run.ID)
+	// The alerts are a recorded step of their own: every night whose
+	// files are recorded and whose alerts are not (tonight's, or a night
+	// whose run stopped between the two) is computed, in order, and
+	// recorded with its alerts in one transaction.
+	due, err := store.AlertsDue(ctx, *jobName)
 	if err != nil {
-		return fail(stderr, "nightly", fmt.Errorf("drift alerts: %w", err))
+		return fail(stderr, "nightly", err)
+	}
+	if !slices.Contains(due, *night) {
+		due = append(due, *night) // its alerts again, with their plots, for the summary
+	}
+	var notes driftNotes
+	for _, n := range due {
+		hook("alerts:" + n)
+		alerts, plots, err := driftAlerts(ctx, store, j, *jobName, n, &notes)
+		if err != nil {
+			return fail(stderr, "nightly", fmt.Errorf("drift alerts of %s: %w", n, err))
+		}
+		if err := store.RecordAlerts(ctx, *jobName, n, run.ID, alerts); err != nil {
+			return fail(stderr, "nightly", err)
+		}
+		sum.Plots = append(sum.Plots, plots...)
+	}
+	sum.Notes = notes.list()
+	for _, n := range sum.Notes {
+		log.Warn("note", "message", n)
 	}
 	if sum.Alerts, err = store.Alerts(ctx, *jobName); err != nil {
 		return fail(stderr, "nightly", err)
 	}
-	sum.Alerts = nightAlerts(sum.Alerts, *night)
+	sum.Alerts = nightAlerts(sum.Alerts, due)
 	if len(sum.Alerts) > 0 && status == exitOK {
 		status = exitFlagged
 	}
@@ -291,11 +316,11 @@ Flags:
 	return status
 }
 
-// nightAlerts are the alerts of night.
-func nightAlerts(all []history.Alert, night string) []history.Alert {
+// nightAlerts are the alerts of nights.
+func nightAlerts(all []history.Alert, nights []string) []history.Alert {
 	var out []history.Alert
 	for _, a := range all {
-		if a.Night == night {
+		if slices.Contains(nights, a.Night) {
 			out = append(out, a)
 		}
 	}

@@ -6,6 +6,7 @@ import (
 	"html/template"
 	"math"
 	"os"
+	"slices"
 	"sort"
 	"time"
 
@@ -103,8 +104,8 @@ type nightPlot struct {
 
 // driftAlerts computes the night's alerts from the history: each
 // instrument's trend and each mark's displacement (package drift), and
-// records them. It returns them with their plots.
-func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job, night string, runID int64) ([]history.Alert, []nightPlot, error) {
+// returns them with their plots; what it could not look at goes to notes.
+func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job, night string, notes *driftNotes) ([]history.Alert, []nightPlot, error) {
 	fits, err := store.InstrumentSeries(ctx, job, "")
 	if err != nil {
 		return nil, nil, err
@@ -127,6 +128,7 @@ func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, jo
 		}
 		p, ok := j.Profiles[inst]
 		if !ok {
+			notes.noProfile(inst)
 			continue
 		}
 		bmm, bppm, err := specBounds(p)
@@ -173,12 +175,30 @@ func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, jo
 	}
 	out = append(out, marks...)
 	plots = append(plots, markPlots...)
-	for _, a := range out {
-		if err := store.AddAlert(ctx, job, runID, a); err != nil {
-			return nil, nil, err
-		}
-	}
 	return out, plots, nil
+}
+
+// driftNotes are what a run's drift alerts could not look at, each said
+// once per run.
+type driftNotes struct {
+	noProfiles []string
+}
+
+// noProfile notes an instrument of the history the job has no profile
+// for: its trend has no specification to be judged against.
+func (n *driftNotes) noProfile(inst string) {
+	if !slices.Contains(n.noProfiles, inst) {
+		n.noProfiles = append(n.noProfiles, inst)
+	}
+}
+
+// list is the notes as the summary's sentences.
+func (n *driftNotes) list() []string {
+	var out []string
+	for _, inst := range n.noProfiles {
+		out = append(out, fmt.Sprintf("instrument %s is in the history but the job has no [instrument.%s] profile: its trend is not searched for drift", inst, inst))
+	}
+	return out
 }
 
 // markWindowNights is how far back a mark's lines are read: its

@@ -142,6 +142,10 @@ const markSQL = `INSERT INTO files (job, sha256, name, night, run_id, status, re
 	rows_read, rows_reduced, rows_rejected, exit_status) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
 	ON CONFLICT (job, sha256) DO NOTHING RETURNING id`
 
+// reopenSQL, in the transaction of a file's mark, makes its night's
+// alerts due again: they were computed without the file.
+const reopenSQL = `DELETE FROM alert_nights WHERE job = ? AND night = ?`
+
 func markArgs(f *File) []any {
 	return []any{f.Job, f.SHA256, f.Name, f.Night, f.RunID, f.Status, f.Reason, f.Results, f.InputHash, f.Settings,
 		f.Read, f.Reduced, f.Rejected, f.Exit}
@@ -179,6 +183,9 @@ func (s *Store) recordInsert(ctx context.Context, f *File, obs []Observation, li
 		return false, nil
 	}
 	if err != nil {
+		return false, fmt.Errorf("recording %s: %w", f.Name, err)
+	}
+	if _, err := tx.ExecContext(ctx, s.d.sql(reopenSQL), f.Job, f.Night); err != nil {
 		return false, fmt.Errorf("recording %s: %w", f.Name, err)
 	}
 	if err := insertRows(ctx, tx, s.d, "observations", obsCols, len(obs),
@@ -221,6 +228,9 @@ func (s *Store) recordCopy(ctx context.Context, f *File, obs []Observation, line
 			return nil
 		}
 		if err != nil {
+			return fmt.Errorf("recording %s: %w", f.Name, err)
+		}
+		if _, err := tx.Exec(ctx, s.d.sql(reopenSQL), f.Job, f.Night); err != nil {
 			return fmt.Errorf("recording %s: %w", f.Name, err)
 		}
 		for _, t := range []struct {
@@ -307,11 +317,51 @@ type Alert struct {
 	Message string `json:"message"`
 }
 
-// AddAlert records an alert of run; one already recorded is left as it is.
-func (s *Store) AddAlert(ctx context.Context, job string, runID int64, a Alert) error {
-	_, err := s.db.ExecContext(ctx, s.d.sql(`INSERT INTO alerts (job, night, kind, subject, message, run_id) VALUES (?, ?, ?, ?, ?, ?)
-		ON CONFLICT (job, night, kind, subject) DO NOTHING`), job, a.Night, a.Kind, a.Subject, a.Message, runID)
-	return err
+// RecordAlerts records the alerts computed for a night of job by run, and
+// that the night's alerts are computed, in one transaction. An alert
+// already recorded (same night, kind and subject) is left as it is.
+func (s *Store) RecordAlerts(ctx context.Context, job, night string, runID int64, alerts []Alert) error {
+	tx, err := s.db.BeginTx(ctx, nil)
+	if err != nil {
+		return err
+	}
+	defer tx.Rollback()
+	for _, a := range alerts {
+		if a.Night != night {
+			return fmt.Errorf("history: an alert of %s recorded as %s's", a.Night, night)
+		}
+		if _, err := tx.ExecContext(ctx, s.d.sql(`INSERT INTO alerts (job, night, kind, subject, message, run_id) VALUES (?, ?, ?, ?, ?, ?)
+			ON CONFLICT (job, night, kind, subject) DO NOTHING`), job, a.Night, a.Kind, a.Subject, a.Message, runID); err != nil {
+			return fmt.Errorf("history: alerts of %s: %w", night, err)
+		}
+	}
+	if _, err := tx.ExecContext(ctx, s.d.sql(`INSERT INTO alert_nights (job, night, run_id) VALUES (?, ?, ?)
+		ON CONFLICT (job, night) DO NOTHING`), job, night, runID); err != nil {
+		return fmt.Errorf("history: alerts of %s: %w", night, err)
+	}
+	return tx.Commit()
+}
+
+// AlertsDue are the nights of job, in order, with files recorded and
+// their alerts not computed since: a run that stopped after recording a
+// night's files and before its alerts, or a file recorded for a night
+// after its alerts.
+func (s *Store) AlertsDue(ctx context.Context, job string) ([]string, error) {
+	rows, err := s.db.QueryContext(ctx, s.d.sql(`SELECT DISTINCT f.night FROM files f WHERE f.job = ?
+		AND NOT EXISTS (SELECT 1 FROM alert_nights a WHERE a.job = f.job AND a.night = f.night) ORDER BY f.night`), job)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	var out []string
+	for rows.Next() {
+		var n string
+		if err := rows.Scan(&n); err != nil {
+			return nil, err
+		}
+		out = append(out, n)
+	}
+	return out, rows.Err()
 }
 
 // Alerts lists the alerts of a job, by night, kind and subject.
