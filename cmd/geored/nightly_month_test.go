@@ -395,3 +395,35 @@ func TestNightlyNoProfileNote(t *testing.T) {
 	require.NoError(t, err)
 	require.Contains(t, string(b), "<li>instrument ts-south is in the history")
 }
+
+// TestNightlyTrendSinceCalibration: ts-north calibrated on night 10 (its
+// constant drifting on) has its trend from night 10 alone: no alert
+// before the sixth night since, and each alert names the nights since
+// the calibration. Without the setting the month alerts from night 12.
+func TestNightlyTrendSinceCalibration(t *testing.T) {
+	files := monthFiles(t)
+	calibrated := monthNight(10)
+	job := strings.Replace(monthJob, "[instrument.ts-north]\n", "[instrument.ts-north]\ncalibrated = \""+calibrated+"\"\n", 1)
+	dir := monthFolder(t, job)
+	cfg := filepath.Join(dir, "job.toml")
+	var first int
+	for night := 1; night <= 24; night++ {
+		for inst, b := range files[night] {
+			require.NoError(t, os.WriteFile(filepath.Join(dir, "inbox", fmt.Sprintf("%s-%02d.csv", inst, night)), b, 0o644))
+		}
+		code, s, stderr := nightlyJSON(t, "-config", cfg, "-night", monthNight(night))
+		require.Contains(t, []int{exitOK, exitFlagged}, code, stderr)
+		for _, a := range s.Alerts {
+			if a.Kind != alertConstant {
+				continue
+			}
+			require.Equal(t, "ts-north", a.Subject)
+			require.Contains(t, a.Message, fmt.Sprintf("Theil–Sen over %d nights since its calibration on %s)", night-9, calibrated))
+			if first == 0 {
+				first = night
+			}
+		}
+	}
+	require.NotZero(t, first, "the drift is found again after the calibration")
+	require.GreaterOrEqual(t, first, 15, "not before six nights since the calibration")
+}

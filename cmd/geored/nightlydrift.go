@@ -80,6 +80,18 @@ func instrumentNights(fits []history.FitPoint, night string) (map[string][]night
 	return out, nil
 }
 
+// sinceCalibration are the nights of ns from the day the instrument was
+// calibrated on (YYYY-MM-DD; "" for all of them), and the words that say
+// so in an alert: a calibration changes the constants the job applies,
+// and the fits of the nights before it belong to another line.
+func sinceCalibration(ns []nightFit, calibrated string) ([]nightFit, string) {
+	if calibrated == "" {
+		return ns, ""
+	}
+	i := sort.Search(len(ns), func(i int) bool { return ns[i].Night >= calibrated })
+	return ns[i:], " since its calibration on " + calibrated
+}
+
 // specBounds are an instrument's EDM specification a (mm) and b (ppm) as
 // one standard deviation: the bounds its calibration may drift to.
 func specBounds(p jobconfig.Profile) (mm, ppm float64, err error) {
@@ -131,6 +143,10 @@ func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, jo
 			notes.noProfile(inst)
 			continue
 		}
+		ns, since := sinceCalibration(ns, p.Source.Calibrated)
+		if len(ns) == 0 {
+			continue
+		}
 		bmm, bppm, err := specBounds(p)
 		if err != nil {
 			return nil, nil, fmt.Errorf("instrument %s: %w", inst, err)
@@ -151,9 +167,9 @@ func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, jo
 			if !tr.Alert {
 				continue
 			}
-			msg := fmt.Sprintf("%s of %s drifting %s %s/night (%.0f %% interval %s to %s, Theil–Sen over %d nights); Mann–Kendall P = %.2g (α = %g); the trend line is at %s %s on %s, beyond the EDM specification's ±%.2f %s",
+			msg := fmt.Sprintf("%s of %s drifting %s %s/night (%.0f %% interval %s to %s, Theil–Sen over %d nights%s); Mann–Kendall P = %.2g (α = %g); the trend line is at %s %s on %s, beyond the EDM specification's ±%.2f %s",
 				k.what, inst, signedFixed(tr.Line.Slope, 3), k.unit, 100*tr.Line.Confidence, signedFixed(tr.Line.Lower, 3), signedFixed(tr.Line.Upper, 3),
-				len(ns), tr.MannKendall.P, drift.TrendAlpha, signedFixed(tr.Last, 2), k.unit, night, k.bound, k.unit)
+				len(ns), since, tr.MannKendall.P, drift.TrendAlpha, signedFixed(tr.Last, 2), k.unit, night, k.bound, k.unit)
 			out = append(out, history.Alert{Night: night, Kind: k.kind, Subject: inst, Message: msg})
 			fit := report.NightSeries{Name: "the night's fit, ±σ"}
 			for _, f := range ns {
