@@ -170,6 +170,54 @@ func TestRecordIsOneTransaction(t *testing.T) {
 	})
 }
 
+// TestRecordingStreams: observations added one by one go to the store a
+// batch at a time, in the transaction of the mark: before Finish another
+// session sees none of them; Finish records the mark as the File is then;
+// Abort leaves neither mark nor rows.
+func TestRecordingStreams(t *testing.T) {
+	backends(t, func(t *testing.T, where string) {
+		ctx := context.Background()
+		s, other := open(t, where), open(t, where)
+		r := begin(t, s, "bridge", "2026-12-01")
+		obs, lines, fits := someRows(2*RecordBatch + 7)
+		f := File{Job: "bridge", SHA256: "ss", Name: "wed.csv", Night: r.Night, RunID: r.ID, Status: StatusReduced}
+		rec, err := s.BeginRecord(ctx, &f)
+		require.NoError(t, err)
+		for i := range obs {
+			require.NoError(t, rec.Add(ctx, &obs[i]))
+		}
+		require.Len(t, rec.buf, 7, "the full batches are written as they come")
+		c, err := other.Count(ctx, "bridge")
+		require.NoError(t, err)
+		require.Equal(t, Counts{}, c, "nothing seen before the commit")
+		f.Read, f.Reduced, f.Exit = len(obs)+2, len(obs), 1
+		won, err := rec.Finish(ctx, lines, fits)
+		require.NoError(t, err)
+		require.True(t, won)
+		c, err = other.Count(ctx, "bridge")
+		require.NoError(t, err)
+		require.Equal(t, Counts{Files: 1, Observations: len(obs), Lines: 1, Fits: 1}, c)
+		there, ok, err := other.Processed(ctx, "bridge", "ss")
+		require.NoError(t, err)
+		require.True(t, ok)
+		require.Equal(t, f, there, "the mark as the File was at Finish")
+
+		g := File{Job: "bridge", SHA256: "tt", Name: "thu.csv", Night: r.Night, RunID: r.ID, Status: StatusReduced}
+		rec, err = s.BeginRecord(ctx, &g)
+		require.NoError(t, err)
+		for i := range obs {
+			require.NoError(t, rec.Add(ctx, &obs[i]))
+		}
+		rec.Abort()
+		_, ok, err = other.Processed(ctx, "bridge", "tt")
+		require.NoError(t, err)
+		require.False(t, ok)
+		c, err = other.Count(ctx, "bridge")
+		require.NoError(t, err)
+		require.Equal(t, Counts{Files: 1, Observations: len(obs), Lines: 1, Fits: 1}, c, "an aborted record leaves nothing")
+	})
+}
+
 // TestRecordConcurrent: two writers of the same content hash at once, on
 // one store: one wins, the other finds its mark; rows are not doubled.
 func TestRecordConcurrent(t *testing.T) {
