@@ -12,6 +12,7 @@ import (
 	"os"
 	"path/filepath"
 	"runtime/debug"
+	"slices"
 	"strings"
 	"syscall"
 	"time"
@@ -47,7 +48,8 @@ type nightlySummary struct {
 	Started    string          `json:"started"`
 	History    string          `json:"history"`
 	Files      []nightlyFile   `json:"files"`
-	Alerts     []history.Alert `json:"alerts"`
+	Alerts     []history.Alert `json:"alerts"` // of the nights whose alerts the run computed
+	Notes      []string        `json:"notes,omitempty"`
 	ExitStatus int             `json:"exit_status"`
 	Caution    string          `json:"caution"`
 
@@ -75,8 +77,9 @@ The unattended run of a job folder (its job file, its points file, an inbox
 of new observation files), for cron or a systemd timer. Each inbox file not
 yet processed — known by the SHA-256 of its content, not its name — is
 reduced as geored reduce would into results/NIGHT/STEM-HASH8/, its
-observations, lines and per-instrument fits written to the history with
-its processed mark in one transaction, and only then moved to the archive
+observations (a batch at a time, as they are reduced), lines and
+per-instrument fits written to the history with its processed mark in one
+transaction, and only then moved to the archive
 (a file that cannot be reduced goes to rejected/, its reason in the
 summary). A file already processed, under any name, is not reduced again.
 A rerun after a crash finishes what was left: nothing lost, nothing
@@ -93,14 +96,17 @@ and subject; in the summary, the log and the exit status):
      fit of enough evidence, the Mann–Kendall test finds a trend at
      α = 0.01 and the Theil–Sen line is beyond the instrument's EDM
      specification (spec_mm, spec_ppm as 1σ) on the night; the slope per
-     night is given with Sen's 99 % interval
+     night is given with Sen's 99 % interval; with calibrated =
+     "YYYY-MM-DD" in [instrument.NAME], over the nights since then
   mark-moved: the residuals of at least 4 lines at the mark, in two
      directions, each against the median of its own earlier nights (3 at
      least, since the mark last moved), fit one 2-D displacement beside a
      change common to them (least squares, σ from the lines, scaled up by
      the baselines' own scatter) and it passes χ²(2) at α = 0.001, with
      any one line left out as well; one bad line alone is a line flag
-summary.html plots each alert's series; `+"`"+`geored history`+"`"+` prints them as CSV.
+A night's alerts are recorded with it as a step of its own: a run
+computes those of every night whose files are recorded and alerts not
+(a run stopped between the two). summary.html plots each alert's series; `+"`"+`geored history`+"`"+` prints them as CSV.
 
 Exit status:
   0  every new file reduced clean, or nothing new
@@ -149,10 +155,12 @@ Flags:
 	} else if _, err := time.Parse(time.DateOnly, *night); err != nil {
 		return fail(stderr, "nightly", fmt.Errorf("-night %q: want YYYY-MM-DD", *night))
 	}
-	// A night holds each file's observations for the history, strings
-	// and all, which the collector must mark: at the GOGC=10 that suits
-	// reduce's pointer-free heap it marked them over and over (a third
-	// of a run of 1,000,000 observations). GOGC, if set, still rules.
+	// A night holds each file's line sums for the history and a batch
+	// of its observations, strings and all, which the collector must
+	// mark: at the GOGC=10 that suits reduce's pointer-free heap it
+	// marked them over and over (a third of a run of 1,000,000
+	// observations, when the night held all of them). GOGC, if set,
+	// still rules.
 	if os.Getenv("GOGC") == "" {
 		defer debug.SetGCPercent(debug.SetGCPercent(100))
 	}
@@ -257,14 +265,37 @@ Flags:
 		}
 		sum.Files = append(sum.Files, nf)
 	}
-	_, sum.Plots, err = driftAlerts(ctx, store, j, *jobName, *night, run.ID)
+	// The alerts are a recorded step of their own: every night whose
+	// files are recorded and whose alerts are not (tonight's, or a night
+	// whose run stopped between the two) is computed, in order, and
+	// recorded with its alerts in one transaction.
+	due, err := store.AlertsDue(ctx, *jobName)
 	if err != nil {
-		return fail(stderr, "nightly", fmt.Errorf("drift alerts: %w", err))
+		return fail(stderr, "nightly", err)
+	}
+	if !slices.Contains(due, *night) {
+		due = append(due, *night) // its alerts again, with their plots, for the summary
+	}
+	var notes driftNotes
+	for _, n := range due {
+		hook("alerts:" + n)
+		alerts, plots, err := driftAlerts(ctx, store, j, *jobName, n, &notes)
+		if err != nil {
+			return fail(stderr, "nightly", fmt.Errorf("drift alerts of %s: %w", n, err))
+		}
+		if err := store.RecordAlerts(ctx, *jobName, n, run.ID, alerts); err != nil {
+			return fail(stderr, "nightly", err)
+		}
+		sum.Plots = append(sum.Plots, plots...)
+	}
+	sum.Notes = notes.list()
+	for _, n := range sum.Notes {
+		log.Warn("note", "message", n)
 	}
 	if sum.Alerts, err = store.Alerts(ctx, *jobName); err != nil {
 		return fail(stderr, "nightly", err)
 	}
-	sum.Alerts = nightAlerts(sum.Alerts, *night)
+	sum.Alerts = nightAlerts(sum.Alerts, due)
 	if len(sum.Alerts) > 0 && status == exitOK {
 		status = exitFlagged
 	}
@@ -291,11 +322,11 @@ Flags:
 	return status
 }
 
-// nightAlerts are the alerts of night.
-func nightAlerts(all []history.Alert, night string) []history.Alert {
+// nightAlerts are the alerts of nights.
+func nightAlerts(all []history.Alert, nights []string) []history.Alert {
 	var out []history.Alert
 	for _, a := range all {
-		if a.Night == night {
+		if slices.Contains(nights, a.Night) {
 			out = append(out, a)
 		}
 	}
@@ -322,7 +353,16 @@ func nightlyOne(ctx context.Context, store *history.Store, run *history.Run, j0 
 	if err := os.MkdirAll(filepath.Dir(j.Out), 0o755); err != nil {
 		return exitFailed, err
 	}
-	var c collector
+	// The record is begun before the reduce, so that each observation
+	// goes to the store as it is reduced, a batch at a time, in the
+	// transaction that the file's processed mark commits.
+	f := history.File{Job: run.Job, SHA256: e.SHA256, Name: e.Name, Night: run.Night, RunID: run.ID, Results: j.Out, Status: history.StatusReduced}
+	rec, err := store.BeginRecord(ctx, &f)
+	if err != nil {
+		return exitFailed, err
+	}
+	defer rec.Abort()
+	c := collector{ctx: ctx, rec: rec}
 	opt := reduceOptions{each: c.add}
 	opt.set = setOptions(ctx, io.Discard, nil, false)
 	opt.set.Hook = hook
@@ -330,7 +370,9 @@ func nightlyOne(ctx context.Context, store *history.Store, run *history.Run, j0 
 	if errors.As(err, new(signalStop)) || (err != nil && couldNotRun(err)) {
 		return exitFailed, err
 	}
-	f := history.File{Job: run.Job, SHA256: e.SHA256, Name: e.Name, Night: run.Night, RunID: run.ID, Results: j.Out}
+	if c.err != nil {
+		return exitFailed, c.err // the history, not the file
+	}
 	code := exitOK
 	switch {
 	case err != nil:
@@ -356,22 +398,26 @@ func nightlyOne(ctx context.Context, store *history.Store, run *history.Run, j0 
 	}
 	nf.Outcome, nf.Reason, nf.Exit, nf.Read, nf.Reduced = f.Status, f.Reason, f.Exit, f.Read, f.Reduced
 	hook("reduced:" + e.Name)
-	var obs []history.Observation
-	var lines []history.Line
-	var fits []history.Fit
-	if f.Status == history.StatusReduced {
-		obs, lines, fits = c.obs, c.lines(), c.fits(j.Critical)
+	if f.Status != history.StatusReduced {
+		// A rejected file's mark alone: its rows are rolled back.
+		rec.Abort()
+		_, err = store.Record(ctx, &f, nil, nil, nil)
+	} else {
+		_, err = rec.Finish(ctx, c.lines(), c.fits(j.Critical))
 	}
-	if _, err := store.Record(ctx, &f, obs, lines, fits); err != nil {
+	if err != nil {
 		return exitFailed, err
 	}
 	return code, nil
 }
 
 // A collector keeps what the history needs of each result of one file:
-// the observation, and per instrument and line the sums of its mean.
+// the observation, added to the file's record as it comes, and per
+// instrument and line the sums of its mean.
 type collector struct {
-	obs   []history.Observation
+	ctx   context.Context
+	rec   *history.Recording
+	err   error             // the record's first error: the rest are not added
 	names map[string]string // interned point and instrument names
 	sums  map[lineKey]*lineSum
 	order []lineKey
@@ -408,7 +454,9 @@ func (c *collector) add(r *job.Result) {
 	o := history.Observation{LineNo: r.Obs.Line, ObsID: strings.Clone(r.Obs.ObsID), From: c.intern(r.Obs.From), To: c.intern(r.Obs.To),
 		Instrument: c.intern(r.Profile), Slope: r.Obs.SlopeDistance, Arc: r.Reduction.Geometry.Arc, Geodesic: e.Reference,
 		ResidualMM: e.Residual * 1e3, SigmaMM: e.Sigma * 1e3, W: e.Standardized, Flagged: e.Outlier || e.OutOfTolerance}
-	c.obs = append(c.obs, o)
+	if c.err == nil {
+		c.err = c.rec.Add(c.ctx, &o)
+	}
 	k := lineKey{o.Instrument, r.LineID}
 	if c.sums == nil {
 		c.sums = map[lineKey]*lineSum{}

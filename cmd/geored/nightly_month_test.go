@@ -202,8 +202,9 @@ type monthResult struct {
 // geored nightly on each night, on the history at where ("" for SQLite in
 // the folder): on night 8 a corrupt file arrives beside the night's
 // files, on night 14 ts-south's file comes a second time under another
-// name, and night 25's first run is killed (SIGKILL) once its first file
-// is recorded, before it is moved, and run again.
+// name, night 20's run is killed (SIGKILL) before its alerts and not run
+// again, and night 25's first run is killed once its first file is
+// recorded, before it is moved, and run again.
 func runMonth(t *testing.T, files map[int]map[string][]byte, where string) monthResult {
 	t.Helper()
 	bin := setBinary(t)
@@ -228,6 +229,17 @@ func runMonth(t *testing.T, files map[int]map[string][]byte, where string) month
 			require.NoError(t, os.WriteFile(filepath.Join(dir, "inbox", "garbled.csv"), []byte("from;to;slope\nHS-01;HS-02;600.1\n"), 0o644))
 		}
 		args := []string{"-config", cfg, "-history", where, "-night", monthNight(night)}
+		if night == monthMovedOn {
+			// Killed after the night's files are recorded and moved,
+			// before its alerts: the next night's run computes them.
+			cmd := exec.Command(bin, append([]string{"nightly", "-quiet"}, args...)...)
+			cmd.Env = append(os.Environ(), envStopAt+"=alerts:"+monthNight(night))
+			out, err := cmd.CombinedOutput()
+			require.Error(t, err, "killed: %s", out)
+			left, _ := os.ReadDir(filepath.Join(dir, "inbox"))
+			require.Empty(t, left, "the killed run moved its files")
+			continue
+		}
 		if night == 25 {
 			cmd := exec.Command(bin, append([]string{"nightly", "-quiet"}, args...)...)
 			cmd.Env = append(os.Environ(), envStopAt+"=recorded:north-25.csv")
@@ -243,6 +255,9 @@ func runMonth(t *testing.T, files map[int]map[string][]byte, where string) month
 			require.Contains(t, stderr, `"msg":"alert"`, "night %d: each alert logged", night)
 		}
 		for _, a := range s.Alerts {
+			if night == monthMovedOn+1 && a.Night == monthNight(monthMovedOn) {
+				continue // the killed night's, computed by this run
+			}
 			require.Equal(t, monthNight(night), a.Night, "the summary's alerts are the night's")
 		}
 		res.summaryAlerts += len(s.Alerts)
@@ -252,7 +267,7 @@ func runMonth(t *testing.T, files map[int]map[string][]byte, where string) month
 		}
 		left, _ := os.ReadDir(filepath.Join(dir, "inbox"))
 		require.Empty(t, left, "night %d", night)
-		if night == monthMovedOn || night == monthNights {
+		if night == monthMovedOn+1 || night == monthNights {
 			runs, _ := filepath.Glob(filepath.Join(dir, "results", monthNight(night), "run-*", "summary.html"))
 			require.NotEmpty(t, runs)
 			b, err := os.ReadFile(runs[len(runs)-1])
@@ -276,7 +291,8 @@ func runMonth(t *testing.T, files map[int]map[string][]byte, where string) month
 // 1 mm after night 6) to the month's end, HS-05 as moved on night 20,
 // and nothing else; the resent file is processed once, the garbled one
 // rejected with its reason, and the killed night finished with nothing
-// lost or doubled. Both stores give the same alerts.
+// lost or doubled; night 20, killed before its alerts, has them from
+// the next night's run. Both stores give the same alerts.
 func TestNightlyMonth(t *testing.T) {
 	files := monthFiles(t)
 	perNight := 2 * 2 * len(monthLines())
@@ -336,4 +352,78 @@ func allNights() []string {
 		out = append(out, monthNight(n))
 	}
 	return out
+}
+
+// monthFolder is a job folder of the month's job and points.
+func monthFolder(t *testing.T, job string) string {
+	t.Helper()
+	dir := filepath.Join(t.TempDir(), "hillside")
+	require.NoError(t, os.MkdirAll(filepath.Join(dir, "inbox"), 0o755))
+	require.NoError(t, os.WriteFile(filepath.Join(dir, "job.toml"), []byte(job), 0o644))
+	require.NoError(t, os.WriteFile(filepath.Join(dir, "points.csv"), monthPoints(false), 0o644))
+	return dir
+}
+
+// TestNightlyNoProfileNote: an instrument of the history that the job no
+// longer has a profile for is said once per run, in the log and the
+// summary's notes, though the run computes two nights where it has fits.
+func TestNightlyNoProfileNote(t *testing.T) {
+	files := monthFiles(t)
+	bin := setBinary(t)
+	dir := monthFolder(t, monthJob)
+	cfg := filepath.Join(dir, "job.toml")
+	for night := 1; night <= 2; night++ {
+		for inst, b := range files[night] {
+			require.NoError(t, os.WriteFile(filepath.Join(dir, "inbox", fmt.Sprintf("%s-%02d.csv", inst, night)), b, 0o644))
+		}
+		// Killed before the first night's alerts: both nights are due.
+		cmd := exec.Command(bin, "nightly", "-quiet", "-config", cfg, "-night", monthNight(night))
+		cmd.Env = append(os.Environ(), envStopAt+"=alerts:"+monthNight(1))
+		out, err := cmd.CombinedOutput()
+		require.Error(t, err, "killed: %s", out)
+	}
+	south := strings.Index(monthJob, "[instrument.ts-south]")
+	require.NoError(t, os.WriteFile(cfg, []byte(monthJob[:south]), 0o644))
+	code, s, stderr := nightlyJSON(t, "-config", cfg, "-night", monthNight(3))
+	require.Equal(t, exitOK, code, stderr)
+	require.Equal(t, []string{"instrument ts-south is in the history but the job has no [instrument.ts-south] profile: its trend is not searched for drift"}, s.Notes)
+	require.Equal(t, 1, strings.Count(stderr, `"msg":"note"`), stderr)
+	require.Contains(t, stderr, `"level":"WARN","msg":"note","message":"instrument ts-south`)
+	runs, _ := filepath.Glob(filepath.Join(dir, "results", monthNight(3), "run-*", "summary.html"))
+	require.Len(t, runs, 1)
+	b, err := os.ReadFile(runs[0])
+	require.NoError(t, err)
+	require.Contains(t, string(b), "<li>instrument ts-south is in the history")
+}
+
+// TestNightlyTrendSinceCalibration: ts-north calibrated on night 10 (its
+// constant drifting on) has its trend from night 10 alone: no alert
+// before the sixth night since, and each alert names the nights since
+// the calibration. Without the setting the month alerts from night 12.
+func TestNightlyTrendSinceCalibration(t *testing.T) {
+	files := monthFiles(t)
+	calibrated := monthNight(10)
+	job := strings.Replace(monthJob, "[instrument.ts-north]\n", "[instrument.ts-north]\ncalibrated = \""+calibrated+"\"\n", 1)
+	dir := monthFolder(t, job)
+	cfg := filepath.Join(dir, "job.toml")
+	var first int
+	for night := 1; night <= 24; night++ {
+		for inst, b := range files[night] {
+			require.NoError(t, os.WriteFile(filepath.Join(dir, "inbox", fmt.Sprintf("%s-%02d.csv", inst, night)), b, 0o644))
+		}
+		code, s, stderr := nightlyJSON(t, "-config", cfg, "-night", monthNight(night))
+		require.Contains(t, []int{exitOK, exitFlagged}, code, stderr)
+		for _, a := range s.Alerts {
+			if a.Kind != alertConstant {
+				continue
+			}
+			require.Equal(t, "ts-north", a.Subject)
+			require.Contains(t, a.Message, fmt.Sprintf("Theil–Sen over %d nights since its calibration on %s)", night-9, calibrated))
+			if first == 0 {
+				first = night
+			}
+		}
+	}
+	require.NotZero(t, first, "the drift is found again after the calibration")
+	require.GreaterOrEqual(t, first, 15, "not before six nights since the calibration")
 }

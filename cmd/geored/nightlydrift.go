@@ -6,6 +6,7 @@ import (
 	"html/template"
 	"math"
 	"os"
+	"slices"
 	"sort"
 	"time"
 
@@ -79,6 +80,18 @@ func instrumentNights(fits []history.FitPoint, night string) (map[string][]night
 	return out, nil
 }
 
+// sinceCalibration are the nights of ns from the day the instrument was
+// calibrated on (YYYY-MM-DD; "" for all of them), and the words that say
+// so in an alert: a calibration changes the constants the job applies,
+// and the fits of the nights before it belong to another line.
+func sinceCalibration(ns []nightFit, calibrated string) ([]nightFit, string) {
+	if calibrated == "" {
+		return ns, ""
+	}
+	i := sort.Search(len(ns), func(i int) bool { return ns[i].Night >= calibrated })
+	return ns[i:], " since its calibration on " + calibrated
+}
+
 // specBounds are an instrument's EDM specification a (mm) and b (ppm) as
 // one standard deviation: the bounds its calibration may drift to.
 func specBounds(p jobconfig.Profile) (mm, ppm float64, err error) {
@@ -103,8 +116,8 @@ type nightPlot struct {
 
 // driftAlerts computes the night's alerts from the history: each
 // instrument's trend and each mark's displacement (package drift), and
-// records them. It returns them with their plots.
-func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job, night string, runID int64) ([]history.Alert, []nightPlot, error) {
+// returns them with their plots; what it could not look at goes to notes.
+func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, job, night string, notes *driftNotes) ([]history.Alert, []nightPlot, error) {
 	fits, err := store.InstrumentSeries(ctx, job, "")
 	if err != nil {
 		return nil, nil, err
@@ -127,6 +140,11 @@ func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, jo
 		}
 		p, ok := j.Profiles[inst]
 		if !ok {
+			notes.noProfile(inst)
+			continue
+		}
+		ns, since := sinceCalibration(ns, p.Source.Calibrated)
+		if len(ns) == 0 {
 			continue
 		}
 		bmm, bppm, err := specBounds(p)
@@ -149,9 +167,9 @@ func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, jo
 			if !tr.Alert {
 				continue
 			}
-			msg := fmt.Sprintf("%s of %s drifting %s %s/night (%.0f %% interval %s to %s, Theil–Sen over %d nights); Mann–Kendall P = %.2g (α = %g); the trend line is at %s %s on %s, beyond the EDM specification's ±%.2f %s",
+			msg := fmt.Sprintf("%s of %s drifting %s %s/night (%.0f %% interval %s to %s, Theil–Sen over %d nights%s); Mann–Kendall P = %.2g (α = %g); the trend line is at %s %s on %s, beyond the EDM specification's ±%.2f %s",
 				k.what, inst, signedFixed(tr.Line.Slope, 3), k.unit, 100*tr.Line.Confidence, signedFixed(tr.Line.Lower, 3), signedFixed(tr.Line.Upper, 3),
-				len(ns), tr.MannKendall.P, drift.TrendAlpha, signedFixed(tr.Last, 2), k.unit, night, k.bound, k.unit)
+				len(ns), since, tr.MannKendall.P, drift.TrendAlpha, signedFixed(tr.Last, 2), k.unit, night, k.bound, k.unit)
 			out = append(out, history.Alert{Night: night, Kind: k.kind, Subject: inst, Message: msg})
 			fit := report.NightSeries{Name: "the night's fit, ±σ"}
 			for _, f := range ns {
@@ -173,12 +191,30 @@ func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, jo
 	}
 	out = append(out, marks...)
 	plots = append(plots, markPlots...)
-	for _, a := range out {
-		if err := store.AddAlert(ctx, job, runID, a); err != nil {
-			return nil, nil, err
-		}
-	}
 	return out, plots, nil
+}
+
+// driftNotes are what a run's drift alerts could not look at, each said
+// once per run.
+type driftNotes struct {
+	noProfiles []string
+}
+
+// noProfile notes an instrument of the history the job has no profile
+// for: its trend has no specification to be judged against.
+func (n *driftNotes) noProfile(inst string) {
+	if !slices.Contains(n.noProfiles, inst) {
+		n.noProfiles = append(n.noProfiles, inst)
+	}
+}
+
+// list is the notes as the summary's sentences.
+func (n *driftNotes) list() []string {
+	var out []string
+	for _, inst := range n.noProfiles {
+		out = append(out, fmt.Sprintf("instrument %s is in the history but the job has no [instrument.%s] profile: its trend is not searched for drift", inst, inst))
+	}
+	return out
 }
 
 // markWindowNights is how far back a mark's lines are read: its

@@ -3,8 +3,8 @@ package main
 import "html/template"
 
 // nightlyHTML is the run's summary.html: every inbox file by name and
-// hash with its outcome, the flagged lines, the night's alerts and their
-// plots.
+// hash with its outcome, the flagged lines, the alerts of the nights the run
+// computed and their plots, and its notes.
 var nightlyHTML = template.Must(template.New("nightly").Parse(`<!DOCTYPE html>
 <html lang="en"><head><meta charset="utf-8"><title>geored nightly {{.Job}} {{.Night}}</title>
 <style>body{font-family:sans-serif;margin:2em}figure{margin:1em 0;max-width:50em}table{border-collapse:collapse}td,th{border:1px solid #999;padding:.2em .5em;text-align:left}code{font-size:90%}</style>
@@ -19,6 +19,8 @@ var nightlyHTML = template.Must(template.New("nightly").Parse(`<!DOCTYPE html>
 {{if .Alerts}}<ul>{{range .Alerts}}<li><b>{{.Kind}}</b> {{.Subject}}: {{.Message}}</li>{{end}}</ul>{{else}}<p>None.</p>{{end}}
 {{range .Plots}}<figure>{{.SVG}}<figcaption>{{.Title}}</figcaption></figure>
 {{end}}
+{{if .Notes}}<h2>Notes</h2>
+<ul>{{range .Notes}}<li>{{.}}</li>{{end}}</ul>{{end}}
 <p><i>{{.Caution}}</i></p>
 </body></html>
 `))

@@ -450,4 +450,7 @@ spec_ppm = 1.5
 # spec_rule = "rss"
 # spec_level: "1sigma" or "95". Default: "1sigma".
 # spec_level = "1sigma"
+# calibrated: the day of the instrument's last calibration, YYYY-MM-DD;
+# geored nightly's trend of its fits starts there. Default: not given.
+# calibrated = "2026-01-15"
 `))

@@ -91,4 +91,17 @@ var migrations = [][]string{
 		`postgres:ALTER TABLE observations DROP CONSTRAINT observations_file_id_fkey`,
 		`postgres:ALTER TABLE lines DROP CONSTRAINT lines_file_id_fkey`,
 	},
+	{ // 3: a night's alerts are a recorded step: alert_nights holds the
+		// nights whose alerts were computed from their files; a night
+		// with files but no row here is computed by the next run. The
+		// nights already in the history were computed by the runs that
+		// recorded them.
+		`CREATE TABLE alert_nights (
+			job TEXT NOT NULL,
+			night TEXT NOT NULL,
+			run_id BIGINT NOT NULL REFERENCES runs(id),
+			PRIMARY KEY (job, night)
+		)`,
+		`INSERT INTO alert_nights (job, night, run_id) SELECT job, night, MAX(run_id) FROM files GROUP BY job, night`,
+	},
 }

@@ -76,6 +76,26 @@ func TestMigrations(t *testing.T) {
 	})
 }
 
+// TestMigrationAlertNights: the nights a store held before alert_nights
+// are taken as computed, not all computed again by the next run.
+func TestMigrationAlertNights(t *testing.T) {
+	backends(t, func(t *testing.T, where string) {
+		ctx := context.Background()
+		all := migrations
+		migrations = all[:2]
+		s := open(t, where)
+		r := begin(t, s, "bridge", "2026-11-30")
+		_, err := s.db.ExecContext(ctx, s.d.sql(`INSERT INTO files (job, sha256, name, night, run_id, status, reason, results, input_hash, settings,
+			rows_read, rows_reduced, rows_rejected, exit_status) VALUES ('bridge', 'aa', 'a.csv', '2026-11-30', ?, 'reduced', '', '', '', '', 0, 0, 0, 0)`), r.ID)
+		migrations = all
+		require.NoError(t, err)
+		s.Close()
+		s = open(t, where)
+		due, err := s.AlertsDue(ctx, "bridge")
+		require.NoError(t, err)
+		require.Empty(t, due)
+	})
+}
 func TestOpenSQLiteIsWAL(t *testing.T) {
 	s := open(t, filepath.Join(t.TempDir(), "h.db"))
 	var mode string
@@ -150,6 +170,54 @@ func TestRecordIsOneTransaction(t *testing.T) {
 	})
 }
 
+// TestRecordingStreams: observations added one by one go to the store a
+// batch at a time, in the transaction of the mark: before Finish another
+// session sees none of them; Finish records the mark as the File is then;
+// Abort leaves neither mark nor rows.
+func TestRecordingStreams(t *testing.T) {
+	backends(t, func(t *testing.T, where string) {
+		ctx := context.Background()
+		s, other := open(t, where), open(t, where)
+		r := begin(t, s, "bridge", "2026-12-01")
+		obs, lines, fits := someRows(2*RecordBatch + 7)
+		f := File{Job: "bridge", SHA256: "ss", Name: "wed.csv", Night: r.Night, RunID: r.ID, Status: StatusReduced}
+		rec, err := s.BeginRecord(ctx, &f)
+		require.NoError(t, err)
+		for i := range obs {
+			require.NoError(t, rec.Add(ctx, &obs[i]))
+		}
+		require.Len(t, rec.buf, 7, "the full batches are written as they come")
+		c, err := other.Count(ctx, "bridge")
+		require.NoError(t, err)
+		require.Equal(t, Counts{}, c, "nothing seen before the commit")
+		f.Read, f.Reduced, f.Exit = len(obs)+2, len(obs), 1
+		won, err := rec.Finish(ctx, lines, fits)
+		require.NoError(t, err)
+		require.True(t, won)
+		c, err = other.Count(ctx, "bridge")
+		require.NoError(t, err)
+		require.Equal(t, Counts{Files: 1, Observations: len(obs), Lines: 1, Fits: 1}, c)
+		there, ok, err := other.Processed(ctx, "bridge", "ss")
+		require.NoError(t, err)
+		require.True(t, ok)
+		require.Equal(t, f, there, "the mark as the File was at Finish")
+
+		g := File{Job: "bridge", SHA256: "tt", Name: "thu.csv", Night: r.Night, RunID: r.ID, Status: StatusReduced}
+		rec, err = s.BeginRecord(ctx, &g)
+		require.NoError(t, err)
+		for i := range obs {
+			require.NoError(t, rec.Add(ctx, &obs[i]))
+		}
+		rec.Abort()
+		_, ok, err = other.Processed(ctx, "bridge", "tt")
+		require.NoError(t, err)
+		require.False(t, ok)
+		c, err = other.Count(ctx, "bridge")
+		require.NoError(t, err)
+		require.Equal(t, Counts{Files: 1, Observations: len(obs), Lines: 1, Fits: 1}, c, "an aborted record leaves nothing")
+	})
+}
+
 // TestRecordConcurrent: two writers of the same content hash at once, on
 // one store: one wins, the other finds its mark; rows are not doubled.
 func TestRecordConcurrent(t *testing.T) {
@@ -207,11 +275,31 @@ func TestSeries(t *testing.T) {
 		require.Equal(t, "2026-12-01", fs[1].Night)
 		require.Equal(t, 1.0, fs[1].ConstantMM)
 
-		require.NoError(t, s.AddAlert(ctx, "bridge", 1, Alert{Night: "2026-12-01", Kind: "mark-moved", Subject: "A", Message: "moved"}))
-		require.NoError(t, s.AddAlert(ctx, "bridge", 1, Alert{Night: "2026-12-01", Kind: "mark-moved", Subject: "A", Message: "again"}))
+		due, err := s.AlertsDue(ctx, "bridge")
+		require.NoError(t, err)
+		require.Equal(t, []string{"2026-11-30", "2026-12-01"}, due, "both nights' alerts are due")
+		moved := Alert{Night: "2026-12-01", Kind: "mark-moved", Subject: "A", Message: "moved"}
+		require.NoError(t, s.RecordAlerts(ctx, "bridge", "2026-12-01", 1, []Alert{moved}))
+		again := moved
+		again.Message = "again"
+		require.NoError(t, s.RecordAlerts(ctx, "bridge", "2026-12-01", 1, []Alert{again}))
 		al, err := s.Alerts(ctx, "bridge")
 		require.NoError(t, err)
-		require.Equal(t, []Alert{{Night: "2026-12-01", Kind: "mark-moved", Subject: "A", Message: "moved"}}, al, "an alert is recorded once")
+		require.Equal(t, []Alert{moved}, al, "an alert is recorded once")
+		require.Error(t, s.RecordAlerts(ctx, "bridge", "2026-11-30", 1, []Alert{moved}), "an alert of another night")
+		due, err = s.AlertsDue(ctx, "bridge")
+		require.NoError(t, err)
+		require.Equal(t, []string{"2026-11-30"}, due, "2026-12-01's computed; the failed record left 2026-11-30 due")
+
+		// A file recorded for a night whose alerts are computed makes
+		// them due again, in the transaction of its mark.
+		r := begin(t, s, "bridge", "2026-12-01")
+		f := File{Job: "bridge", SHA256: "late", Name: "late.csv", Night: "2026-12-01", RunID: r.ID, Status: StatusReduced}
+		_, err = s.Record(ctx, &f, nil, nil, nil)
+		require.NoError(t, err)
+		due, err = s.AlertsDue(ctx, "bridge")
+		require.NoError(t, err)
+		require.Equal(t, []string{"2026-11-30", "2026-12-01"}, due)
 	})
 }
 

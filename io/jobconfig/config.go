@@ -97,6 +97,10 @@ type Instrument struct {
 	SpecPPM   float64 `toml:"spec_ppm"`
 	SpecRule  string  `toml:"spec_rule"`  // linear or rss (default)
 	SpecLevel string  `toml:"spec_level"` // 1sigma (default) or 95
+
+	// Calibrated is the day (YYYY-MM-DD) the instrument was last
+	// calibrated: the nightly trend of its fits starts there.
+	Calibrated string `toml:"calibrated"`
 }
 
 // ReadFile reads a TOML job file. A syntax error names the line; an

@@ -6,6 +6,7 @@ import (
 	"math"
 	"sort"
 	"strings"
+	"time"
 
 	"github.com/golang/geo/s1"
 
@@ -390,6 +391,11 @@ func profile(name string, in Instrument, pr *problems) (Profile, bool) {
 	}
 	if spec.Level, ok = level(in.SpecLevel, reduce.OneSigma); !ok {
 		pr.bad(key+".spec_level", "%q: want 1sigma or 95", in.SpecLevel)
+	}
+	if in.Calibrated != "" {
+		if _, err := time.Parse(time.DateOnly, in.Calibrated); err != nil {
+			pr.bad(key+".calibrated", "%q: want the day of the calibration, YYYY-MM-DD", in.Calibrated)
+		}
 	}
 	if len(pr.errs) != n {
 		return Profile{}, false

@@ -131,6 +131,7 @@ wavelength_um = 0.658
 reference_refractivity = 280
 unit_length_m = 10
 spec_mm = 0
+calibrated = "2026-13-01"
 `
 	f, err := Parse([]byte(in), "job.toml")
 	require.NoError(t, err)
@@ -148,6 +149,7 @@ spec_mm = 0
 		"job.toml: instrument.a.wavelength_um: missing",
 		"job.toml: instrument.b: give exactly one of",
 		"job.toml: instrument.b.spec_mm",
+		"job.toml: instrument.b.calibrated: \"2026-13-01\": want the day of the calibration, YYYY-MM-DD",
 	} {
 		assert.ErrorContains(t, err, want)
 	}
