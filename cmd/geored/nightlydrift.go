@@ -143,7 +143,7 @@ func driftAlerts(ctx context.Context, store *history.Store, j *jobconfig.Job, jo
 			notes.noProfile(inst)
 			continue
 		}
-		ns, since := sinceCalibration(ns, p.Source.Calibrated)
+		ns, since := sinceCalibration(ns, j.Instruments[inst].Calibrated)
 		if len(ns) == 0 {
 			continue
 		}
