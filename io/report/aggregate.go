@@ -73,8 +73,8 @@ func (o *lineOrder) at(i int) int32 { return o.chunks[i/lineAccChunk][i%lineAccC
 // observed more than once has a second record too (lineMore and its
 // counts), numbered as they come and kept alike.
 //
-// A chunk keeps the records' 12-byte heads and their 40 bytes of sums in
-// two arrays, so that a record costs 52 bytes, not the 56 of one struct
+// A chunk keeps the records' 12-byte heads and their 32 bytes of sums in
+// two arrays, so that a record costs 44 bytes, not the 48 of one struct
 // padded to its eight-byte alignment.
 type lineAccs struct {
 	chunks []*lineAccBlock
@@ -108,7 +108,7 @@ func (s *lineAccs) get(id int32) lineAcc {
 }
 
 // moreOf is the second record of l and its counts, nil while l has one
-// observation.
+// observation (and Add found it need not keep its |w|).
 func (s *lineAccs) moreOf(l lineAcc) (*lineMore, *lineCounts) {
 	i := l.bits & lineState
 	if i < stateMore {
@@ -121,8 +121,8 @@ func (s *lineAccs) moreOf(l lineAcc) (*lineMore, *lineCounts) {
 
 // addMore gives l, which has one observation, its second record: the
 // sums and counts of that one observation, as Aggregator.Add would have
-// made them.
-func (s *lineAccs) addMore(l lineAcc) (*lineMore, *lineCounts) {
+// made them, and its |w|, absW.
+func (s *lineAccs) addMore(l lineAcc, absW float64) (*lineMore, *lineCounts) {
 	i := s.nMore
 	if i > lineState-stateMore {
 		panic("report: too many lines observed more than once for the summary's records")
@@ -138,7 +138,7 @@ func (s *lineAccs) addMore(l lineAcc) (*lineMore, *lineCounts) {
 	l.bits = l.bits&^lineState | (i + stateMore)
 	b := s.more[i/lineAccChunk]
 	m := &b.more[i%lineAccChunk]
-	*m = lineMore{min: l.mean, max: l.mean}
+	*m = lineMore{min: l.mean, max: l.mean, maxAbsW: absW}
 	if c.flagged == 0 {
 		m.unflaggedMean = l.mean
 	}
@@ -195,11 +195,14 @@ const DefaultGlobalTestAlpha = 0.05
 func (a *Aggregator) SetGlobalTestAlpha(alpha float64) { a.globalAlpha = alpha }
 
 // lineAcc accumulates one line's observations: its head and first sums,
-// 52 bytes in the chunk. What only a line observed more than once needs
-// is in its lineMore and lineCounts (60 bytes more): of one observation,
+// 44 bytes in the chunk. What only a line observed more than once needs
+// is in its lineMore and lineCounts (68 bytes more): of one observation,
 // the counts are 1 and 0 and whether it is flagged (a state of the head's
 // bits), the mean is the arc, its smallest and largest and the mean of
-// the unflagged, and the sum of squared deviations is 0.
+// the unflagged, the sum of squared deviations is 0, and the largest |w|
+// is its |w|, which oneAbsW computes again from the arc, σ and the
+// control (Add keeps it in a lineMore where that would not give it to
+// the bit).
 type lineAcc struct {
 	*lineHead
 	*lineFirst
@@ -216,9 +219,8 @@ type lineHead struct {
 
 // lineFirst are a line's sums that every observed line has.
 type lineFirst struct {
-	mean    float64 // Welford: mean reduced arc
-	sumVar  float64 // Σσ² of the observations
-	maxAbsW float64
+	mean   float64 // Welford: mean reduced arc
+	sumVar float64 // Σσ² of the observations
 	// The sums for reciprocal zenith angles of the direction first
 	// observed (lineMore has the other's): mark-to-mark zenith angle
 	// (rad) and chord S3 (m).
@@ -238,6 +240,16 @@ type lineMore struct {
 	min, max      float64
 	// The other direction's sums for reciprocal zenith angles.
 	zenith, slope float64
+	maxAbsW       float64 // the largest |w|
+}
+
+// oneAbsW is |w| of an observation as reduce.CompareDistance makes it,
+// w = (arc − D)/σ, from its arc, σ² and the control's distance D: that of
+// a line observed once from its mean (the arc itself, 0 + arc/1) and
+// Σσ² (σ·σ). Aggregator.Add checks that it gives the observation's own
+// |w| to the bit before it keeps none.
+func oneAbsW(arc, sumVar, d float64) float64 {
+	return math.Abs((arc - d) / math.Sqrt(sumVar))
 }
 
 // lineHead.bits.
@@ -255,17 +267,25 @@ const (
 
 // lineSums are a line's sums, whether it has a lineMore or not.
 type lineSums struct {
-	m2, unflaggedMean, min, max float64
-	zenith, slope               [2]float64
+	m2, unflaggedMean, min, max, maxAbsW float64
+	zenith, slope                        [2]float64
 }
 
-func (s *lineAccs) sums(l lineAcc) lineSums {
+// sums are l's sums, d the control's distance of the line.
+func (s *lineAccs) sums(l lineAcc, d float64) lineSums {
 	m, _ := s.moreOf(l)
 	if m == nil {
-		return lineSums{unflaggedMean: l.mean, min: l.mean, max: l.mean, zenith: [2]float64{l.zenith}, slope: [2]float64{l.slope}}
+		return lineSums{unflaggedMean: l.mean, min: l.mean, max: l.mean, maxAbsW: oneAbsW(l.mean, l.sumVar, d),
+			zenith: [2]float64{l.zenith}, slope: [2]float64{l.slope}}
 	}
-	return lineSums{m2: m.m2, unflaggedMean: m.unflaggedMean, min: m.min, max: m.max,
+	return lineSums{m2: m.m2, unflaggedMean: m.unflaggedMean, min: m.min, max: m.max, maxAbsW: m.maxAbsW,
 		zenith: [2]float64{l.zenith, m.zenith}, slope: [2]float64{l.slope, m.slope}}
+}
+
+// controlDistance is the control's distance of line id as l has it.
+func (a *Aggregator) controlDistance(id int32, l lineAcc) float64 {
+	ctl, _ := a.control.KnownLine(id, l.from, l.to) // every line reduced is known
+	return ctl.Inverse.Distance
 }
 
 // residualAcc gathers the statistics of one set of observations'
@@ -401,7 +421,7 @@ func (a *Aggregator) Add(r *job.Result) {
 			dir = 1
 		}
 		if m, c = a.lines.moreOf(l); m == nil {
-			m, c = a.lines.addMore(l)
+			m, c = a.lines.addMore(l, oneAbsW(l.mean, l.sumVar, a.controlDistance(r.LineID, l)))
 		}
 	}
 	// n and nFlagged are the line's observations and flagged ones with
@@ -435,7 +455,13 @@ func (a *Aggregator) Add(r *job.Result) {
 		m.unflaggedMean += (arc - m.unflaggedMean) / float64(n-nFlagged)
 	}
 	l.sumVar += e.Sigma * e.Sigma
-	l.maxAbsW = math.Max(l.maxAbsW, math.Abs(e.Standardized))
+	absW := math.Abs(e.Standardized)
+	if m != nil {
+		m.maxAbsW = math.Max(m.maxAbsW, absW)
+	} else if oneAbsW(l.mean, l.sumVar, a.controlDistance(r.LineID, l)) != math.Max(0, absW) {
+		// The summary could not compute this |w| again: keep it.
+		m, _ = a.lines.addMore(l, math.Max(0, absW))
+	}
 	if e.Outlier {
 		l.bits |= lineOutlier
 	}
@@ -481,10 +507,10 @@ func (a *Aggregator) line(id int32, l lineAcc, limits *spreadLimits) Line {
 	ctl, _ := a.control.KnownLine(id, l.from, l.to) // every line reduced is known
 	counts := a.lines.counts(l)
 	n := counts.dirN[0] + counts.dirN[1]
-	sums := a.lines.sums(l)
+	sums := a.lines.sums(l, ctl.Inverse.Distance)
 	out := Line{From: a.control.PointID(l.from), To: a.control.PointID(l.to), Count: int(n), Reciprocal: counts.dirN[0] > 0 && counts.dirN[1] > 0,
 		Geodesic: ctl.Inverse.Distance, Grid: ctl.GridDistance, MeanArc: l.mean, SpreadMM: (sums.max - sums.min) * 1e3,
-		MaxAbsW: l.maxAbsW}
+		MaxAbsW: sums.maxAbsW}
 	if n > 1 {
 		out.StdDevMM = math.Sqrt(sums.m2/float64(n-1)) * 1e3
 	}
