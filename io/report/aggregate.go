@@ -44,67 +44,128 @@ type Aggregator struct {
 	outliers           int
 	firstRejects       []Reject // the first MaxFirstRejects rejected rows
 	lines              lineAccs
-	order              []int32  // the lines' numbers (job.Result.LineID) in the order first observed
-	flagged            []uint64 // bit i: line order[i] is flagged, once Finish has run
+	order              lineOrder // the lines' numbers (job.Result.LineID) in the order first observed
+	flagged            []uint64  // bit i: line order.at(i) is flagged, once Finish has run
 }
+
+// lineOrder is a list of line numbers in chunks, so that growing never
+// copies it (a copy would hold the old and the new array at once).
+type lineOrder struct {
+	chunks []*[lineAccChunk]int32
+	n      int
+}
+
+func (o *lineOrder) add(id int32) {
+	if o.n%lineAccChunk == 0 {
+		o.chunks = append(o.chunks, new([lineAccChunk]int32))
+	}
+	o.chunks[o.n/lineAccChunk][o.n%lineAccChunk] = id
+	o.n++
+}
+
+func (o *lineOrder) len() int { return o.n }
+
+func (o *lineOrder) at(i int) int32 { return o.chunks[i/lineAccChunk][i%lineAccChunk] }
 
 // lineAccs are the lines' records by number (job.Result.LineID), in
 // chunks made as numbers come, so that growing never copies them. A
 // record with no observations is a line not (yet) observed. A line
-// observed more than once has a second record too (lineMore), numbered
-// as they come and kept alike.
+// observed more than once has a second record too (lineMore and its
+// counts), numbered as they come and kept alike.
+//
+// A chunk keeps the records' 12-byte heads and their 32 bytes of sums in
+// two arrays, so that a record costs 44 bytes, not the 48 of one struct
+// padded to its eight-byte alignment.
 type lineAccs struct {
-	chunks []*[lineAccChunk]lineAcc
-	more   []*[lineAccChunk]lineMore
+	chunks []*lineAccBlock
+	more   []*lineMoreBlock
 	nMore  uint32
+}
+
+type lineAccBlock struct {
+	head [lineAccChunk]lineHead
+	sums [lineAccChunk]lineFirst
+}
+
+type lineMoreBlock struct {
+	more   [lineAccChunk]lineMore
+	counts [lineAccChunk]lineCounts
 }
 
 const lineAccChunk = 4096
 
 // get returns line id's record, making its chunk if need be.
-func (s *lineAccs) get(id int32) *lineAcc {
+func (s *lineAccs) get(id int32) lineAcc {
 	c := int(id) / lineAccChunk
 	for c >= len(s.chunks) {
 		s.chunks = append(s.chunks, nil)
 	}
 	if s.chunks[c] == nil {
-		s.chunks[c] = new([lineAccChunk]lineAcc)
+		s.chunks[c] = new(lineAccBlock)
 	}
-	return &s.chunks[c][int(id)%lineAccChunk]
+	b, i := s.chunks[c], int(id)%lineAccChunk
+	return lineAcc{&b.head[i], &b.sums[i]}
 }
 
-// moreOf is the second record of l, nil while l has one observation.
-func (s *lineAccs) moreOf(l *lineAcc) *lineMore {
-	i := l.bits & moreIndex
-	if i == 0 {
-		return nil
+// moreOf is the second record of l and its counts, nil while l has one
+// observation (and Add found it need not keep its |w|).
+func (s *lineAccs) moreOf(l lineAcc) (*lineMore, *lineCounts) {
+	i := l.bits & lineState
+	if i < stateMore {
+		return nil, nil
 	}
-	i--
-	return &s.more[i/lineAccChunk][i%lineAccChunk]
+	i -= stateMore
+	b := s.more[i/lineAccChunk]
+	return &b.more[i%lineAccChunk], &b.counts[i%lineAccChunk]
 }
 
 // addMore gives l, which has one observation, its second record: the
-// sums of that one observation, as Aggregator.Add would have made them.
-func (s *lineAccs) addMore(l *lineAcc) *lineMore {
+// sums and counts of that one observation, as Aggregator.Add would have
+// made them, and its |w|, absW.
+func (s *lineAccs) addMore(l lineAcc, absW float64) (*lineMore, *lineCounts) {
 	i := s.nMore
+	if i > lineState-stateMore {
+		panic("report: too many lines observed more than once for the summary's records")
+	}
 	if i%lineAccChunk == 0 {
-		s.more = append(s.more, new([lineAccChunk]lineMore))
+		s.more = append(s.more, new(lineMoreBlock))
 	}
 	s.nMore++
-	l.bits |= i + 1
-	m := &s.more[i/lineAccChunk][i%lineAccChunk]
-	*m = lineMore{min: l.mean, max: l.mean}
-	if l.flagged == 0 {
+	c := lineCounts{dirN: [2]int32{1, 0}}
+	if l.bits&lineState == stateOneFlagged {
+		c.flagged = 1
+	}
+	l.bits = l.bits&^lineState | (i + stateMore)
+	b := s.more[i/lineAccChunk]
+	m := &b.more[i%lineAccChunk]
+	*m = lineMore{min: l.mean, max: l.mean, maxAbsW: absW}
+	if c.flagged == 0 {
 		m.unflaggedMean = l.mean
 	}
-	return m
+	b.counts[i%lineAccChunk] = c
+	return m, &b.counts[i%lineAccChunk]
+}
+
+// counts are l's observations either way and its flagged ones.
+func (s *lineAccs) counts(l lineAcc) lineCounts {
+	switch l.bits & lineState {
+	case stateNone:
+		return lineCounts{}
+	case stateOne:
+		return lineCounts{dirN: [2]int32{1, 0}}
+	case stateOneFlagged:
+		return lineCounts{dirN: [2]int32{1, 0}, flagged: 1}
+	}
+	_, c := s.moreOf(l)
+	return *c
 }
 
 // at returns the record of the line at position i in the order first
 // observed, and its number.
-func (a *Aggregator) at(i int) (*lineAcc, int32) {
-	id := a.order[i]
-	return &a.lines.chunks[id/lineAccChunk][id%lineAccChunk], id
+func (a *Aggregator) at(i int) (lineAcc, int32) {
+	id := a.order.at(i)
+	b, j := a.lines.chunks[id/lineAccChunk], id%lineAccChunk
+	return lineAcc{&b.head[j], &b.sums[j]}, id
 }
 
 // A LineSource gives the control a run reduced against: a line's
@@ -133,24 +194,43 @@ const DefaultGlobalTestAlpha = 0.05
 // factor (0 < α < 1).
 func (a *Aggregator) SetGlobalTestAlpha(alpha float64) { a.globalAlpha = alpha }
 
-// lineAcc accumulates one line's observations; 64 bytes. What only a
-// line observed more than once needs is in its lineMore (48 bytes more):
-// of one observation, the mean is the arc, its smallest and largest and
-// the mean of the unflagged, and the sum of squared deviations is 0.
+// lineAcc accumulates one line's observations: its head and first sums,
+// 44 bytes in the chunk. What only a line observed more than once needs
+// is in its lineMore and lineCounts (68 bytes more): of one observation,
+// the counts are 1 and 0 and whether it is flagged (a state of the head's
+// bits), the mean is the arc, its smallest and largest and the mean of
+// the unflagged, the sum of squared deviations is 0, and the largest |w|
+// is its |w|, which oneAbsW computes again from the arc, σ and the
+// control (Add keeps it in a lineMore where that would not give it to
+// the bit).
 type lineAcc struct {
-	from, to int32    // point numbers, in the direction first observed
-	dirN     [2]int32 // observations from → to as first seen, and the other way
-	flagged  int32    // observations flagged (Aggregator.obsFlagged)
-	// bits: lineOutlier, lineOutOfTol, lineHeightOff, and under moreIndex
-	// 1 + the number of the line's lineMore (0: none).
-	bits    uint32
-	mean    float64 // Welford: mean reduced arc
-	sumVar  float64 // Σσ² of the observations
-	maxAbsW float64
+	*lineHead
+	*lineFirst
+}
+
+// lineHead is a line's ends and bits.
+type lineHead struct {
+	from, to int32 // point numbers, in the direction first observed
+	// bits: lineOutlier, lineOutOfTol, lineHeightOff, and under lineState
+	// stateNone, stateOne, stateOneFlagged or stateMore + the number of
+	// the line's lineMore.
+	bits uint32
+}
+
+// lineFirst are a line's sums that every observed line has.
+type lineFirst struct {
+	mean   float64 // Welford: mean reduced arc
+	sumVar float64 // Σσ² of the observations
 	// The sums for reciprocal zenith angles of the direction first
 	// observed (lineMore has the other's): mark-to-mark zenith angle
 	// (rad) and chord S3 (m).
 	zenith, slope float64
+}
+
+// lineCounts are the observations of a line observed more than once.
+type lineCounts struct {
+	dirN    [2]int32 // observations from → to as first seen, and the other way
+	flagged int32    // observations flagged (Aggregator.obsFlagged)
 }
 
 // lineMore is the rest of a line's sums once it has two observations.
@@ -160,29 +240,52 @@ type lineMore struct {
 	min, max      float64
 	// The other direction's sums for reciprocal zenith angles.
 	zenith, slope float64
+	maxAbsW       float64 // the largest |w|
 }
 
-// lineAcc.bits.
+// oneAbsW is |w| of an observation as reduce.CompareDistance makes it,
+// w = (arc − D)/σ, from its arc, σ² and the control's distance D: that of
+// a line observed once from its mean (the arc itself, 0 + arc/1) and
+// Σσ² (σ·σ). Aggregator.Add checks that it gives the observation's own
+// |w| to the bit before it keeps none.
+func oneAbsW(arc, sumVar, d float64) float64 {
+	return math.Abs((arc - d) / math.Sqrt(sumVar))
+}
+
+// lineHead.bits.
 const (
 	lineOutlier   = 1 << 31 // an observation's |w| is over the critical value
 	lineOutOfTol  = 1 << 30 // an observation is over the job's tolerance
 	lineHeightOff = 1 << 29 // an observation's target height disagrees with its zenith angle
-	moreIndex     = 1<<29 - 1
+	lineState     = 1<<29 - 1
+
+	stateNone       = 0 // not (yet) observed
+	stateOne        = 1 // one observation, not flagged
+	stateOneFlagged = 2 // one observation, flagged
+	stateMore       = 3 // and up: more than one observation, lineMore number state − stateMore
 )
 
 // lineSums are a line's sums, whether it has a lineMore or not.
 type lineSums struct {
-	m2, unflaggedMean, min, max float64
-	zenith, slope               [2]float64
+	m2, unflaggedMean, min, max, maxAbsW float64
+	zenith, slope                        [2]float64
 }
 
-func (s *lineAccs) sums(l *lineAcc) lineSums {
-	m := s.moreOf(l)
+// sums are l's sums, d the control's distance of the line.
+func (s *lineAccs) sums(l lineAcc, d float64) lineSums {
+	m, _ := s.moreOf(l)
 	if m == nil {
-		return lineSums{unflaggedMean: l.mean, min: l.mean, max: l.mean, zenith: [2]float64{l.zenith}, slope: [2]float64{l.slope}}
+		return lineSums{unflaggedMean: l.mean, min: l.mean, max: l.mean, maxAbsW: oneAbsW(l.mean, l.sumVar, d),
+			zenith: [2]float64{l.zenith}, slope: [2]float64{l.slope}}
 	}
-	return lineSums{m2: m.m2, unflaggedMean: m.unflaggedMean, min: m.min, max: m.max,
+	return lineSums{m2: m.m2, unflaggedMean: m.unflaggedMean, min: m.min, max: m.max, maxAbsW: m.maxAbsW,
 		zenith: [2]float64{l.zenith, m.zenith}, slope: [2]float64{l.slope, m.slope}}
+}
+
+// controlDistance is the control's distance of line id as l has it.
+func (a *Aggregator) controlDistance(id int32, l lineAcc) float64 {
+	ctl, _ := a.control.KnownLine(id, l.from, l.to) // every line reduced is known
+	return ctl.Inverse.Distance
 }
 
 // residualAcc gathers the statistics of one set of observations'
@@ -309,19 +412,33 @@ func (a *Aggregator) Add(r *job.Result) {
 	l := a.lines.get(r.LineID)
 	dir := 0
 	var m *lineMore // nil for the line's first observation
-	if l.count() == 0 {
+	var c *lineCounts
+	if l.bits&lineState == stateNone {
 		l.from, l.to = from, to
-		a.order = append(a.order, r.LineID)
+		a.order.add(r.LineID)
 	} else {
 		if l.from != from {
 			dir = 1
 		}
-		if m = a.lines.moreOf(l); m == nil {
-			m = a.lines.addMore(l)
+		if m, c = a.lines.moreOf(l); m == nil {
+			m, c = a.lines.addMore(l, oneAbsW(l.mean, l.sumVar, a.controlDistance(r.LineID, l)))
 		}
 	}
-	l.dirN[dir]++
-	n := l.count()
+	// n and nFlagged are the line's observations and flagged ones with
+	// this one.
+	n, nFlagged := int32(1), int32(0)
+	if c == nil {
+		l.bits |= stateOne
+		if flagged {
+			l.bits, nFlagged = l.bits&^lineState|stateOneFlagged, 1
+		}
+	} else {
+		c.dirN[dir]++
+		if flagged {
+			c.flagged++
+		}
+		n, nFlagged = c.dirN[0]+c.dirN[1], c.flagged
+	}
 	arc := red.Geometry.Arc
 	d := arc - l.mean
 	l.mean += d / float64(n)
@@ -334,13 +451,17 @@ func (a *Aggregator) Add(r *job.Result) {
 			m.max = arc
 		}
 	}
-	if flagged {
-		l.flagged++
-	} else if m != nil {
-		m.unflaggedMean += (arc - m.unflaggedMean) / float64(n-l.flagged)
+	if !flagged && m != nil {
+		m.unflaggedMean += (arc - m.unflaggedMean) / float64(n-nFlagged)
 	}
 	l.sumVar += e.Sigma * e.Sigma
-	l.maxAbsW = math.Max(l.maxAbsW, math.Abs(e.Standardized))
+	absW := math.Abs(e.Standardized)
+	if m != nil {
+		m.maxAbsW = math.Max(m.maxAbsW, absW)
+	} else if oneAbsW(l.mean, l.sumVar, a.controlDistance(r.LineID, l)) != math.Max(0, absW) {
+		// The summary could not compute this |w| again: keep it.
+		m, _ = a.lines.addMore(l, math.Max(0, absW))
+	}
 	if e.Outlier {
 		l.bits |= lineOutlier
 	}
@@ -373,9 +494,6 @@ func (a *Aggregator) obsFlagged(red *reduce.Reduction) bool {
 	return e.Outlier || (a.hasTol && e.OutOfTolerance) || red.HeightCheck.Flagged
 }
 
-// count is the line's observations, either way.
-func (l *lineAcc) count() int32 { return l.dirN[0] + l.dirN[1] }
-
 // Line flags.
 const (
 	FlagOutlier   = "outlier"   // an observation's |w| is over the critical value
@@ -385,13 +503,14 @@ const (
 )
 
 // line is the summary of line number id, whose record is l.
-func (a *Aggregator) line(id int32, l *lineAcc, limits *spreadLimits) Line {
+func (a *Aggregator) line(id int32, l lineAcc, limits *spreadLimits) Line {
 	ctl, _ := a.control.KnownLine(id, l.from, l.to) // every line reduced is known
-	n := l.count()
-	sums := a.lines.sums(l)
-	out := Line{From: a.control.PointID(l.from), To: a.control.PointID(l.to), Count: int(n), Reciprocal: l.dirN[0] > 0 && l.dirN[1] > 0,
+	counts := a.lines.counts(l)
+	n := counts.dirN[0] + counts.dirN[1]
+	sums := a.lines.sums(l, ctl.Inverse.Distance)
+	out := Line{From: a.control.PointID(l.from), To: a.control.PointID(l.to), Count: int(n), Reciprocal: counts.dirN[0] > 0 && counts.dirN[1] > 0,
 		Geodesic: ctl.Inverse.Distance, Grid: ctl.GridDistance, MeanArc: l.mean, SpreadMM: (sums.max - sums.min) * 1e3,
-		MaxAbsW: l.maxAbsW}
+		MaxAbsW: sums.maxAbsW}
 	if n > 1 {
 		out.StdDevMM = math.Sqrt(sums.m2/float64(n-1)) * 1e3
 	}
@@ -399,12 +518,12 @@ func (a *Aggregator) line(id int32, l *lineAcc, limits *spreadLimits) Line {
 	sigmaObs := math.Sqrt(l.sumVar / float64(n)) // typical σ of one observation
 	sigmaMean := math.Sqrt(l.sumVar) / float64(n)
 	out.ResidualMM, out.ResidualPPM, out.SigmaMM = res*1e3, res/out.Geodesic*1e6, sigmaMean*1e3
-	out.FlaggedObservations = int(l.flagged)
-	if l.flagged < n {
+	out.FlaggedObservations = int(counts.flagged)
+	if counts.flagged < n {
 		out.UnflaggedResidualMM = (sums.unflaggedMean - out.Geodesic) * 1e3
 	}
 	if out.Reciprocal {
-		nf, nb := float64(l.dirN[0]), float64(l.dirN[1])
+		nf, nb := float64(counts.dirN[0]), float64(counts.dirN[1])
 		slope := (sums.slope[0]/nf + sums.slope[1]/nb) / 2
 		rr, err := reduce.Reciprocal(slope, s1.Angle(sums.zenith[0]/nf), s1.Angle(sums.zenith[1]/nb), a.control.MarkHeight(l.from), ctl.Radius)
 		if err == nil {
@@ -493,14 +612,14 @@ func (a *Aggregator) Finish(s *Summary) {
 		}
 		s.Testing.Global = g
 	}
-	s.Counts.Lines = len(a.order)
+	s.Counts.Lines = a.order.len()
 	var stats sync.WaitGroup
 	stats.Go(func() { s.Residuals = a.residualStats() })
 	defer stats.Wait()
 	var flaggedAt map[int32][]string // the listed flagged observations' places, by line
 	s.FlaggedObservations, flaggedAt = a.flaggedObservations()
 	s.FlaggedObservationsNotListed = a.counts.Flagged - len(s.FlaggedObservations)
-	n := len(a.order)
+	n := a.order.len()
 	a.flagged = make([]uint64, (n+63)/64)
 	// Ranges of whole words of the flagged bitset, one per part.
 	parts := min(runtime.GOMAXPROCS(0), (n+finishGrain-1)/finishGrain)
@@ -615,7 +734,7 @@ func (a *Aggregator) EachLine(write func(*Line) error) error {
 	var l Line // one for all: write may keep a pointer, so l lives on the heap
 	limits := spreadLimits{critical: a.critical}
 	for pass := 0; pass < 2; pass++ {
-		for i := range a.order {
+		for i := range a.order.len() {
 			rec, id := a.at(i)
 			if a.flagged != nil {
 				if a.isFlagged(i) != (pass == 0) {
@@ -651,7 +770,7 @@ func (a *Aggregator) WriteLines(w io.Writer, u Units) error {
 	}
 	// Block k covers positions [k·lineBlock, (k+1)·lineBlock) of the
 	// flagged lines (pass 0, the first blocks), then of the others.
-	perPass := (len(a.order) + lineBlock - 1) / lineBlock
+	perPass := (a.order.len() + lineBlock - 1) / lineBlock
 	blocks := 2 * perPass
 	done := make([]chan []byte, blocks)
 	for k := range done {
@@ -685,7 +804,7 @@ func (a *Aggregator) WriteLines(w io.Writer, u Units) error {
 				default:
 					buf = make([]byte, 0, lineBlock*128)
 				}
-				for i := lo; i < min(lo+lineBlock, len(a.order)); i++ {
+				for i := lo; i < min(lo+lineBlock, a.order.len()); i++ {
 					if a.isFlagged(i) == flagged {
 						rec, id := a.at(i)
 						l = a.line(id, rec, &limits)

@@ -148,3 +148,41 @@ func TestAggregatorCopiesRejects(t *testing.T) {
 	require.Len(t, s.FirstRejects, 1)
 	assert.Equal(t, Reject{File: "x.csv", Line: 9, Row: "8,P2,Q9,412.0071", Reason: `x.csv:9: target "Q9" is not in the points file`}, s.FirstRejects[0])
 }
+
+// A line observed once keeps no |w| when the summary can compute it again
+// to the bit from the arc, σ and the control's distance, as
+// reduce.CompareDistance makes it; one whose w is not that keeps it in a
+// second record. Either way lines.csv's max |w| is the observation's own,
+// and stays the largest once the line has a second observation.
+func TestAggregatorComputesOrKeepsW(t *testing.T) {
+	const d = 1234.5678 // the control's distance
+	a := NewAggregator(3.29, reduce.DistanceSpec{}, false, sameLine{Inverse: reduce.Inverse{Distance: d}, GridDistance: d, Radius: 6.4e6})
+	add := func(id int32, from int32, arc, sigma float64, w *float64) float64 {
+		r := &job.Result{LineID: id, Points: [2]int32{from, 1 - from}}
+		red := &r.Reduction
+		red.Geometry.Arc, red.Grid.GridDistance, red.SecondVelocity.Distance = arc, arc, arc
+		e, err := reduce.CompareDistance(arc, d, sigma, reduce.Test{Critical: 3.29, Tolerance: edmSpec})
+		require.NoError(t, err)
+		if w != nil {
+			e.Standardized = *w // made otherwise than by the chain
+		}
+		red.EllipsoidResidual = e
+		a.Add(r)
+		return math.Abs(e.Standardized)
+	}
+	w0 := add(0, 0, d+0.0021, 0.0013, nil)
+	assert.Equal(t, uint32(0), a.lines.nMore, "line 0 keeps no |w|")
+	other := 2.5
+	w1 := add(1, 0, d+0.0021, 0.0013, &other)
+	assert.Equal(t, uint32(1), a.lines.nMore, "line 1 keeps its |w|")
+	add(0, 1, d-0.0002, 0.0011, nil) // a smaller |w|, the other way
+	add(2, 0, d-0.0017, 0.0009, nil)
+	w2 := add(2, 1, d+0.0031, 0.0012, nil) // a larger one
+	var s Summary
+	a.Finish(&s)
+	require.Len(t, s.Lines, 3)
+	for i, want := range []float64{w0, w1, w2} {
+		assert.Equal(t, math.Float64bits(want), math.Float64bits(s.Lines[i].MaxAbsW), "line %d: max |w| %v, want %v", i, s.Lines[i].MaxAbsW, want)
+	}
+	assert.NotEqual(t, w0, w1)
+}

@@ -2,6 +2,8 @@ package report
 
 import (
 	"math"
+	"runtime"
+	"runtime/metrics"
 	"testing"
 
 	"github.com/geored/geored/io/obsfile"
@@ -51,6 +53,62 @@ func BenchmarkAggregatorAdd(b *testing.B) {
 		a.Add(r)
 		i++
 	}
+}
+
+// BenchmarkAggregatorMemory reports, as B/line, what the summary's
+// records cost in live heap after a collection: the heap of an aggregator
+// of 50 chunks of lines less that of one of 1 chunk (the histograms and
+// the other fixed parts cancel), over the 49 chunks' lines, observed once
+// each (once: the record, 44 bytes, and its place in the order first
+// observed, 4) or twice, once either way (twice: and the second record
+// with its counts, 68 bytes). Each observation's w is (arc − D)/σ, as
+// reduce.CompareDistance makes it, so a line observed once keeps none.
+func BenchmarkAggregatorMemory(b *testing.B) {
+	for _, c := range []struct {
+		name  string
+		obs   int
+		limit float64 // B/line of the layout, to a byte for the chunk lists
+	}{{"once", 1, 44 + 4 + 1}, {"twice", 2, 44 + 4 + 68 + 1}} {
+		b.Run(c.name, func(b *testing.B) {
+			r := &job.Result{}
+			red := &r.Reduction
+			red.Geometry.Arc, red.SecondVelocity.Distance = 2925.6123901, 2925.773309
+			d := 2925.6119801 // the control's distance, sameLine's
+			red.EllipsoidResidual = reduce.ResidualResult{Residual: red.Geometry.Arc - d, Sigma: 0.0047, Standardized: (red.Geometry.Arc - d) / 0.0047}
+			heap := func(lines int32) (uint64, *Aggregator) {
+				before := liveHeap()
+				a := NewAggregator(3.29, reduce.DistanceSpec{}, false, sameLine{Inverse: reduce.Inverse{Distance: d}})
+				for k := range c.obs {
+					for i := range lines {
+						r.LineID, r.Points = i, [2]int32{int32(k), int32(1 - k)}
+						a.Add(r)
+					}
+				}
+				return liveHeap() - before, a
+			}
+			var perLine float64
+			for b.Loop() {
+				small, a := heap(lineAccChunk)
+				runtime.KeepAlive(a)
+				a = nil
+				large, a := heap(50 * lineAccChunk)
+				runtime.KeepAlive(a)
+				perLine = float64(large-small) / (49 * lineAccChunk)
+			}
+			b.ReportMetric(perLine, "B/line")
+			if perLine > c.limit {
+				b.Fatalf("%.1f bytes a line, over %.0f", perLine, c.limit)
+			}
+		})
+	}
+}
+
+// liveHeap is the bytes of live heap objects after a full collection.
+func liveHeap() uint64 {
+	runtime.GC()
+	s := []metrics.Sample{{Name: "/memory/classes/heap/objects:bytes"}}
+	metrics.Read(s)
+	return s[0].Value.Uint64()
 }
 
 // BenchmarkFitResiduals is the fit of residuals against distance with its

@@ -92,10 +92,11 @@ func TestSummaryListsTheWorstFlaggedLines(t *testing.T) {
 	a := NewAggregator(3.29, reduce.DistanceSpec{}, false, sameLine{Inverse: reduce.Inverse{Distance: 1000}, GridDistance: 1000, Radius: 6.4e6})
 	n := MaxListedLines * 3
 	for i := range n {
-		acc := observed(a, int32(n-1-i), lineAcc{from: 0, to: 1, dirN: [2]int32{1, 0}, mean: 1000, sumVar: 1e-6, maxAbsW: float64(i % 7)})
+		h, w := lineHead{from: 0, to: 1, bits: stateOne}, float64(i%7)
 		if i%2 == 0 {
-			acc.bits, acc.maxAbsW = lineOutlier, 4+float64(i)
+			h.bits, w = lineOutlier|stateOne, 4+float64(i)
 		}
+		observed(a, int32(n-1-i), h, lineFirst{mean: 1000, sumVar: 1e-6}, w)
 	}
 	var s Summary
 	a.Finish(&s)
@@ -111,14 +112,15 @@ func TestSummaryListsTheWorstFlaggedLines(t *testing.T) {
 	}
 }
 
-// observed gives a the record l of the next line first observed, under
-// number id (numbered here otherwise than in that order, as a run's lines
-// may be).
-func observed(a *Aggregator, id int32, l lineAcc) *lineAcc {
+// observed gives a the record (h, f) of the next line first observed,
+// under number id (numbered here otherwise than in that order, as a run's
+// lines may be), observed once with |w| absW, which its second record
+// keeps.
+func observed(a *Aggregator, id int32, h lineHead, f lineFirst, absW float64) {
 	acc := a.lines.get(id)
-	*acc = l
-	a.order = append(a.order, id)
-	return acc
+	*acc.lineHead, *acc.lineFirst = h, f
+	a.lines.addMore(acc, absW)
+	a.order.add(id)
 }
 
 // sameLine is a LineSource whose every line is the same, between points
@@ -138,10 +140,11 @@ func TestWriteLinesInEachLinesOrder(t *testing.T) {
 		a := NewAggregator(3.29, reduce.DistanceSpec{}, false, sameLine{Inverse: reduce.Inverse{Distance: 1000}, GridDistance: 1000, Radius: 6.4e6})
 		n := 3*lineBlock + 17
 		for i := range n {
-			acc := observed(a, int32(n-1-i), lineAcc{from: 0, to: 1, dirN: [2]int32{1, 0}, mean: 1000 + float64(i)*1e-5, sumVar: 1e-6, maxAbsW: float64(i % 7)})
+			h, w := lineHead{from: 0, to: 1, bits: stateOne}, float64(i%7)
 			if i%5 == 0 || (i > lineBlock && i < lineBlock+40) {
-				acc.bits, acc.maxAbsW = lineOutlier, 4+float64(i)
+				h.bits, w = lineOutlier|stateOne, 4+float64(i)
 			}
+			observed(a, int32(n-1-i), h, lineFirst{mean: 1000 + float64(i)*1e-5, sumVar: 1e-6}, w)
 		}
 		return a
 	}
