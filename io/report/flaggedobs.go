@@ -47,6 +47,9 @@ type FlaggedObservation struct {
 	HeightDifference float64 `json:"height_difference_m"`
 	HeightSigma      float64 `json:"height_sigma_m"`
 	HeightW          float64 `json:"height_w"`
+	// Horizontal says the row gave a horizontal and vertical distance,
+	// whose zenith angle (atan2(hd, vd)) the height check used.
+	Horizontal bool `json:"horizontal,omitempty"`
 }
 
 // Severity is what orders the flagged observations, worst first: the
@@ -105,6 +108,7 @@ func (w *worstObservations) offer(r *job.Result, seq int64, flags []string, cont
 		Geodesic: e.Reference, ResidualMM: e.Residual * 1e3, ResidualPPM: e.PPM, SigmaMM: e.Sigma * 1e3, W: e.Standardized,
 		Flags:         flags,
 		HeightChecked: red.Geometry.Route != reduce.RouteZenith,
+		Horizontal:    r.Obs.Horizontal,
 	}}
 	if ent.obs.HeightChecked {
 		ent.obs.HeightDifference, ent.obs.HeightSigma, ent.obs.HeightW = hc.Difference, hc.Sigma, hc.Standardized

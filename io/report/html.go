@@ -393,7 +393,14 @@ func (v htmlView) Len0(m float64) string { return v.length.format(m, 0) }
 // target height against the one its zenith angle implies, with its σ
 // and w, agreeing or not.
 func (v htmlView) HeightSays(o FlaggedObservation) string {
+	implied := "the one the zenith angle implies"
+	if o.Horizontal {
+		implied = "the one the horizontal and vertical distances imply"
+	}
 	if !o.HeightChecked {
+		if o.Horizontal {
+			return "not checked: the vertical distance gave the target's height (horizontal route)"
+		}
 		return "not checked: the zenith angle gave the target's height (zenith route)"
 	}
 	verdict := "agrees"
@@ -404,8 +411,8 @@ func (v htmlView) HeightSays(o FlaggedObservation) string {
 	if o.HeightDifference < 0 {
 		side = "below"
 	}
-	return fmt.Sprintf("%s: the booked target height is %s %s %s the one the zenith angle implies (σ %s %s, w %s)",
-		verdict, v.length.format(math.Abs(o.HeightDifference), 3), v.length.label, side,
+	return fmt.Sprintf("%s: the booked target height is %s %s %s %s (σ %s %s, w %s)",
+		verdict, v.length.format(math.Abs(o.HeightDifference), 3), v.length.label, side, implied,
 		v.length.format(o.HeightSigma, 3), v.length.label, fixed(o.HeightW, 2))
 }
 
