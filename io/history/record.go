@@ -496,37 +496,13 @@ func (s *Store) RecordAlerts(ctx context.Context, job, night string, runID int64
 // night's files and before its alerts, or a file recorded for a night
 // after its alerts.
 func (s *Store) AlertsDue(ctx context.Context, job string) ([]string, error) {
-	rows, err := s.db.QueryContext(ctx, s.d.sql(`SELECT DISTINCT f.night FROM files f WHERE f.job = ?
-		AND NOT EXISTS (SELECT 1 FROM alert_nights a WHERE a.job = f.job AND a.night = f.night) ORDER BY f.night`), job)
-	if err != nil {
-		return nil, err
-	}
-	defer rows.Close()
-	var out []string
-	for rows.Next() {
-		var n string
-		if err := rows.Scan(&n); err != nil {
-			return nil, err
-		}
-		out = append(out, n)
-	}
-	return out, rows.Err()
+	return queryAll(ctx, s, `SELECT DISTINCT f.night FROM files f WHERE f.job = ?
+		AND NOT EXISTS (SELECT 1 FROM alert_nights a WHERE a.job = f.job AND a.night = f.night) ORDER BY f.night`, []any{job},
+		func(rows *sql.Rows, n *string) error { return rows.Scan(n) })
 }
 
 // Alerts lists the alerts of a job, by night, kind and subject.
 func (s *Store) Alerts(ctx context.Context, job string) ([]Alert, error) {
-	rows, err := s.db.QueryContext(ctx, s.d.sql(`SELECT night, kind, subject, message FROM alerts WHERE job = ? ORDER BY night, kind, subject`), job)
-	if err != nil {
-		return nil, err
-	}
-	defer rows.Close()
-	var out []Alert
-	for rows.Next() {
-		var a Alert
-		if err := rows.Scan(&a.Night, &a.Kind, &a.Subject, &a.Message); err != nil {
-			return nil, err
-		}
-		out = append(out, a)
-	}
-	return out, rows.Err()
+	return queryAll(ctx, s, `SELECT night, kind, subject, message FROM alerts WHERE job = ? ORDER BY night, kind, subject`, []any{job},
+		func(rows *sql.Rows, a *Alert) error { return rows.Scan(&a.Night, &a.Kind, &a.Subject, &a.Message) })
 }

@@ -43,18 +43,26 @@ func (s *Store) LinesBetween(ctx context.Context, job, since, until string) ([]L
 }
 
 func (s *Store) lines(ctx context.Context, q string, args ...any) ([]LinePoint, error) {
+	return queryAll(ctx, s, q, args, func(rows *sql.Rows, p *LinePoint) error {
+		return rows.Scan(&p.Night, &p.Instrument, &p.From, &p.To, &p.N, &p.Geodesic, &p.ResidualMM, &p.SigmaMM, &p.Flagged)
+	})
+}
+
+// queryAll runs the query q (in the store's dialect) and returns its rows,
+// each read by scan into a T.
+func queryAll[T any](ctx context.Context, s *Store, q string, args []any, scan func(*sql.Rows, *T) error) ([]T, error) {
 	rows, err := s.db.QueryContext(ctx, s.d.sql(q), args...)
 	if err != nil {
 		return nil, err
 	}
 	defer rows.Close()
-	var out []LinePoint
+	var out []T
 	for rows.Next() {
-		var p LinePoint
-		if err := rows.Scan(&p.Night, &p.Instrument, &p.From, &p.To, &p.N, &p.Geodesic, &p.ResidualMM, &p.SigmaMM, &p.Flagged); err != nil {
+		var v T
+		if err := scan(rows, &v); err != nil {
 			return nil, err
 		}
-		out = append(out, p)
+		out = append(out, v)
 	}
 	return out, rows.Err()
 }
@@ -68,22 +76,11 @@ type FitPoint struct {
 // InstrumentSeries is the nightly fits of an instrument ("" for every
 // instrument), by night.
 func (s *Store) InstrumentSeries(ctx context.Context, job, instrument string) ([]FitPoint, error) {
-	rows, err := s.db.QueryContext(ctx, s.d.sql(`SELECT f.night, x.instrument, x.n, x.constant_mm, x.constant_sigma_mm, x.scale_ppm, x.scale_sigma_ppm, x.evidence
+	return queryAll(ctx, s, `SELECT f.night, x.instrument, x.n, x.constant_mm, x.constant_sigma_mm, x.scale_ppm, x.scale_sigma_ppm, x.evidence
 		FROM instrument_fits x JOIN files f ON f.id = x.file_id
-		WHERE f.job = ? AND (? = '' OR x.instrument = ?) ORDER BY f.night, f.id, x.instrument`), job, instrument, instrument)
-	if err != nil {
-		return nil, err
-	}
-	defer rows.Close()
-	var out []FitPoint
-	for rows.Next() {
-		var p FitPoint
-		if err := rows.Scan(&p.Night, &p.Instrument, &p.N, &p.ConstantMM, &p.ConstantSigmaMM, &p.ScalePPM, &p.ScaleSigmaPPM, &p.Evidence); err != nil {
-			return nil, err
-		}
-		out = append(out, p)
-	}
-	return out, rows.Err()
+		WHERE f.job = ? AND (? = '' OR x.instrument = ?) ORDER BY f.night, f.id, x.instrument`, []any{job, instrument, instrument}, func(rows *sql.Rows, p *FitPoint) error {
+		return rows.Scan(&p.Night, &p.Instrument, &p.N, &p.ConstantMM, &p.ConstantSigmaMM, &p.ScalePPM, &p.ScaleSigmaPPM, &p.Evidence)
+	})
 }
 
 // Counts are the rows a job holds, for checks.
