@@ -55,15 +55,8 @@ Flags:
 		if *config == "" {
 			return fail(stderr, "history", errors.New("give the job file (-config JOBFOLDER/job.toml), or -history and -job"))
 		}
-		dir, err := filepath.Abs(filepath.Dir(*config))
-		if err != nil {
+		if _, err := historyDefaults(*config, hist, jobName); err != nil {
 			return fail(stderr, "history", err)
-		}
-		if *hist == "" {
-			*hist = filepath.Join(dir, "history.db")
-		}
-		if *jobName == "" {
-			*jobName = filepath.Base(dir)
 		}
 	}
 	ctx := context.Background()
@@ -112,4 +105,22 @@ Flags:
 		return fail(stderr, "history", err)
 	}
 	return exitOK
+}
+
+// historyDefaults sets what -history and -job leave unsaid from the job
+// file's folder, the same for geored nightly, which writes the history,
+// and geored history, which reads it: history.db in the folder, and the
+// folder's name. It returns the folder.
+func historyDefaults(config string, hist, jobName *string) (string, error) {
+	dir, err := filepath.Abs(filepath.Dir(config))
+	if err != nil {
+		return "", err
+	}
+	if *hist == "" {
+		*hist = filepath.Join(dir, "history.db")
+	}
+	if *jobName == "" {
+		*jobName = filepath.Base(dir)
+	}
+	return dir, nil
 }

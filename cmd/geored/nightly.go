@@ -132,7 +132,7 @@ Flags:
 	if err != nil {
 		return fail(stderr, "nightly", err)
 	}
-	jobDir, err := filepath.Abs(filepath.Dir(jf.config))
+	jobDir, err := historyDefaults(jf.config, hist, jobName)
 	if err != nil {
 		return fail(stderr, "nightly", err)
 	}
@@ -145,10 +145,6 @@ Flags:
 	def(archive, "archive")
 	def(rejected, "rejected")
 	def(results, "results")
-	def(hist, "history.db")
-	if *jobName == "" {
-		*jobName = filepath.Base(jobDir)
-	}
 	start := time.Now()
 	if *night == "" {
 		*night = start.Format(time.DateOnly)
