@@ -47,15 +47,10 @@ func landxmlOptions(j *jobconfig.Job) landxml.Options {
 func landxmlPoints(j *jobconfig.Job) (string, error) {
 	var found []string
 	for _, path := range j.Observations {
-		if path == stdinArg {
-			continue
-		}
-		f, err := os.Open(path)
+		ok, err := isLandXMLFile(path)
 		if err != nil {
 			return "", err
 		}
-		_, ok := sniff(f, path)
-		f.Close()
 		if ok {
 			found = append(found, path)
 		}
@@ -72,20 +67,26 @@ func landxmlPoints(j *jobconfig.Job) (string, error) {
 // anyLandXML reports whether any of the observation files is LandXML.
 func anyLandXML(paths []string) bool {
 	for _, path := range paths {
-		if path == stdinArg {
-			continue
-		}
-		f, err := os.Open(path)
-		if err != nil {
-			continue // the run reports it
-		}
-		_, ok := sniff(f, path)
-		f.Close()
-		if ok {
+		if ok, _ := isLandXMLFile(path); ok { // an error: the run reports it
 			return true
 		}
 	}
 	return false
+}
+
+// isLandXMLFile reports whether the observation file at path is LandXML
+// (isLandXML); standard input ("-") is not looked at, and is not.
+func isLandXMLFile(path string) (bool, error) {
+	if path == stdinArg {
+		return false, nil
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		return false, err
+	}
+	defer f.Close()
+	_, ok := sniff(f, path)
+	return ok, nil
 }
 
 // landxmlSources are the run's LandXML observation streams, by the name
