@@ -26,6 +26,7 @@ type FieldSettings struct {
 type InstrumentResult struct {
 	Raw                float64 // the slope distance as the instrument stored it
 	FieldPrismConstant float64 // the prism constant the field instrument applied, removed from Raw
+	FieldPPM           float64 // the ppm the field instrument applied, removed from Raw
 	Measured           float64 // Raw with the field settings removed
 	ScaleCorrection    float64 // Measured · ScalePPM · 1e-6
 	AdditiveConstant   float64 // from the calibration
@@ -83,6 +84,7 @@ func InstrumentCorrection(raw float64, inst Instrument, prismConstant float64, f
 	r := InstrumentResult{
 		Raw:                raw,
 		FieldPrismConstant: field.PrismConstant,
+		FieldPPM:           field.PPM,
 		Measured:           measured,
 		ScaleCorrection:    measured * inst.ScalePPM * 1e-6,
 		AdditiveConstant:   inst.AdditiveConstant,

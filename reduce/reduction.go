@@ -17,15 +17,22 @@ type Observation struct {
 	// it the instrument applied Job.Field.PrismConstant.
 	FieldPrismConstant    float64
 	HasFieldPrismConstant bool
+	// FieldPPM is the ppm the field instrument applied on this shot,
+	// where HasFieldPPM; without it the instrument applied Job.Field.PPM.
+	FieldPPM    float64
+	HasFieldPPM bool
 }
 
 // field is what the field instrument applied to this observation: the
-// job's field settings, with the shot's own prism constant where it has
-// one.
+// job's field settings, with the shot's own prism constant and ppm where
+// it has them.
 func (obs *Observation) field(job *Job) FieldSettings {
 	f := job.Field
 	if obs.HasFieldPrismConstant {
 		f.PrismConstant = obs.FieldPrismConstant
+	}
+	if obs.HasFieldPPM {
+		f.PPM = obs.FieldPPM
 	}
 	return f
 }

@@ -232,13 +232,13 @@ func mountTmpfs(t *testing.T, size int) string {
 	return dir
 }
 
-// A disk that is really full (a 512 kB tmpfs, where root may mount one):
+// A disk that is really full (a 576 kB tmpfs, where root may mount one):
 // ENOSPC, status 2, the old set whole, nothing left beside it. A mount
 // point as the output folder is refused before the run, since it cannot
 // be swapped.
 func TestFullTmpfsLeavesTheOldSet(t *testing.T) {
 	j := newSetJob(t, setBinary(t), 20)
-	disk := mountTmpfs(t, 512<<10)
+	disk := mountTmpfs(t, 576<<10)
 	out := filepath.Join(disk, "out")
 	code, stderr := j.run(t, nil, "-out", out)
 	require.Equal(t, exitFlagged, code, stderr)

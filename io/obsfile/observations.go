@@ -48,17 +48,20 @@ const (
 	colHumTo     = "humidity_pct_to"
 	colPrism     = "prism_constant_mm"
 	colField     = "field_prism_constant_mm"
+	colFieldPPM  = "field_ppm"
+	colTime      = "observed_at"
 	colInstr     = "instrument"
 	colObsID     = "obs_id"
 	maxHeightAbs = 1000.0 // metres: an instrument or target height beyond this is a blunder
+	maxFieldPPM  = 1000.0 // an applied ppm beyond this is a blunder (about 90 °C of air)
 )
 
 var obsColumns = []string{colFrom, colTo, colSlope, colZenith, colHD, colVD, colHI, colHT, colTemp, colPressure, colHumidity,
-	colTempTo, colPresTo, colHumTo, colPrism, colField, colInstr, colObsID}
+	colTempTo, colPresTo, colHumTo, colPrism, colField, colFieldPPM, colInstr, colObsID, colTime}
 
 // obsNumeric are the observation file's columns that hold numbers.
 var obsNumeric = []string{colSlope, colZenith, colHD, colVD, colHI, colHT, colTemp, colPressure, colHumidity,
-	colTempTo, colPresTo, colHumTo, colPrism, colField}
+	colTempTo, colPresTo, colHumTo, colPrism, colField, colFieldPPM}
 
 // An ObsReader streams an observation file row by row; it holds one row
 // at a time.
@@ -66,7 +69,7 @@ type ObsReader struct {
 	t   *table
 	opt ObsOptions
 	// column indexes, −1 where absent
-	from, to, slope, zenith, hd, vd, hi, ht, temp, pres, hum, tempTo, presTo, humTo, prism, fieldPrism, instr, obsID int
+	from, to, slope, zenith, hd, vd, hi, ht, temp, pres, hum, tempTo, presTo, humTo, prism, fieldPrism, fieldPPM, instr, obsID, time int
 	// comma is whether the file's decimal mark is a comma (t.mark), as
 	// of the row being parsed.
 	comma bool
@@ -113,7 +116,8 @@ func NewObsReader(r io.Reader, file string, opt ObsOptions) (*ObsReader, []Warni
 		from: idx(colFrom), to: idx(colTo), slope: idx(colSlope), zenith: idx(colZenith), hd: idx(colHD), vd: idx(colVD),
 		hi: idx(colHI), ht: idx(colHT), temp: idx(colTemp), pres: idx(colPressure), hum: idx(colHumidity),
 		tempTo: idx(colTempTo), presTo: idx(colPresTo), humTo: idx(colHumTo),
-		prism: idx(colPrism), fieldPrism: idx(colField), instr: idx(colInstr), obsID: idx(colObsID)}
+		prism: idx(colPrism), fieldPrism: idx(colField), fieldPPM: idx(colFieldPPM), instr: idx(colInstr), obsID: idx(colObsID),
+		time: idx(colTime)}
 	if (o.temp >= 0) != (o.pres >= 0) || (o.temp >= 0) != (o.hum >= 0) {
 		return nil, warnings, &HeaderError{File: file, Line: t.line, Reason: "temperature_c, pressure_hpa and humidity_pct go together"}
 	}
@@ -285,6 +289,23 @@ func (o *ObsReader) parse(fields []string) (Observation, *FieldError) {
 		if ob.FieldPrismConstant, ob.HasFieldPrismConstant, fe = o.prismConstant(o.fieldPrism, wantAppliedPrism); fe != nil {
 			return ob, fe
 		}
+	}
+	if o.fieldPPM >= 0 && o.field(o.fieldPPM) != "" {
+		v, fe := o.number(o.fieldPPM, wants("the ppm the instrument applied"))
+		if fe != nil {
+			return ob, fe
+		}
+		if math.Abs(v) > maxFieldPPM {
+			return ob, o.bad(o.fieldPPM, fmt.Sprintf("the ppm the instrument applied, within ±%g ppm", maxFieldPPM))
+		}
+		ob.FieldPPM, ob.HasFieldPPM = v, true
+	}
+	if o.time >= 0 && o.field(o.time) != "" {
+		v := o.field(o.time)
+		if _, err := ParseObservedAt(v); err != nil {
+			return ob, o.bad(o.time, "the date and time of the observation, ISO 8601 as 2026-05-14T09:31:07 (seconds, fraction and zone, Z or ±hh:mm, optional; a space for the T)")
+		}
+		ob.ObservedAt = v
 	}
 	var err2 *FieldError
 	if ob.AtInstrument, err2 = o.weather(o.temp, o.pres, o.hum); err2 != nil {

@@ -23,14 +23,16 @@ func (u Units) angleSuffix() string { return u.Angle.ColumnSuffix() }
 // ReducedHeader is the first row of reduced.csv. prism_constant_mm is
 // the target's constant that the reduction applied and
 // field_prism_constant_mm the one the field instrument had applied, which
-// it removed first; their _source columns say where each came from
-// (jobconfig.PrismOrigin: row, row-prism or profile).
+// it removed first, as it removed field_ppm; their _source columns say
+// where each came from (input.PrismOrigin: row, row-prism or profile).
+// observed_at is the row's date and time as written, if it had one.
 func ReducedHeader(u Units) []string {
 	l, a := "_"+u.suffix(), "_"+u.angleSuffix()
 	return []string{
-		"file", "line", "obs_id", "from", "to", "instrument", "route",
+		"file", "line", "obs_id", "observed_at", "from", "to", "instrument", "route",
 		"slope_raw" + l, "slope_instrument" + l,
 		"prism_constant_mm", "prism_source", "field_prism_constant_mm", "field_prism_source",
+		"field_ppm", "field_ppm_source",
 		"additive_constant_mm", "scale_correction_mm",
 		"atmosphere", "temperature_c", "pressure_hpa", "humidity_pct", "refractivity_line", "refractivity_reference",
 		"first_velocity_ppm", "slope_first_velocity" + l, "second_velocity_mm", "slope_chord" + l,
@@ -78,6 +80,8 @@ func AppendReducedRow(b []byte, r *job.Result, u Units) []byte {
 	b = append(b, ',')
 	b = appendField(b, o.ObsID)
 	b = append(b, ',')
+	b = appendField(b, o.ObservedAt)
+	b = append(b, ',')
 	b = appendField(b, o.From)
 	b = append(b, ',')
 	b = appendField(b, o.To)
@@ -98,6 +102,10 @@ func AppendReducedRow(b []byte, r *job.Result, u Units) []byte {
 	b = appendFixed(b, in.FieldPrismConstant*1e3, dmm)
 	b = append(b, ',')
 	b = append(b, r.FieldPrismFrom.String()...)
+	b = append(b, ',')
+	b = appendFixed(b, in.FieldPPM, 3)
+	b = append(b, ',')
+	b = append(b, r.FieldPPMFrom.String()...)
 	b = append(b, ',')
 	b = appendFixed(b, in.AdditiveConstant*1e3, dmm)
 	b = append(b, ',')

@@ -16,6 +16,9 @@ type Observation struct {
 	Line int
 
 	ObsID, From, To, Instrument string
+	// ObservedAt is the row's observed_at as written (checked as an
+	// ISO 8601 date and time), "" where it has none.
+	ObservedAt string
 
 	SlopeDistance float64  // as the instrument stored it
 	Zenith        s1.Angle // face left, 0..π
@@ -31,6 +34,11 @@ type Observation struct {
 	// the prism constant the instrument applied on the shot.
 	FieldPrismConstant    float64
 	HasFieldPrismConstant bool
+	// FieldPPM is the row's field_ppm: the ppm (atmospheric, scale or
+	// both) the instrument applied on the shot, where HasFieldPPM; else
+	// the profile's field_ppm.
+	FieldPPM    float64
+	HasFieldPPM bool
 	// Horizontal says the row gave horizontal_distance and
 	// vertical_distance, from which SlopeDistance and Zenith were derived
 	// exactly. (Here, beside a bool, it takes no room.)

@@ -219,6 +219,10 @@ type Result struct {
 	// (Reduction.Instrument.PrismConstant) and the one the instrument
 	// applied (Reduction.Instrument.FieldPrismConstant) came from.
 	PrismFrom, FieldPrismFrom input.PrismOrigin
+	// FieldPPMFrom says where the ppm the instrument applied
+	// (Reduction.Instrument.FieldPPM) came from: the row's field_ppm
+	// (PrismFromRow) or the profile's (PrismFromProfile).
+	FieldPPMFrom input.PrismOrigin
 	// Rejected rows: File and LineNo say where, Raw is the row as written
 	// and Reason why it could not be reduced.
 	Rejected bool
@@ -525,7 +529,13 @@ func reduceOne(plan *Plan, p *geodesic.Projector, r *Result, readErr error) {
 		PrismConstant:         pr.Target,
 		FieldPrismConstant:    pr.Applied,
 		HasFieldPrismConstant: true,
+		FieldPPM:              o.FieldPPM,
+		HasFieldPPM:           o.HasFieldPPM,
 		Meteorology:           Meteorology(o.AtInstrument, o.AtTarget),
+	}
+	r.FieldPPMFrom = input.PrismFromProfile
+	if o.HasFieldPPM {
+		r.FieldPPMFrom = input.PrismFromRow
 	}
 	if !o.AtInstrument.Has && !o.AtTarget.Has && !plan.Settings.HasDefaultAtmosphere {
 		reject(where.String() + ": the row records no temperature, pressure and humidity, and the job has no default_atmosphere")
