@@ -85,7 +85,7 @@ func TestFieldPPMPerRow(t *testing.T) {
 			}
 			assert.Equal(t, f[fcol[name]], p[c], "%s %s: the row's field_ppm against the profile's", id, name)
 		}
-		raw, scale := num(o, col["slope_raw_m"]), 0.8e-6 // the demo profile's scale_ppm
+		raw, scale := num(o, col["slope_raw_m"]), 0.8e-6                     // the demo profile's scale_ppm
 		removed := (raw + 0.030) * ppm * 1e-6 / (1 + ppm*1e-6) * (1 + scale) // c = −30 mm applied
 		assert.InDelta(t, num(o, col["slope_instrument_m"])-removed, num(p, col["slope_instrument_m"]), 1.01e-5, id)
 	}
