@@ -15,11 +15,11 @@ import (
 
 // ObservationHeader is the first line of an Observations stream: the
 // observation CSV's columns it fills.
-const ObservationHeader = "obs_id,from,to,slope_distance,zenith_angle,instrument_height,target_height,horizontal_distance,vertical_distance\n"
+const ObservationHeader = "obs_id,from,to,slope_distance,zenith_angle,instrument_height,target_height,horizontal_distance,vertical_distance,observed_at\n"
 
 // refusedRow is the row written for an observation this reader refuses:
 // the CSV reader rejects it (no station), and Take gives the reason.
-const refusedRow = "refused,,,,,,,,\n"
+const refusedRow = "refused,,,,,,,,,\n"
 
 // Observations reads the Survey observations of a LandXML file as an
 // observation CSV (ObservationHeader), one row per RawObservation, each
@@ -182,6 +182,7 @@ func (o *Observations) startElement(t xml.StartElement) error {
 			push(id)
 			return nil
 		case name == "InstrumentPoint" && parent.name == "InstrumentSetup":
+			s.attrsNotRead(t, pointRefAttrs)
 			if ref, ok := attr(t, "pntRef"); ok && strings.TrimSpace(ref) != "" {
 				o.setups[parent.setup].station = strings.TrimSpace(ref)
 			}
@@ -192,6 +193,7 @@ func (o *Observations) startElement(t xml.StartElement) error {
 			}
 			return s.skipQuiet()
 		case name == "ObservationGroup":
+			s.attrsNotRead(t, groupAttrs)
 			id := parent.setup
 			if v, ok := attr(t, "setupID"); ok { // from memory: ObservationGroup's setupID
 				id = strings.TrimSpace(v)
@@ -202,6 +204,7 @@ func (o *Observations) startElement(t xml.StartElement) error {
 			if !o.units {
 				return s.at(name, "", "", "the file's Units element before its first observation: units are never guessed")
 			}
+			s.attrsNotRead(t, observationAttrs)
 			o.obs = pending{tag: t, line: s.line, col: s.col, setup: parent.setup}
 			if v, ok := attr(t, "setupID"); ok {
 				o.obs.setup = strings.TrimSpace(v)
@@ -211,6 +214,7 @@ func (o *Observations) startElement(t xml.StartElement) error {
 		}
 	case "RawObservation":
 		if name == "TargetPoint" {
+			s.attrsNotRead(t, pointRefAttrs)
 			if ref, ok := attr(t, "pntRef"); ok {
 				o.obs.target, o.obs.hasTarget = strings.TrimSpace(ref), true
 			}
@@ -231,6 +235,7 @@ func (o *Observations) instrumentSetup(t xml.StartElement) (string, error) {
 	if first, dup := o.setups[id]; dup {
 		return "", s.at("InstrumentSetup", "id", id, fmt.Sprintf("a unique id: line %d, column %d has it already", first.line, first.col))
 	}
+	s.attrsNotRead(t, setupAttrs)
 	st := &setup{line: s.line, col: s.col}
 	if v, ok := attr(t, "stationName"); ok {
 		st.station = strings.TrimSpace(v)
@@ -254,6 +259,7 @@ func (o *Observations) targetSetup(t xml.StartElement) error {
 	if _, dup := o.targets[id]; dup {
 		return s.at("TargetSetup", "id", id, "a unique id: an earlier TargetSetup has it")
 	}
+	s.attrsNotRead(t, targetSetupAttrs)
 	ts := &targetSetup{}
 	if v, ok := attr(t, "targetHeight"); ok {
 		ts.ht, ts.bad = o.height("TargetSetup", "targetHeight", v)
@@ -358,8 +364,35 @@ func (o *Observations) observation(p *pending) (row []byte, reason string) {
 		if !ok || za == "" {
 			return nil, at("zenithAngle", za, fmt.Sprintf("a zenith angle in %s: the slope distance is reduced with it", o.opt.AngleUnit))
 		}
-		if _, err := units.ParseZenithAngle(za, o.opt.AngleUnit); err != nil {
+		// directFace (from memory: xs:boolean, true for the instrument's
+		// direct face, face left) false: a face-right reading, over a half
+		// turn, which is written as its face-left equivalent, a full turn
+		// less it (common practice).
+		direct := true
+		if v, ok := get("directFace"); ok {
+			switch v {
+			case "true", "1":
+			case "false", "0":
+				direct = false
+			default:
+				return nil, at("directFace", v, "true or false (xs:boolean): whether the zenith angle was read on the direct face, face left")
+			}
+		}
+		if !direct {
+			f, bad := o.faceRight(za)
+			if bad != "" {
+				return nil, at("zenithAngle", za, bad)
+			}
+			za = f
+		} else if _, err := units.ParseZenithAngle(za, o.opt.AngleUnit); err != nil {
 			return nil, at("zenithAngle", za, fmt.Sprintf("a zenith angle in %s, face left, strictly between 0 and a half turn (%v)", o.opt.AngleUnit, err))
+		}
+	}
+	// The observation's time (timeStamp, from memory: xs:dateTime).
+	ts, _ := get("timeStamp")
+	if ts != "" {
+		if _, err := obsfile.ParseObservedAt(ts); err != nil {
+			return nil, at("timeStamp", ts, "the observation's date and time, xs:dateTime as 2026-05-14T09:31:07 (fraction of a second and zone, Z or ±hh:mm, optional)")
 		}
 	}
 	// The target and its height.
@@ -399,7 +432,7 @@ func (o *Observations) observation(p *pending) (row []byte, reason string) {
 		}
 	}
 	row = appendCSVField(o.row[:0], name)
-	for _, f := range [...]string{st.station, p.target, sd, za, st.hi, ht, hd, vd} {
+	for _, f := range [...]string{st.station, p.target, sd, za, st.hi, ht, hd, vd, ts} {
 		row = append(row, ',')
 		row = appendCSVField(row, f)
 	}
@@ -416,4 +449,25 @@ func appendCSVField(b []byte, f string) []byte {
 	b = append(b, '"')
 	b = append(b, strings.ReplaceAll(f, `"`, `""`)...)
 	return append(b, '"')
+}
+
+// faceRight is the face-left zenith angle, in the file's unit, of za read
+// on the instrument's reverse face (over a half turn): a full turn less
+// it; or why it cannot be.
+func (o *Observations) faceRight(za string) (string, string) {
+	u := o.opt.AngleUnit
+	want := fmt.Sprintf("a face-right zenith angle in %s (directFace is false), strictly between a half turn and a full turn", u)
+	a, err := units.ParseAngle("zenith angle", za, u)
+	if err != nil || !(a > math.Pi && a < 2*math.Pi) {
+		return "", want
+	}
+	decimals := 12 // of the unit; of the seconds for packed degrees
+	if u == units.PackedDMS {
+		decimals = 8
+	}
+	f, err := units.FormatAngle(2*math.Pi-a, u, decimals)
+	if err != nil {
+		return "", want
+	}
+	return f, ""
 }

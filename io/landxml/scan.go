@@ -22,6 +22,7 @@ type scanner struct {
 	rootLine  int // where the LandXML element starts
 	rootCol   int
 	skipped   map[string]*skipCount
+	attrs     map[string]*skipCount // "Element attribute" not read
 }
 
 type skipCount struct {
@@ -147,35 +148,51 @@ func (s *scanner) tooDeep() error {
 	return &Error{File: s.file, Line: s.line, Column: s.col, Want: fmt.Sprintf("elements nested at most %d deep", maxDepth)}
 }
 
-// warnings is the one warning that names the elements skipped.
+// warnings are the warning that names the elements skipped and the one
+// that names the attributes of elements read that were not.
 func (s *scanner) warnings() []obsfile.Warning {
-	if len(s.skipped) == 0 {
-		return nil
+	var w []obsfile.Warning
+	if len(s.skipped) > 0 {
+		total, list, first := folded(s.skipped)
+		w = append(w, obsfile.Warning{File: s.file, Line: first.line,
+			Text: fmt.Sprintf("%d LandXML elements not read (the job's settings stand for what they say): %s", total, list)})
 	}
-	names := make([]string, 0, len(s.skipped))
-	for n := range s.skipped {
+	if len(s.attrs) > 0 {
+		total, list, first := folded(s.attrs)
+		w = append(w, obsfile.Warning{File: s.file, Line: first.line,
+			Text: fmt.Sprintf("%d LandXML attributes not read (geored reduces distances; the job's settings stand for what the others say): %s", total, list)})
+	}
+	return w
+}
+
+// folded lists the counts of m in the order of their first place: the
+// total, the list, and the first.
+func folded(m map[string]*skipCount) (int, string, *skipCount) {
+	names := make([]string, 0, len(m))
+	for n := range m {
 		names = append(names, n)
 	}
 	sort.Slice(names, func(i, j int) bool {
-		a, b := s.skipped[names[i]], s.skipped[names[j]]
+		a, b := m[names[i]], m[names[j]]
 		if a.line != b.line {
 			return a.line < b.line
 		}
-		return a.col < b.col
+		if a.col != b.col {
+			return a.col < b.col
+		}
+		return names[i] < names[j]
 	})
 	var b strings.Builder
 	total := 0
 	for i, n := range names {
-		c := s.skipped[n]
+		c := m[n]
 		total += c.n
 		if i > 0 {
 			b.WriteString(", ")
 		}
 		fmt.Fprintf(&b, "%s ×%d (first at line %d, column %d)", obsfile.Clip(n), c.n, c.line, c.col)
 	}
-	first := s.skipped[names[0]]
-	return []obsfile.Warning{{File: s.file, Line: first.line,
-		Text: fmt.Sprintf("%d LandXML elements not read (the job's settings stand for what they say): %s", total, b.String())}}
+	return total, b.String(), m[names[0]]
 }
 
 // attr is the value of t's attribute name (no namespace).
@@ -234,4 +251,48 @@ func (l *tokenLimiter) Read(p []byte) (int, error) {
 		return 0, &obsfile.LimitError{File: l.file, Line: l.line, What: "this tag or text", Max: l.max, Unit: "bytes", Key: obsfile.LimitLineKey}
 	}
 	return n, err
+}
+
+// The attributes each element read has, besides those that only name or
+// describe it (id, name, desc), which are not counted as not read.
+// Attribute names are LandXML 1.2's as recalled (from memory).
+var (
+	setupAttrs       = attrSet("stationName", "instrumentHeight")
+	targetSetupAttrs = attrSet("targetHeight")
+	groupAttrs       = attrSet("setupID")
+	pointRefAttrs    = attrSet("pntRef")
+	// horizDistance and vertDistance beside a slopeDistance are derived
+	// from it and not read, by design: not counted.
+	observationAttrs = attrSet("setupID", "targetSetupID", "slopeDistance", "zenithAngle", "horizDistance", "vertDistance",
+		"targetHeight", "timeStamp", "directFace")
+)
+
+func attrSet(names ...string) map[string]bool {
+	m := map[string]bool{"id": true, "name": true, "desc": true}
+	for _, n := range names {
+		m[n] = true
+	}
+	return m
+}
+
+// attrsNotRead counts, for the warning, the attributes of the element t
+// (just opened) that are not in read: nothing the file says is passed
+// over without a word, and an attribute name that differs from the one
+// expected shows there.
+func (s *scanner) attrsNotRead(t xml.StartElement, read map[string]bool) {
+	for _, a := range t.Attr {
+		if a.Name.Space != "" || read[a.Name.Local] {
+			continue
+		}
+		key := t.Name.Local + " " + a.Name.Local
+		c := s.attrs[key]
+		if c == nil {
+			if s.attrs == nil {
+				s.attrs = map[string]*skipCount{}
+			}
+			c = &skipCount{line: s.line, col: s.col}
+			s.attrs[key] = c
+		}
+		c.n++
+	}
 }
