@@ -33,7 +33,7 @@ func rawXMLRows(t *testing.T, sc *rawScenario) []xmlRow {
 	var rows []xmlRow
 	for i, f := range recs[1:] {
 		require.Equal(t, []string{"26.5", "987.5", "55"}, f[6:], "one atmosphere for every row")
-		rows = append(rows, xmlRow{"o" + strconv.Itoa(i+1), f[0], f[1], f[2], f[3], f[4], f[5]})
+		rows = append(rows, xmlRow{"o" + strconv.Itoa(i+1), f[0], f[1], f[2], f[3], f[4], f[5], ""})
 	}
 	return rows
 }
@@ -68,7 +68,7 @@ func TestAuditRawLandXML(t *testing.T) {
 	csvAudit := string(readAuditFile(t, filepath.Join(sc.dir, "out", "audit.csv")))
 
 	// and one more that LandXML refuses: its target height is not a number
-	xmlRows := append(rawXMLRows(t, sc), xmlRow{"o-bad", "ALDER", "BIRCH", "812.3456", "89.5", "1.602", "n/a"})
+	xmlRows := append(rawXMLRows(t, sc), xmlRow{"o-bad", "ALDER", "BIRCH", "812.3456", "89.5", "1.602", "n/a", ""})
 	xml := landXML(xmlRows, `<Metric linearUnit="meter" areaUnit="squareMeter" volumeUnit="cubicMeter" angularUnit="decimal degrees"/>`, nil)
 	require.NoError(t, os.WriteFile(filepath.Join(sc.dir, "raw.xml"), []byte(xml), 0o644))
 	cfg := rawJobWith(t, sc, "xml.toml", `out = "out-xml"`+"\n", rawScenarioAtmosphere, `observations = ["raw.xml"]`)

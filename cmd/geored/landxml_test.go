@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/csv"
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"regexp"
@@ -19,12 +20,13 @@ import (
 
 // xmlRow is what a LandXML RawObservation carries of a demo row, as
 // written in the file.
-type xmlRow struct{ id, from, to, sd, za, hi, ht string }
+type xmlRow struct{ id, from, to, sd, za, hi, ht, at string }
 
 // demoXMLRows are the demo's observations as LandXML carries them: the
 // CSV's meteorology columns are left out (LandXML 1.2 has no
 // per-observation weather, as recalled; the job's default_atmosphere
 // applies to both files alike) and the prism column is blank throughout.
+// Each is given an invented time of observation, a minute apart.
 func demoXMLRows(t *testing.T) []xmlRow {
 	t.Helper()
 	r := csv.NewReader(bytes.NewReader(mustDemo(t, "demo/observations.csv")))
@@ -36,10 +38,10 @@ func demoXMLRows(t *testing.T) []xmlRow {
 		col[h] = i
 	}
 	var rows []xmlRow
-	for _, f := range recs[1:] {
+	for i, f := range recs[1:] {
 		require.Empty(t, f[col["prism_constant_mm"]], "a prism constant LandXML would not carry")
 		rows = append(rows, xmlRow{f[col["obs_id"]], f[col["from"]], f[col["to"]], f[col["slope_distance"]],
-			f[col["zenith_angle"]], f[col["instrument_height"]], f[col["target_height"]]})
+			f[col["zenith_angle"]], f[col["instrument_height"]], f[col["target_height"]], fmt.Sprintf("2026-03-14T%02d:%02d:00", 9+i/60, i%60)})
 	}
 	return rows
 }
@@ -62,9 +64,9 @@ func demoPoints(t *testing.T) [][4]string {
 // obsCSV writes rows as the observation CSV.
 func obsCSV(rows []xmlRow) string {
 	var b strings.Builder
-	b.WriteString("obs_id,from,to,slope_distance,zenith_angle,instrument_height,target_height\n")
+	b.WriteString("obs_id,from,to,slope_distance,zenith_angle,instrument_height,target_height,observed_at\n")
 	for _, r := range rows {
-		fmt.Fprintf(&b, "%s,%s,%s,%s,%s,%s,%s\n", r.id, r.from, r.to, r.sd, r.za, r.hi, r.ht)
+		fmt.Fprintf(&b, "%s,%s,%s,%s,%s,%s,%s,%s\n", r.id, r.from, r.to, r.sd, r.za, r.hi, r.ht, r.at)
 	}
 	return b.String()
 }
@@ -72,8 +74,10 @@ func obsCSV(rows []xmlRow) string {
 // landXML writes rows as a LandXML 1.2 file of our own: units is the
 // Units element's child, points (if any) its CgPoints. A new
 // InstrumentSetup starts at each change of station or instrument height,
-// as a field export has one per setup.
-func landXML(rows []xmlRow, unitsEl string, points [][4]string) string {
+// as a field export has one per setup. Where face is a packed-degrees
+// unit ("dms"), every fifth zenith angle is written as read on the
+// reverse face (directFace false: a full turn less the face-left value).
+func landXML(rows []xmlRow, unitsEl string, points [][4]string, face ...string) string {
 	var b strings.Builder
 	b.WriteString(`<?xml version="1.0" encoding="UTF-8"?>
 <LandXML xmlns="http://www.landxml.org/schema/LandXML-1.2" version="1.2" date="2026-03-14" time="16:20:00">
@@ -89,7 +93,7 @@ func landXML(rows []xmlRow, unitsEl string, points [][4]string) string {
 		b.WriteString("  </CgPoints>\n")
 	}
 	b.WriteString("  <Survey>\n")
-	setup, last := 0, ""
+	setup, last, n := 0, "", 0
 	for _, r := range rows {
 		if key := r.from + "\x00" + r.hi; key != last {
 			if last != "" {
@@ -99,14 +103,53 @@ func landXML(rows []xmlRow, unitsEl string, points [][4]string) string {
 			last = key
 			fmt.Fprintf(&b, "    <InstrumentSetup id=\"setup%d\" stationName=%q instrumentHeight=%q>\n      <InstrumentPoint pntRef=%q/>\n", setup, r.from, r.hi, r.from)
 		}
-		fmt.Fprintf(&b, "      <RawObservation setupID=\"setup%d\" name=%q slopeDistance=%q zenithAngle=%q targetHeight=%q>\n        <TargetPoint pntRef=%q/>\n      </RawObservation>\n",
-			setup, r.id, r.sd, r.za, r.ht, r.to)
+		za, direct := r.za, ""
+		if n++; len(face) > 0 && n%5 == 0 {
+			za, direct = faceRightDMS(r.za), ` directFace="false"`
+		}
+		at := ""
+		if r.at != "" {
+			at = fmt.Sprintf(" timeStamp=%q", r.at)
+		}
+		fmt.Fprintf(&b, "      <RawObservation setupID=\"setup%d\" name=%q slopeDistance=%q zenithAngle=%q%s targetHeight=%q%s>\n        <TargetPoint pntRef=%q/>\n      </RawObservation>\n",
+			setup, r.id, r.sd, za, direct, r.ht, at, r.to)
 	}
 	if last != "" {
 		b.WriteString("    </InstrumentSetup>\n")
 	}
 	b.WriteString("  </Survey>\n</LandXML>\n")
 	return b.String()
+}
+
+// faceRightDMS is 360° less the packed-degrees zenith angle za
+// (ddd.mmssf…), in whole tenths of arc seconds and more as written: a
+// demo value that is not a zenith angle is kept, for its reject.
+func faceRightDMS(za string) string {
+	i := strings.IndexByte(za, '.')
+	if i < 0 || len(za)-i-1 < 4 {
+		return za
+	}
+	deg, err1 := strconv.Atoi(za[:i])
+	mm, err2 := strconv.Atoi(za[i+1 : i+3])
+	frac := za[i+3:] // seconds, then their decimals
+	if err1 != nil || err2 != nil || deg <= 0 || deg >= 180 {
+		return za
+	}
+	sec, err := strconv.ParseFloat(frac[:2]+"."+frac[2:], 64)
+	if err != nil {
+		return za
+	}
+	dec := len(frac) - 2
+	scale := math.Pow(10, float64(dec))
+	total := int64(math.Round((float64(deg)*3600 + float64(mm)*60 + sec) * scale)) // in units of the last decimal
+	rest := int64(360*3600)*int64(scale) - total
+	s := rest / int64(scale)
+	f := rest % int64(scale)
+	out := fmt.Sprintf("%d.%02d%02d", s/3600, s/60%60, s%60)
+	if dec > 0 {
+		out += fmt.Sprintf("%0*d", dec, f)
+	}
+	return out
 }
 
 const metricDMS = `<Metric linearUnit="meter" areaUnit="squareMeter" volumeUnit="cubicMeter" angularUnit="decimal dd.mm.ss"/>`
@@ -196,7 +239,7 @@ func assertSameReduction(t *testing.T, csvOut, xmlOut map[string]string) {
 // comes from the file's CgPoints, with the same result.
 func TestLandXMLDemoFile(t *testing.T) {
 	rows, pts := demoXMLRows(t), demoPoints(t)
-	xml := landXML(rows, metricDMS, pts)
+	xml := landXML(rows, metricDMS, pts, "dms")
 	golden := filepath.Join("testdata", "landxml", "demo.xml")
 	if *update {
 		require.NoError(t, os.WriteFile(golden, []byte(xml), 0o644))
@@ -274,7 +317,7 @@ func TestLandXMLUnitSystems(t *testing.T) {
 				case units.Degrees:
 					za = strconv.FormatFloat(z.Degrees(), 'f', c.digits, 64)
 				}
-				conv[i] = xmlRow{r.id, r.from, r.to, length(r.sd), za, length(r.hi), length(r.ht)}
+				conv[i] = xmlRow{r.id, r.from, r.to, length(r.sd), za, length(r.hi), length(r.ht), r.at}
 			}
 			var pb strings.Builder
 			pb.WriteString("id,easting,northing,elevation\n")
