@@ -15,9 +15,9 @@ import (
 // xs:boolean, is refused with its reason.
 func TestObservationsFaceRight(t *testing.T) {
 	for _, c := range []struct {
-		unit, xml string
+		unit, xml   string
 		left, right string // the same sight on each face
-		u             units.AngleUnit
+		u           units.AngleUnit
 	}{
 		{"decimal dd.mm.ss", "decimal dd.mm.ss", "89.4521", "270.1439", units.PackedDMS},
 		{"decimal degrees", "decimal degrees", "89.755833", "270.244167", units.Degrees},
