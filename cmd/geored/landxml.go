@@ -38,7 +38,7 @@ func sniff(r io.Reader, name string) (io.Reader, bool) {
 }
 
 func landxmlOptions(j *jobconfig.Job) landxml.Options {
-	return landxml.Options{LengthUnit: j.LengthUnit, AngleUnit: j.AngleUnit, Limits: j.Limits}
+	return landxml.Options{LengthUnit: j.LengthUnit, AngleUnit: j.AngleUnit, Limits: j.Limits, Instruments: j.Serials}
 }
 
 // landxmlPoints is the observation file whose CgPoints are the job's

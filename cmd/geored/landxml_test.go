@@ -436,3 +436,38 @@ func TestNightlyReadsLandXML(t *testing.T) {
 	assert.Equal(t, per.Observations, got.Observations)
 	assert.Equal(t, per.Lines, got.Lines)
 }
+
+// The demo's LandXML with its instrument named in an Equipment's
+// InstrumentDetails reduces as before when the profile gives that
+// serialNumber as its serial_number, every row by that profile; with a
+// serial number no profile has, every observation is rejected, saying so.
+func TestLandXMLInstrumentBySerialNumber(t *testing.T) {
+	rows, pts := demoXMLRows(t), demoPoints(t)
+	plain := landXML(rows, metricDMS, pts)
+	withDetails := func(serial string) string {
+		x := strings.Replace(plain, "  <Survey>\n", "  <Survey>\n    <Equipment>\n      <InstrumentDetails id=\"ts\" model=\"T1\" serialNumber=\""+serial+"\"/>\n    </Equipment>\n", 1)
+		return strings.ReplaceAll(x, "<InstrumentSetup id=", "<InstrumentSetup instrumentDetailsID=\"ts\" id=")
+	}
+	dir := xmlJob(t, map[string]string{"plain.xml": plain, "ours.xml": withDetails("S-4711"), "other.xml": withDetails("S-0815")}, "m", "dms", string(mustDemo(t, "demo/points.csv")))
+	job := filepath.Join(dir, "job.toml")
+	text, err := os.ReadFile(job)
+	require.NoError(t, err)
+	require.Contains(t, string(text), "[instrument.ts-red]\n")
+	require.NoError(t, os.WriteFile(job, []byte(strings.Replace(string(text), "[instrument.ts-red]\n", "[instrument.ts-red]\nserial_number = \"S-4711\"\n", 1)), 0o644))
+
+	codePlain, errPlain, plainOut := reduceIn(t, dir, "plain.xml")
+	require.Equal(t, exitFlagged, codePlain, errPlain)
+	code, stderr, out := reduceIn(t, dir, "ours.xml")
+	require.Equal(t, codePlain, code, stderr)
+	assert.Equal(t, plainOut["lines.csv"], out["lines.csv"])
+	assert.Equal(t, withoutSource(t, plainOut["reduced.csv"], false), withoutSource(t, out["reduced.csv"], false))
+	recs, err := csv.NewReader(strings.NewReader(out["reduced.csv"])).ReadAll()
+	require.NoError(t, err)
+	for _, r := range recs[1:] {
+		assert.Equal(t, "ts-red", r[6])
+	}
+
+	code, stderr, out = reduceIn(t, dir, "other.xml")
+	assert.Equal(t, exitFailed, code, "nothing reduced")
+	assert.Contains(t, stderr, `InstrumentDetails at line 16, column 7 has serialNumber "S-0815", and no [instrument.NAME] profile has serial_number = "S-0815"`)
+}

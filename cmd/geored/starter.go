@@ -434,7 +434,7 @@ reference_atmosphere = { temperature_c = 12, pressure_hpa = 1013.25, humidity_pc
 # mm. Default: 0.
 # prism_constant_mm = 0
 # field_ppm: the ppm the instrument already applied to the stored
-# distances. Default: 0.
+# distances (a row's field_ppm column says it per shot). Default: 0.
 # field_ppm = 0
 # field_prism_constant_mm: the prism constant the instrument already
 # applied, mm. Default: 0.
@@ -453,4 +453,8 @@ spec_ppm = 1.5
 # calibrated: the day of the instrument's last calibration, YYYY-MM-DD;
 # geored nightly's trend of its fits starts there. Default: not given.
 # calibrated = "2026-01-15"
+# serial_number: the instrument's serial number, by which a LandXML
+# file's InstrumentDetails (serialNumber) pick this profile for their
+# setups. Default: not given (every setup takes default_instrument).
+# serial_number = "S-1234"
 `))

@@ -101,6 +101,10 @@ type Instrument struct {
 	// Calibrated is the day (YYYY-MM-DD) the instrument was last
 	// calibrated: the nightly trend of its fits starts there.
 	Calibrated string `toml:"calibrated"`
+
+	// SerialNumber is the instrument's serial number, by which a LandXML
+	// file's InstrumentDetails name it.
+	SerialNumber string `toml:"serial_number"`
 }
 
 // ReadFile reads a TOML job file. A syntax error names the line; an

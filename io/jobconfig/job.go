@@ -3,7 +3,9 @@ package jobconfig
 import (
 	"errors"
 	"fmt"
+	"maps"
 	"math"
+	"slices"
 	"sort"
 	"strings"
 	"time"
@@ -78,6 +80,8 @@ type Job struct {
 	HasDefaultAtmosphere bool
 
 	Profiles map[string]Profile
+	// Serials names the profile of each serial_number a profile gives.
+	Serials map[string]string
 	// Instruments are the profiles' settings as read, for the record.
 	Instruments       map[string]Instrument
 	DefaultInstrument string
@@ -204,6 +208,18 @@ func ResolveFor(f File, name string, need Needs) (*Job, error) {
 		p.Chain.Budget = b
 		j.Profiles[pname] = p
 		j.Instruments[pname] = in
+	}
+	j.Serials = map[string]string{}
+	for _, pname := range slices.Sorted(maps.Keys(f.Instrument)) {
+		sn := strings.TrimSpace(f.Instrument[pname].SerialNumber)
+		if sn == "" {
+			continue
+		}
+		if other, dup := j.Serials[sn]; dup {
+			pr.bad("instrument."+pname+".serial_number", "%q is [instrument.%s]'s serial_number too: one instrument, one profile", sn, other)
+			continue
+		}
+		j.Serials[sn] = pname
 	}
 	j.DefaultInstrument = f.DefaultInstrument
 	if j.DefaultInstrument == "" && len(f.Instrument) == 1 {

@@ -13,8 +13,11 @@
 //     missing or different is an error that says so);
 //   - CgPoints/CgPoint: name and the text "northing easting [elevation]"
 //     in the job CRS's grid (Points);
-//   - Survey: InstrumentSetup (id, stationName, instrumentHeight, its
-//     InstrumentPoint pntRef), TargetSetup (id, targetHeight),
+//   - Survey: Equipment/InstrumentDetails (id, serialNumber, which picks
+//     the job's profile by its serial_number: Options.Instruments),
+//     InstrumentSetup (id, stationName, instrumentHeight,
+//     instrumentDetailsID, its InstrumentPoint pntRef), TargetSetup (id,
+//     targetHeight),
 //     ObservationGroup (setupID) and RawObservation (setupID,
 //     targetSetupID, slopeDistance, zenithAngle, or horizDistance and
 //     vertDistance where it has no slopeDistance, targetHeight, name,
@@ -22,14 +25,15 @@
 //     (Observations). A zenith angle with directFace false was read on
 //     the reverse face and is written as its face-left equivalent.
 //
-// Every other element, among it the instrument's details and corrections,
+// Every other element, among it the instrument details' corrections,
 // the backsights and reduced observations, is skipped and named in one
 // warning per file, and every other attribute of the elements read in a
 // second (but id, name and desc): what the instrument applied (ppm, prism
 // constant) is said by the job's instrument profile, as for CSV. The
-// instrument details and corrections are not read because their attribute
-// names could not be checked against the printed schema, and a precision
-// taken for a correction would change every distance silently. Meteorology is not
+// corrections and the instrument details' other attributes are not read
+// because their names could not be checked against the printed schema,
+// and a precision taken for a correction would change every distance
+// silently. Meteorology is not
 // read either (the 1.2 schema, as recalled, has no per-observation
 // temperature, pressure and humidity): the job's default_atmosphere
 // applies. Attribute names and enumerations not verified against the

@@ -15,11 +15,11 @@ import (
 
 // ObservationHeader is the first line of an Observations stream: the
 // observation CSV's columns it fills.
-const ObservationHeader = "obs_id,from,to,slope_distance,zenith_angle,instrument_height,target_height,horizontal_distance,vertical_distance,observed_at\n"
+const ObservationHeader = "obs_id,from,to,slope_distance,zenith_angle,instrument_height,target_height,horizontal_distance,vertical_distance,observed_at,instrument\n"
 
 // refusedRow is the row written for an observation this reader refuses:
 // the CSV reader rejects it (no station), and Take gives the reason.
-const refusedRow = "refused,,,,,,,,,\n"
+const refusedRow = "refused,,,,,,,,,,\n"
 
 // Observations reads the Survey observations of a LandXML file as an
 // observation CSV (ObservationHeader), one row per RawObservation, each
@@ -41,6 +41,10 @@ type Observations struct {
 	stack   []frame
 	setups  map[string]*setup
 	targets map[string]*targetSetup
+	details map[string]*instrumentDetails
+	// unnamed is the first InstrumentDetails with a serialNumber that the
+	// job, whose profiles give none, cannot tell: its warning.
+	unnamed *obsfile.Warning
 	obs     pending // the RawObservation being read
 
 	mu    sync.Mutex
@@ -63,10 +67,17 @@ type frame struct {
 }
 
 type setup struct {
+	line, col  int
+	station    string
+	hi         string
+	instrument string // the profile, from its InstrumentDetails; "" for the job's default
+	bad        string // why its observations cannot be reduced
+}
+
+// instrumentDetails is an InstrumentDetails element of the Equipment.
+type instrumentDetails struct {
 	line, col int
-	station   string
-	hi        string
-	bad       string // why its observations cannot be reduced
+	serial    string
 }
 
 type targetSetup struct {
@@ -85,14 +96,20 @@ type pending struct {
 // NewObservations reads r, the LandXML file named file, as it is read.
 func NewObservations(r io.Reader, file string, opt Options) *Observations {
 	o := &Observations{s: newScanner(r, file, opt.Limits), opt: opt, lim: opt.Limits.OrDefault(),
-		setups: map[string]*setup{}, targets: map[string]*targetSetup{}, fixes: map[int]Fix{}}
+		setups: map[string]*setup{}, targets: map[string]*targetSetup{}, details: map[string]*instrumentDetails{}, fixes: map[int]Fix{}}
 	o.buf, o.line, o.csvStream.fill = append(o.buf, ObservationHeader...), 1, o.fill
 	return o
 }
 
 // Warnings is the file's one warning naming the elements not read, once
 // the stream has been read to its end.
-func (o *Observations) Warnings() []obsfile.Warning { return o.s.warnings() }
+func (o *Observations) Warnings() []obsfile.Warning {
+	w := o.s.warnings()
+	if o.unnamed != nil {
+		w = append(w, *o.unnamed)
+	}
+	return w
+}
 
 // Take returns, and forgets, the Fix of the row on line csvLine of the
 // stream, if it has one. It may be called from another goroutine than
@@ -172,8 +189,22 @@ func (o *Observations) startElement(t xml.StartElement) error {
 			push("")
 			return nil
 		}
+	case "Equipment":
+		if name == "InstrumentDetails" {
+			ok, err := o.instrumentDetails(t)
+			if err != nil {
+				return err
+			}
+			if ok {
+				push("") // its Corrections and the rest: skipped and counted
+				return nil
+			}
+		}
 	case "Survey", "InstrumentSetup", "ObservationGroup":
 		switch {
+		case name == "Equipment" && parent.name == "Survey":
+			push("")
+			return nil
 		case name == "InstrumentSetup" && parent.name == "Survey":
 			id, err := o.instrumentSetup(t)
 			if err != nil {
@@ -244,6 +275,9 @@ func (o *Observations) instrumentSetup(t xml.StartElement) (string, error) {
 		st.bad = s.at("InstrumentSetup", "instrumentHeight", "", o.heightWant("the instrument's height above the mark")).Error()
 	} else if st.hi, st.bad = o.height("InstrumentSetup", "instrumentHeight", v); st.bad != "" {
 		st.hi = ""
+	}
+	if v, ok := attr(t, "instrumentDetailsID"); ok && st.bad == "" { // from memory: InstrumentSetup's instrumentDetailsID
+		st.instrument, st.bad = o.setupInstrument(strings.TrimSpace(v))
 	}
 	o.setups[id] = st
 	return id, nil
@@ -432,7 +466,7 @@ func (o *Observations) observation(p *pending) (row []byte, reason string) {
 		}
 	}
 	row = appendCSVField(o.row[:0], name)
-	for _, f := range [...]string{st.station, p.target, sd, za, st.hi, ht, hd, vd, ts} {
+	for _, f := range [...]string{st.station, p.target, sd, za, st.hi, ht, hd, vd, ts, st.instrument} {
 		row = append(row, ',')
 		row = appendCSVField(row, f)
 	}
@@ -470,4 +504,56 @@ func (o *Observations) faceRight(za string) (string, string) {
 		return "", want
 	}
 	return f, ""
+}
+
+// instrumentDetails registers an InstrumentDetails of the Equipment (from
+// memory: id, manufacturer, model, serialNumber); ok is false for one
+// without an id, which nothing can name, and which is skipped and counted.
+func (o *Observations) instrumentDetails(t xml.StartElement) (bool, error) {
+	s := o.s
+	id, ok := attr(t, "id")
+	if id = strings.TrimSpace(id); !ok || id == "" {
+		return false, nil
+	}
+	if first, dup := o.details[id]; dup {
+		return false, s.at("InstrumentDetails", "id", id, fmt.Sprintf("a unique id: line %d, column %d has it already", first.line, first.col))
+	}
+	s.attrsNotRead(t, detailsAttrs)
+	d := &instrumentDetails{line: s.line, col: s.col}
+	if v, ok := attr(t, "serialNumber"); ok {
+		d.serial = strings.TrimSpace(v)
+	}
+	o.details[id] = d
+	return true, nil
+}
+
+// setupInstrument is the profile of the instrument a setup names by its
+// InstrumentDetails id: the one whose serial_number is the details'
+// serialNumber; "" (the job's default_instrument) where no profile gives
+// a serial number, said once in a warning; or why the setup's
+// observations cannot be reduced.
+func (o *Observations) setupInstrument(id string) (profile, bad string) {
+	d, ok := o.details[id]
+	if !ok {
+		return "", o.s.at("InstrumentSetup", "instrumentDetailsID", id, "the id of an InstrumentDetails earlier in the file").Error()
+	}
+	if len(o.opt.Instruments) == 0 {
+		if d.serial != "" && o.unnamed == nil {
+			o.unnamed = &obsfile.Warning{File: o.s.file, Line: d.line, Text: fmt.Sprintf(
+				"the file's InstrumentDetails name instruments by serialNumber (%q at line %d, column %d), and no [instrument.NAME] profile gives a serial_number: the job's default_instrument stands for them all",
+				obsfile.Clip(d.serial), d.line, d.col)}
+		}
+		return "", ""
+	}
+	if d.serial == "" {
+		return "", o.s.at("InstrumentSetup", "instrumentDetailsID", id, fmt.Sprintf(
+			"an instrument the job has a profile for: the InstrumentDetails at line %d, column %d has no serialNumber, and the job's profiles are told apart by serial_number", d.line, d.col)).Error()
+	}
+	p, ok := o.opt.Instruments[d.serial]
+	if !ok {
+		return "", o.s.at("InstrumentSetup", "instrumentDetailsID", id, fmt.Sprintf(
+			"an instrument the job has a profile for: the InstrumentDetails at line %d, column %d has serialNumber %q, and no [instrument.NAME] profile has serial_number = %q",
+			d.line, d.col, obsfile.Clip(d.serial), obsfile.Clip(d.serial))).Error()
+	}
+	return p, ""
 }

@@ -257,7 +257,8 @@ func (l *tokenLimiter) Read(p []byte) (int, error) {
 // describe it (id, name, desc), which are not counted as not read.
 // Attribute names are LandXML 1.2's as recalled (from memory).
 var (
-	setupAttrs       = attrSet("stationName", "instrumentHeight")
+	setupAttrs       = attrSet("stationName", "instrumentHeight", "instrumentDetailsID")
+	detailsAttrs     = attrSet("serialNumber", "manufacturer", "model")
 	targetSetupAttrs = attrSet("targetHeight")
 	groupAttrs       = attrSet("setupID")
 	pointRefAttrs    = attrSet("pntRef")

@@ -21,6 +21,10 @@ type Options struct {
 	// Limits bound a tag or text (MaxLineBytes) and a name
 	// (MaxFieldBytes); zero fields: obsfile.DefaultLimits.
 	Limits obsfile.Limits
+	// Instruments names the job's profile for each instrument serial
+	// number a profile gives (serial_number), for the InstrumentDetails
+	// a setup names; empty: the job's default_instrument for every setup.
+	Instruments map[string]string
 }
 
 // The schema's linearUnit values geored reads (from memory of the 1.2
