@@ -465,7 +465,9 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 		if len(xml) > 0 {
 			xml.fix(r, u)
 		}
-		agg.Add(r)
+		if err := agg.Add(r); err != nil {
+			return err
+		}
 		if opt.each != nil {
 			opt.each(r)
 		}

@@ -1,6 +1,7 @@
 package report
 
 import (
+	"fmt"
 	"io"
 	"math"
 	"runtime"
@@ -121,11 +122,12 @@ func (s *lineAccs) moreOf(l lineAcc) (*lineMore, *lineCounts) {
 
 // addMore gives l, which has one observation, its second record: the
 // sums and counts of that one observation, as Aggregator.Add would have
-// made them, and its |w|, absW.
-func (s *lineAccs) addMore(l lineAcc, absW float64) (*lineMore, *lineCounts) {
+// made them, and its |w|, absW. Past MaxLinesObservedMore records it
+// returns nil and ErrTooManyLines.
+func (s *lineAccs) addMore(l lineAcc, absW float64) (*lineMore, *lineCounts, error) {
 	i := s.nMore
 	if i > lineState-stateMore {
-		panic("report: too many lines observed more than once for the summary's records")
+		return nil, nil, ErrTooManyLines
 	}
 	if i%lineAccChunk == 0 {
 		s.more = append(s.more, new(lineMoreBlock))
@@ -143,8 +145,16 @@ func (s *lineAccs) addMore(l lineAcc, absW float64) (*lineMore, *lineCounts) {
 		m.unflaggedMean = l.mean
 	}
 	b.counts[i%lineAccChunk] = c
-	return m, &b.counts[i%lineAccChunk]
+	return m, &b.counts[i%lineAccChunk], nil
 }
+
+// MaxLinesObservedMore is how many lines observed more than once (or
+// whose one |w| must be kept) the summary can hold: the record number
+// fits in a line's 29 state bits.
+const MaxLinesObservedMore = lineState - stateMore + 1
+
+// ErrTooManyLines is Aggregator.Add's error past MaxLinesObservedMore.
+var ErrTooManyLines = fmt.Errorf("the job has more than %d lines observed more than once, more than the summary can hold: split it into jobs of fewer lines", MaxLinesObservedMore)
 
 // counts are l's observations either way and its flagged ones.
 func (s *lineAccs) counts(l lineAcc) lineCounts {
@@ -364,15 +374,16 @@ func (a *Aggregator) residualStats() ResidualStats {
 		EllipsoidUnflagged: u.ell.stats(&u.ellHist), GridUnflagged: u.grid.stats(&u.gridHist)}
 }
 
-// Add takes one result, in input order.
-func (a *Aggregator) Add(r *job.Result) {
+// Add takes one result, in input order. Its one error is
+// ErrTooManyLines, after which the Aggregator cannot be used.
+func (a *Aggregator) Add(r *job.Result) error {
 	a.counts.Read++
 	if r.Rejected {
 		a.counts.Rejected++
 		if len(a.firstRejects) < MaxFirstRejects {
 			a.firstRejects = append(a.firstRejects, Reject{File: r.File, Line: r.LineNo, Row: strings.Clone(r.Raw), Reason: strings.Clone(r.Reason)})
 		}
-		return
+		return nil
 	}
 	a.counts.Reduced++
 	red := &r.Reduction
@@ -421,7 +432,10 @@ func (a *Aggregator) Add(r *job.Result) {
 			dir = 1
 		}
 		if m, c = a.lines.moreOf(l); m == nil {
-			m, c = a.lines.addMore(l, oneAbsW(l.mean, l.sumVar, a.controlDistance(r.LineID, l)))
+			var err error
+			if m, c, err = a.lines.addMore(l, oneAbsW(l.mean, l.sumVar, a.controlDistance(r.LineID, l))); err != nil {
+				return err
+			}
 		}
 	}
 	// n and nFlagged are the line's observations and flagged ones with
@@ -460,7 +474,10 @@ func (a *Aggregator) Add(r *job.Result) {
 		m.maxAbsW = math.Max(m.maxAbsW, absW)
 	} else if oneAbsW(l.mean, l.sumVar, a.controlDistance(r.LineID, l)) != math.Max(0, absW) {
 		// The summary could not compute this |w| again: keep it.
-		m, _ = a.lines.addMore(l, math.Max(0, absW))
+		var err error
+		if m, _, err = a.lines.addMore(l, math.Max(0, absW)); err != nil {
+			return err
+		}
 	}
 	if e.Outlier {
 		l.bits |= lineOutlier
@@ -484,6 +501,7 @@ func (a *Aggregator) Add(r *job.Result) {
 		m.zenith += zm
 		m.slope += slope
 	}
+	return nil
 }
 
 // obsFlagged reports whether an observation is flagged: over the critical

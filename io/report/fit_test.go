@@ -119,7 +119,9 @@ func TestSummaryListsTheWorstFlaggedLines(t *testing.T) {
 func observed(a *Aggregator, id int32, h lineHead, f lineFirst, absW float64) {
 	acc := a.lines.get(id)
 	*acc.lineHead, *acc.lineFirst = h, f
-	a.lines.addMore(acc, absW)
+	if _, _, err := a.lines.addMore(acc, absW); err != nil {
+		panic(err)
+	}
 	a.order.add(id)
 }
 
