@@ -166,9 +166,9 @@ const fieldCurvatureMaxIter = 12
 // from Y = hd. The iteration stops once a step is below 1e-14·|Y|: Newton
 // converges quadratically, so the error after it is of order
 // (1e-14·|Y|)² times g's second derivative over its slope, far below
-// one unit in the last place. An iteration that has not stopped after fieldCurvatureMaxIter steps is an
-// error, and so are hd or vd non-finite or beyond MaxLength, and a c that
-// Check refuses.
+// one unit in the last place. An iteration that has not stopped after
+// fieldCurvatureMaxIter steps is an error, and so are hd or vd non-finite
+// or beyond MaxLength, and a c that Check refuses.
 func (c FieldCurvature) Inverse(hd, vd float64) (s float64, z s1.Angle, err error) {
 	x, y, _, err := c.inverse(hd, vd)
 	if err != nil {
