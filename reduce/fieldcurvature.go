@@ -122,9 +122,9 @@ func (c FieldCurvature) Check() error {
 	return needRange(fieldCurvatureStage, "earth radius", c.Radius, "m", MinFieldEarthRadius, MaxFieldEarthRadius)
 }
 
-// MaxLength is the longest horizontal or vertical distance, metres,
-// Inverse takes: R/100 (about 64 km, beyond any EDM line). Far below R
-// the first-order forms are what the instrument computed, and Inverse's
+// MaxLength is the longest horizontal distance, and the largest vertical
+// distance up or down, metres, that Inverse takes: R/100, about 64 km,
+// beyond a total station's range (common practice). Up to it Inverse's
 // equation has exactly one root (see Inverse).
 func (c FieldCurvature) MaxLength() float64 { return c.Radius / 100 }
 
@@ -168,7 +168,7 @@ const fieldCurvatureMaxIter = 12
 // (1e-14·|Y|)² times g's second derivative over its slope, far below
 // one unit in the last place. An iteration that has not stopped after
 // fieldCurvatureMaxIter steps is an error, and so are hd or vd non-finite
-// or beyond MaxLength, and a c that Check refuses.
+// or beyond MaxLength, a negative hd, and a c that Check refuses.
 func (c FieldCurvature) Inverse(hd, vd float64) (s float64, z s1.Angle, err error) {
 	x, y, _, err := c.inverse(hd, vd)
 	if err != nil {
@@ -187,7 +187,7 @@ func (c FieldCurvature) inverse(hd, vd float64) (x, y float64, steps int, err er
 		return 0, 0, 0, err
 	}
 	limit := c.MaxLength()
-	if err := needRange(fieldCurvatureStage, "horizontal distance", hd, "m", -limit, limit); err != nil {
+	if err := needRange(fieldCurvatureStage, "horizontal distance", hd, "m", 0, limit); err != nil {
 		return 0, 0, 0, err
 	}
 	if err := needRange(fieldCurvatureStage, "vertical distance", vd, "m", -limit, limit); err != nil {

@@ -85,7 +85,7 @@ func TestFieldCurvatureRefuses(t *testing.T) {
 		_, _, err := c.Inverse(100, 1)
 		assert.True(t, errors.As(err, &ie), name)
 	}
-	for _, hv := range [][2]float64{{math.NaN(), 1}, {1, math.Inf(1)}, {good.MaxLength() * 1.01, 1}, {100, -good.MaxLength() * 1.01}} {
+	for _, hv := range [][2]float64{{math.NaN(), 1}, {1, math.Inf(1)}, {good.MaxLength() * 1.01, 1}, {-1e-9, 1}, {100, -good.MaxLength() * 1.01}} {
 		_, _, err := good.Inverse(hv[0], hv[1])
 		var ie *InputError
 		require.True(t, errors.As(err, &ie), "%v", hv)

@@ -67,7 +67,7 @@ func TestRunUndoesFieldCurvature(t *testing.T) {
 		t.Logf("%s: worst residual %.4f mm; read as uncorrected %.1f mm", mode, worst*1e3, worstRaw*1e3)
 		r := got[3*n]
 		assert.True(t, r.Rejected)
-		assert.Equal(t, fmt.Sprintf("obs.csv:%d: field curvature and refraction: horizontal distance 70000 m, want a value in [-63700, 63700] m", 3*n+2), r.Reason)
+		assert.Equal(t, fmt.Sprintf("obs.csv:%d: field curvature and refraction: horizontal distance 70000 m, want a value in [0, 63700] m", 3*n+2), r.Reason)
 		assert.Equal(t, 3*n+2, r.LineNo)
 	}
 }
