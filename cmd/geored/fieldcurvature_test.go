@@ -111,7 +111,8 @@ func TestFieldCurvatureFormulasAgainstConstruction(t *testing.T) {
 // saying so — mode "both" in the job file, mode "vertical" by flags with
 // the default radius — every reduced ellipsoid distance is GeodSolve's
 // geodesic within 0.05 mm; the same rows with the profile left at "none"
-// are off by more than 1 mm on both routes.
+// are off by more than 1 mm on both routes. The same distances from
+// LandXML reduce to the same rows.
 func TestFieldCurvatureAgainstGeodSolve(t *testing.T) {
 	lines := readHorizontalLines(t)
 	crs, err := geodesic.OpenCRS("EPSG:25832")
@@ -130,16 +131,24 @@ func TestFieldCurvatureAgainstGeodSolve(t *testing.T) {
 	keys := "field_curvature_refraction = \"both\"\nfield_refraction_k = 0.13\nfield_earth_radius_m = 6378000\n"
 	for _, mode := range []reduce.FieldCurvatureMode{reduce.FieldCurvatureVertical, reduce.FieldCurvatureBoth} {
 		c := reduce.FieldCurvature{Mode: mode, K: 0.13, Radius: 6378000}
-		var obs strings.Builder
+		var obs, xml strings.Builder
 		obs.WriteString("obs_id,from,to,horizontal_distance,vertical_distance,instrument_height,target_height\n")
+		xml.WriteString(`<?xml version="1.0"?>
+<LandXML xmlns="http://www.landxml.org/schema/LandXML-1.2" version="1.2">
+<Units><Metric linearUnit="meter" angularUnit="decimal degrees"/></Units>
+<Survey>
+`)
 		for i, g := range sights {
 			hd, vd := c.Forward(math.Hypot(g.hd, g.vd), s1.Angle(math.Atan2(g.hd, g.vd)))
+			fmt.Fprintf(&xml, "<InstrumentSetup id=\"s%02d\" stationName=\"A%02d\" instrumentHeight=\"%g\"/>\n", i, i, hdHI)
 			for _, to := range []string{"B", "C"} {
 				fmt.Fprintf(&obs, "h%s%02d,A%02d,%s%02d,%.6f,%.6f,%g,%g\n", to, i, i, to, i, hd, vd, hdHI, hdHT)
+				fmt.Fprintf(&xml, "<RawObservation setupID=\"s%02d\" name=\"h%s%02d\" horizDistance=\"%.6f\" vertDistance=\"%.6f\" targetHeight=\"%g\"><TargetPoint pntRef=\"%s%02d\"/></RawObservation>\n", i, to, i, hd, vd, hdHT, to, i)
 			}
 		}
+		xml.WriteString("</Survey>\n</LandXML>\n")
 		dir := t.TempDir()
-		for name, text := range map[string]string{"job.toml": horizontalJob, "corrected.toml": horizontalJob + keys, "points.csv": pts.String(), "obs.csv": obs.String()} {
+		for name, text := range map[string]string{"job.toml": horizontalJob, "corrected.toml": horizontalJob + keys, "points.csv": pts.String(), "obs.csv": obs.String(), "obs.xml": xml.String()} {
 			require.NoError(t, os.WriteFile(filepath.Join(dir, name), []byte(text), 0o644))
 		}
 		args := []string{"reduce", "-config", filepath.Join(dir, "corrected.toml"), "-quiet", "-out", filepath.Join(dir, "corrected")}
@@ -159,6 +168,19 @@ func TestFieldCurvatureAgainstGeodSolve(t *testing.T) {
 		require.NotNil(t, in.FieldRefractionK)
 		require.NotNil(t, in.FieldEarthRadiusM)
 		assert.Equal(t, [2]float64{0.13, 6378000}, [2]float64{*in.FieldRefractionK, *in.FieldEarthRadiusM}, "%v: the summary's instrument entry", mode)
+
+		// The same distances from LandXML (horizDistance, vertDistance)
+		// reduce to the same rows.
+		code, _, stderr = runCmd(t, append(args, "-out", filepath.Join(dir, "xml"), filepath.Join(dir, "obs.xml"))...)
+		require.Equal(t, 0, code, "%v LandXML: %s", mode, stderr)
+		crows, ccol := readColumns(t, filepath.Join(dir, "corrected", "reduced.csv"))
+		xrows, xcol := readColumns(t, filepath.Join(dir, "xml", "reduced.csv"))
+		require.Len(t, xrows, len(crows))
+		for k := 1; k < len(crows); k++ {
+			for _, name := range []string{"obs_id", "route", "slope_raw_m", "zenith_deg", "height_target_m", "ellipsoid_distance_m"} {
+				assert.Equal(t, crows[k][ccol[name]], xrows[k][xcol[name]], "%v LandXML row %d %s", mode, k, name)
+			}
+		}
 
 		for _, out := range []string{"corrected", "none"} {
 			rows, col := readColumns(t, filepath.Join(dir, out, "reduced.csv"))
