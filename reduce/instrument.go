@@ -20,6 +20,11 @@ type FieldSettings struct {
 	PrismConstant float64
 	// PPM is the ppm set in the instrument (atmospheric, scale or both).
 	PPM float64
+	// Curvature is the curvature and refraction correction the
+	// instrument applied to the horizontal and vertical distances it
+	// stored; the chain's caller undoes it (FieldCurvature.Inverse)
+	// before the slope distance and zenith angle reach the chain.
+	Curvature FieldCurvature
 }
 
 // InstrumentResult keeps the instrument stage's values, all in metres.

@@ -11,6 +11,7 @@ import (
 	"testing"
 
 	"github.com/golang/geo/r3"
+	"github.com/golang/geo/s1"
 	"github.com/golang/geo/s2"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
@@ -52,7 +53,8 @@ spec_ppm = 1
 // hdLine is one line of ../../testdata/reduce/horizontal_geodsolve.txt.
 type hdLine struct {
 	a, b s2.LatLng
-	s12  float64 // GeodSolve's geodesic, metres
+	azi1 s1.Angle // GeodSolve's azimuth at a
+	s12  float64  // GeodSolve's geodesic, metres
 }
 
 func readHorizontalLines(t *testing.T) []hdLine {
@@ -68,10 +70,48 @@ func readHorizontalLines(t *testing.T) []hdLine {
 			continue
 		}
 		require.Len(t, fs, 7, sc.Text())
-		out = append(out, hdLine{a: s2.LatLngFromDegrees(num(t, fs[0]), num(t, fs[1])), b: s2.LatLngFromDegrees(num(t, fs[2]), num(t, fs[3])), s12: num(t, fs[6])})
+		out = append(out, hdLine{a: s2.LatLngFromDegrees(num(t, fs[0]), num(t, fs[1])), b: s2.LatLngFromDegrees(num(t, fs[2]), num(t, fs[3])),
+			azi1: s1.Angle(num(t, fs[4]) * math.Pi / 180), s12: num(t, fs[6])})
 	}
 	require.NoError(t, sc.Err())
 	require.Len(t, out, 24)
+	return out
+}
+
+// The instrument heights and target heights of the construction, metres.
+const hdHI, hdHT = 1.543, 1.612
+
+// hdSight is the exact 3-D construction of one line's sight: the marks'
+// ellipsoidal heights (invented: hills and valleys up to 900 m apart),
+// and the instrument's horizontal and vertical distances from its axis to
+// the reflector.
+type hdSight struct {
+	ha, hb float64 // the marks' ellipsoidal heights, metres
+	hd, vd float64 // across and along the ellipsoid normal at the axis, metres
+}
+
+// horizontalSights puts, for each GeodSolve line, the instrument's axis
+// and the reflector at their ellipsoidal heights (mark + instrument or
+// target height) in earth-centred coordinates (PROJ's geodetic →
+// geocentric); hd and vd are the components of axis → reflector across
+// and along the ellipsoid normal at the axis (its local level frame; a
+// straight line of sight, no refraction).
+func horizontalSights(t *testing.T, p *geodesic.Projector, lines []hdLine) []hdSight {
+	t.Helper()
+	out := make([]hdSight, len(lines))
+	for i, l := range lines {
+		ha := 40 + 37.5*float64(i%7)
+		hb := ha + []float64{-3, 12, -40, 85, -150, 300, 600, 900}[i%8]*(1+float64(i%3))/3
+		a, err := p.ToGeocentric(l.a, ha+hdHI)
+		require.NoError(t, err)
+		b, err := p.ToGeocentric(l.b, hb+hdHT)
+		require.NoError(t, err)
+		phi, lam := float64(l.a.Lat), float64(l.a.Lng)
+		up := r3.Vector{X: math.Cos(phi) * math.Cos(lam), Y: math.Cos(phi) * math.Sin(lam), Z: math.Sin(phi)} // the ellipsoid normal
+		d := b.Sub(a)
+		vd := d.Dot(up)
+		out[i] = hdSight{ha: ha, hb: hb, hd: d.Sub(up.Mul(vd)).Norm(), vd: vd}
+	}
 	return out
 }
 
@@ -104,20 +144,9 @@ func TestHorizontalDistanceAgainstGeodSolve(t *testing.T) {
 `)
 	pts.WriteString("id,lat,lon,ellipsoid_height\n")
 	obs.WriteString("obs_id,from,to,slope_distance,zenith_angle,horizontal_distance,vertical_distance,instrument_height,target_height\n")
-	const hi, ht = 1.543, 1.612
-	for i, l := range lines {
-		// invented heights: hills and valleys up to 900 m apart
-		ha := 40 + 37.5*float64(i%7)
-		hb := ha + []float64{-3, 12, -40, 85, -150, 300, 600, 900}[i%8]*(1+float64(i%3))/3
-		a, err := p.ToGeocentric(l.a, ha+hi)
-		require.NoError(t, err)
-		b, err := p.ToGeocentric(l.b, hb+ht)
-		require.NoError(t, err)
-		phi, lam := float64(l.a.Lat), float64(l.a.Lng)
-		up := r3.Vector{X: math.Cos(phi) * math.Cos(lam), Y: math.Cos(phi) * math.Sin(lam), Z: math.Sin(phi)} // the ellipsoid normal
-		d := b.Sub(a)
-		vd := d.Dot(up)
-		hd := d.Sub(up.Mul(vd)).Norm()
+	const hi, ht = hdHI, hdHT
+	for i, g := range horizontalSights(t, p, lines) {
+		l, ha, hb, hd, vd := lines[i], g.ha, g.hb, g.hd, g.vd
 		fmt.Fprintf(&pts, "A%02d,%.12f,%.12f,%.4f\nB%02d,%.12f,%.12f,%.4f\nC%02d,%.12f,%.12f,\n",
 			i, l.a.Lat.Degrees(), l.a.Lng.Degrees(), ha, i, l.b.Lat.Degrees(), l.b.Lng.Degrees(), hb, i, l.b.Lat.Degrees(), l.b.Lng.Degrees())
 		s, z := math.Hypot(hd, vd), math.Atan2(hd, vd)*180/math.Pi

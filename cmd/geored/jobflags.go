@@ -20,6 +20,8 @@ type jobFlags struct {
 	workers                                                int
 	profile, wavelength, refAtmos, spec, rowPrism          string
 	refN, addMM, scalePPM, prismMM, fieldPPM, fieldPrismMM float64
+	fieldCurvature                                         string
+	fieldK, fieldRadius                                    float64
 	set                                                    map[string]bool
 	limits                                                 limitFlags
 }
@@ -50,6 +52,9 @@ func (f *jobFlags) register(fs *flag.FlagSet) {
 	fs.Float64Var(&f.prismMM, "prism-constant-mm", 0, "prism constant of the targets where a row gives none, mm (config: prism_constant_mm)")
 	fs.Float64Var(&f.fieldPPM, "field-ppm", 0, "ppm the field instrument already applied, ppm (config: field_ppm)")
 	fs.Float64Var(&f.fieldPrismMM, "field-prism-constant-mm", 0, "prism constant the field instrument already applied, mm (config: field_prism_constant_mm)")
+	fs.StringVar(&f.fieldCurvature, "field-curvature-refraction", "", "which of its horizontal and vertical distances the field instrument corrected for curvature and refraction: none, vertical or both (config: field_curvature_refraction; default none)")
+	fs.Float64Var(&f.fieldK, "field-refraction-k", 0, "coefficient of refraction the field instrument used in that correction (config: field_refraction_k; required unless none)")
+	fs.Float64Var(&f.fieldRadius, "field-earth-radius-m", 0, "earth radius the field instrument used in that correction, m (config: field_earth_radius_m; default 6378000)")
 	fs.StringVar(&f.rowPrism, "row-prism-constant", "", "what a row's prism_constant_mm is: 'target' (the instrument applied field_prism_constant_mm) or 'applied' (the instrument applied the row's own constant) (config: row_prism_constant)")
 	fs.StringVar(&f.spec, "spec", "", "EDM specification 'A mm + B ppm' (RSS, 1σ) (config: spec_mm, spec_ppm)")
 	fs.StringVar(&f.delimiter, "delimiter", "", "delimiter of the points and observation files' fields: auto (found from each file's header), ',', ';' or tab; a decimal comma is read in ';' and tab files only (config: delimiter; default auto)")
@@ -127,7 +132,8 @@ func (f *jobFlags) file(fs *flag.FlagSet) (jobconfig.File, string, error) {
 func (f *jobFlags) applyProfile(jf *jobconfig.File) error {
 	any := false
 	for _, n := range []string{"wavelength-um", "reference-atmosphere", "reference-refractivity", "additive-constant-mm", "scale-ppm",
-		"prism-constant-mm", "field-ppm", "field-prism-constant-mm", "row-prism-constant", "spec"} {
+		"prism-constant-mm", "field-ppm", "field-prism-constant-mm", "field-curvature-refraction", "field-refraction-k", "field-earth-radius-m",
+		"row-prism-constant", "spec"} {
 		any = any || f.set[n]
 	}
 	if !any {
@@ -172,6 +178,17 @@ func (f *jobFlags) applyProfile(jf *jobconfig.File) error {
 	set("prism-constant-mm", &in.PrismConstantMM, f.prismMM)
 	set("field-ppm", &in.FieldPPM, f.fieldPPM)
 	set("field-prism-constant-mm", &in.FieldPrismConstantMM, f.fieldPrismMM)
+	if f.set["field-curvature-refraction"] {
+		in.FieldCurvatureRefraction = f.fieldCurvature
+	}
+	ptr := func(flag string, dst **float64, v float64) {
+		if f.set[flag] {
+			x := v
+			*dst = &x
+		}
+	}
+	ptr("field-refraction-k", &in.FieldRefractionK, f.fieldK)
+	ptr("field-earth-radius-m", &in.FieldEarthRadiusM, f.fieldRadius)
 	if f.set["row-prism-constant"] {
 		in.RowPrismConstant = f.rowPrism
 	}
@@ -279,5 +296,6 @@ var (
 	siteFlags = []string{"config", "crs", "points", "length-unit", "reduction-datum", "geoid", "geoid-separation-m", "k", "delimiter"}
 	// instrumentFlags set an instrument profile.
 	instrumentFlags = []string{"instrument", "wavelength-um", "reference-atmosphere", "reference-refractivity", "additive-constant-mm",
-		"scale-ppm", "prism-constant-mm", "field-ppm", "field-prism-constant-mm", "row-prism-constant", "spec"}
+		"scale-ppm", "prism-constant-mm", "field-ppm", "field-prism-constant-mm", "field-curvature-refraction", "field-refraction-k",
+		"field-earth-radius-m", "row-prism-constant", "spec"}
 )

@@ -25,6 +25,7 @@ import (
 	"github.com/geored/geored/io/obsfile"
 	"github.com/geored/geored/io/outset"
 	"github.com/geored/geored/io/report"
+	"github.com/geored/geored/reduce"
 	"github.com/geored/geored/reduce/job"
 )
 
@@ -70,7 +71,12 @@ the key's name:
                        (Hz) with unit_length_m (m); additive_constant_mm,
                        scale_ppm (calibration); prism_constant_mm (targets);
                        field_ppm, field_prism_constant_mm (what the field
-                       instrument applied); spec_mm, spec_ppm, spec_rule =
+                       instrument applied); field_curvature_refraction =
+                       none|vertical|both (none), field_refraction_k,
+                       field_earth_radius_m (6378000): the curvature and
+                       refraction correction the instrument applied to
+                       horizontal_distance and vertical_distance, undone
+                       exactly; spec_mm, spec_ppm, spec_rule =
                        linear|rss (rss), spec_level = 1sigma|95 (1sigma);
                        row_prism_constant = target|applied: what a row's
                        prism_constant_mm is (see Prism constants above)
@@ -638,11 +644,16 @@ func settings(j *jobconfig.Job, crs *geodesic.CRS, geoidGrid string, strict bool
 		if rowPrism == "" {
 			rowPrism = "not given"
 		}
-		st.Instruments = append(st.Instruments, report.InstrumentSettings{
+		c := p.Chain.Field.Curvature
+		ins := report.InstrumentSettings{
 			Name: n, WavelengthUM: p.Chain.Carrier.WavelengthUM, ReferenceRefractivity: p.Chain.Carrier.ReferenceRefractivity,
 			AdditiveConstantMM: in.AdditiveConstantMM, ScalePPM: in.ScalePPM, PrismConstantMM: in.PrismConstantMM,
 			AppliedPPM: in.FieldPPM, AppliedPrismMM: in.FieldPrismConstantMM, RowPrismConstant: rowPrism,
-			Spec: jobconfig.SpecText(p.Chain.Budget.Instrument)})
+			FieldCurvatureRefraction: c.Mode.String(), Spec: jobconfig.SpecText(p.Chain.Budget.Instrument)}
+		if c.Mode != reduce.FieldCurvatureNone {
+			ins.FieldRefractionK, ins.FieldEarthRadiusM = &c.K, &c.Radius
+		}
+		st.Instruments = append(st.Instruments, ins)
 	}
 	return st
 }

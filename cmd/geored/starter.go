@@ -439,6 +439,18 @@ reference_atmosphere = { temperature_c = 12, pressure_hpa = 1013.25, humidity_pc
 # field_prism_constant_mm: the prism constant the instrument already
 # applied, mm. Default: 0.
 # field_prism_constant_mm = 0
+# field_curvature_refraction: which of its horizontal and vertical
+# distances (horizontal_distance, vertical_distance) the instrument
+# corrected for the earth's curvature and refraction before storing them:
+# "none", "vertical" or "both"; geored undoes it exactly. Default: "none".
+# field_curvature_refraction = "none"
+# field_refraction_k: the coefficient of refraction the instrument used
+# in that correction. Required unless "none".
+# field_refraction_k = 0.13
+# field_earth_radius_m: the earth radius the instrument used, m; the
+# default is a value commonly used by instruments: set your manual's.
+# Default: 6378000.
+# field_earth_radius_m = 6378000
 # row_prism_constant: what a row's prism_constant_mm is: "target" (the
 # target's; the instrument applied field_prism_constant_mm) or "applied"
 # (the instrument applied the row's own). Default: not given.

@@ -86,6 +86,15 @@ type Instrument struct {
 	// What the field instrument already applied to the stored distances.
 	FieldPPM             float64 `toml:"field_ppm"`
 	FieldPrismConstantMM float64 `toml:"field_prism_constant_mm"`
+	// FieldCurvatureRefraction says which of its horizontal and vertical
+	// distances the instrument corrected for curvature and refraction
+	// before storing them: "none" (the default), "vertical" or "both";
+	// with its coefficient of refraction FieldRefractionK (required
+	// unless "none") and earth radius FieldEarthRadiusM (default
+	// reduce.DefaultFieldEarthRadius).
+	FieldCurvatureRefraction string   `toml:"field_curvature_refraction"`
+	FieldRefractionK         *float64 `toml:"field_refraction_k"`
+	FieldEarthRadiusM        *float64 `toml:"field_earth_radius_m"`
 	// RowPrismConstant says what a row's prism_constant_mm is where the
 	// row gives no field_prism_constant_mm: "target" (the target's true
 	// constant; the instrument applied field_prism_constant_mm) or

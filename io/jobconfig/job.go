@@ -393,6 +393,7 @@ func profile(name string, in Instrument, pr *problems) (Profile, bool) {
 			pr.bad(key+"."+v.k, "%v: want a value within ±1000 ppm", v.x)
 		}
 	}
+	curv := fieldCurvature(key, in, pr)
 	rowPrism, err := rowPrismReading(in.RowPrismConstant)
 	if err != nil {
 		pr.bad(key+".row_prism_constant", "%v", err)
@@ -420,13 +421,60 @@ func profile(name string, in Instrument, pr *problems) (Profile, bool) {
 		Name: name,
 		Chain: reduce.Job{
 			Instrument: reduce.Instrument{AdditiveConstant: in.AdditiveConstantMM / 1000, ScalePPM: in.ScalePPM},
-			Field:      reduce.FieldSettings{PrismConstant: in.FieldPrismConstantMM / 1000, PPM: in.FieldPPM},
+			Field:      reduce.FieldSettings{PrismConstant: in.FieldPrismConstantMM / 1000, PPM: in.FieldPPM, Curvature: curv},
 			Carrier:    c,
 			Budget:     reduce.Budget{Instrument: spec},
 		},
 		PrismConstant: in.PrismConstantMM / 1000,
 		RowPrism:      rowPrism,
 	}, true
+}
+
+// fieldCurvature reads a profile's field_curvature_refraction,
+// field_refraction_k and field_earth_radius_m: what curvature and
+// refraction correction the instrument applied to the horizontal and
+// vertical distances it stored.
+func fieldCurvature(key string, in Instrument, pr *problems) reduce.FieldCurvature {
+	var c reduce.FieldCurvature
+	switch strings.ToLower(in.FieldCurvatureRefraction) {
+	case "", "none":
+		c.Mode = reduce.FieldCurvatureNone
+	case "vertical":
+		c.Mode = reduce.FieldCurvatureVertical
+	case "both":
+		c.Mode = reduce.FieldCurvatureBoth
+	default:
+		pr.bad(key+".field_curvature_refraction", "%q: want \"none\", \"vertical\" (the instrument corrected its vertical distance) or \"both\" (its horizontal and vertical distances)", in.FieldCurvatureRefraction)
+		return c
+	}
+	if c.Mode == reduce.FieldCurvatureNone {
+		// Nothing is dropped silently: a k or radius without a mode is a
+		// setting that does nothing.
+		if in.FieldRefractionK != nil {
+			pr.bad(key+".field_refraction_k", "%v given, but field_curvature_refraction is \"none\": set it to \"vertical\" or \"both\", or remove the key", *in.FieldRefractionK)
+		}
+		if in.FieldEarthRadiusM != nil {
+			pr.bad(key+".field_earth_radius_m", "%v given, but field_curvature_refraction is \"none\": set it to \"vertical\" or \"both\", or remove the key", *in.FieldEarthRadiusM)
+		}
+		return c
+	}
+	c.Radius = reduce.DefaultFieldEarthRadius
+	if in.FieldEarthRadiusM != nil {
+		if v := *in.FieldEarthRadiusM; !(v >= reduce.MinFieldEarthRadius && v <= reduce.MaxFieldEarthRadius) {
+			pr.bad(key+".field_earth_radius_m", "%v: want the earth radius the instrument used, %g..%g m (from its manual; default %g)", v, reduce.MinFieldEarthRadius, reduce.MaxFieldEarthRadius, reduce.DefaultFieldEarthRadius)
+		} else {
+			c.Radius = v
+		}
+	}
+	switch {
+	case in.FieldRefractionK == nil:
+		pr.bad(key+".field_refraction_k", "missing: want the coefficient of refraction the instrument used for field_curvature_refraction = %q, 0 ≤ k < 1 (from its settings)", c.Mode)
+	case !(*in.FieldRefractionK >= 0 && *in.FieldRefractionK < reduce.MaxFieldK):
+		pr.bad(key+".field_refraction_k", "%v: want the coefficient of refraction the instrument used, 0 ≤ k < 1", *in.FieldRefractionK)
+	default:
+		c.K = *in.FieldRefractionK
+	}
+	return c
 }
 
 // problems collects every problem of a job file, each naming its key.

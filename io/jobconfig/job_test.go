@@ -221,3 +221,43 @@ func TestDelimiterSetting(t *testing.T) {
 	require.Error(t, err)
 	assert.Contains(t, err.Error(), `job.toml: delimiter: "|": want "auto"`)
 }
+
+// The curvature and refraction the field instrument applied to its
+// horizontal and vertical distances: none by default, the radius's
+// default where a mode is given, and each wrong key named.
+func TestFieldCurvatureSettings(t *testing.T) {
+	resolve := func(keys string) (*Job, error) {
+		t.Helper()
+		in := strings.Replace(full, "field_prism_constant_mm = -30\n", "field_prism_constant_mm = -30\n"+keys, 1)
+		require.Equal(t, len(full)+len(keys), len(in), "the keys go into [instrument.ts1]")
+		f, err := Parse([]byte(in), "job.toml")
+		require.NoError(t, err)
+		return Resolve(f, "job.toml")
+	}
+	j, err := resolve("")
+	require.NoError(t, err)
+	assert.Equal(t, reduce.FieldCurvature{}, j.Profiles["ts1"].Chain.Field.Curvature, "none by default")
+	j, err = resolve("field_curvature_refraction = \"none\"\n")
+	require.NoError(t, err)
+	assert.Equal(t, reduce.FieldCurvature{}, j.Profiles["ts1"].Chain.Field.Curvature)
+	j, err = resolve("field_curvature_refraction = \"both\"\nfield_refraction_k = 0.13\n")
+	require.NoError(t, err)
+	assert.Equal(t, reduce.FieldCurvature{Mode: reduce.FieldCurvatureBoth, K: 0.13, Radius: 6378000}, j.Profiles["ts1"].Chain.Field.Curvature)
+	j, err = resolve("field_curvature_refraction = \"vertical\"\nfield_refraction_k = 0\nfield_earth_radius_m = 6370000\n")
+	require.NoError(t, err)
+	assert.Equal(t, reduce.FieldCurvature{Mode: reduce.FieldCurvatureVertical, K: 0, Radius: 6370000}, j.Profiles["ts1"].Chain.Field.Curvature)
+	assert.Equal(t, reduce.FieldCurvature{}, j.Profiles["old"].Chain.Field.Curvature, "per profile")
+
+	for keys, want := range map[string]string{
+		"field_curvature_refraction = \"yes\"\n":                                                          `job.toml: instrument.ts1.field_curvature_refraction: "yes": want "none", "vertical"`,
+		"field_curvature_refraction = \"both\"\n":                                                         `job.toml: instrument.ts1.field_refraction_k: missing: want the coefficient of refraction the instrument used for field_curvature_refraction = "both"`,
+		"field_curvature_refraction = \"both\"\nfield_refraction_k = 1\n":                                 "job.toml: instrument.ts1.field_refraction_k: 1: want the coefficient of refraction the instrument used, 0 ≤ k < 1",
+		"field_curvature_refraction = \"vertical\"\nfield_refraction_k = -0.1\n":                          "job.toml: instrument.ts1.field_refraction_k: -0.1: want",
+		"field_curvature_refraction = \"both\"\nfield_refraction_k = 0.13\nfield_earth_radius_m = 6378\n": "job.toml: instrument.ts1.field_earth_radius_m: 6378: want the earth radius the instrument used, 6.3e+06..6.4e+06 m",
+		"field_refraction_k = 0.13\n":                                                                     `job.toml: instrument.ts1.field_refraction_k: 0.13 given, but field_curvature_refraction is "none"`,
+		"field_curvature_refraction = \"none\"\nfield_earth_radius_m = 6378000\n":                         `job.toml: instrument.ts1.field_earth_radius_m: 6.378e+06 given, but field_curvature_refraction is "none"`,
+	} {
+		_, err := resolve(keys)
+		assert.ErrorContains(t, err, want, keys)
+	}
+}

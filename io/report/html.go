@@ -277,10 +277,10 @@ A significant constant suggests a wrong prism constant or additive constant; a s
 {{- if .Settings.Instruments}}
 <div class="wide">
 <table class="lines" id="instruments">
-<thead><tr><th>name</th><th>carrier wavelength µm</th><th>reference refractivity</th><th>additive constant mm</th><th>scale ppm</th><th>prism constant mm</th><th>ppm applied in the field</th><th>prism constant applied in the field mm</th><th>a row's prism constant read as</th><th>specification</th></tr></thead>
+<thead><tr><th>name</th><th>carrier wavelength µm</th><th>reference refractivity</th><th>additive constant mm</th><th>scale ppm</th><th>prism constant mm</th><th>ppm applied in the field</th><th>prism constant applied in the field mm</th><th>a row's prism constant read as</th><th>curvature and refraction applied in the field to horizontal and vertical distances</th><th>specification</th></tr></thead>
 <tbody>
 {{- range .Settings.Instruments}}
-<tr><td class="id">{{.Name}}</td><td class="num">{{f .WavelengthUM 4}}</td><td class="num">{{f .ReferenceRefractivity 2}}</td><td class="num">{{mm .AdditiveConstantMM}}</td><td class="num">{{ppm .ScalePPM}}</td><td class="num">{{mm .PrismConstantMM}}</td><td class="num">{{ppm .AppliedPPM}}</td><td class="num">{{mm .AppliedPrismMM}}</td><td>{{.RowPrismConstant}}</td><td>{{.Spec}}</td></tr>
+<tr><td class="id">{{.Name}}</td><td class="num">{{f .WavelengthUM 4}}</td><td class="num">{{f .ReferenceRefractivity 2}}</td><td class="num">{{mm .AdditiveConstantMM}}</td><td class="num">{{ppm .ScalePPM}}</td><td class="num">{{mm .PrismConstantMM}}</td><td class="num">{{ppm .AppliedPPM}}</td><td class="num">{{mm .AppliedPrismMM}}</td><td>{{.RowPrismConstant}}</td><td>{{.FieldCurvatureText}}</td><td>{{.Spec}}</td></tr>
 {{- end}}
 </tbody>
 </table>

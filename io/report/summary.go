@@ -1,5 +1,7 @@
 package report
 
+import "fmt"
+
 // Summary is the machine-readable account of one reduce run, written as
 // summary.json and rendered in report.html. It holds no clock time and
 // nothing that depends on the number of workers, so the same inputs give a
@@ -160,7 +162,26 @@ type InstrumentSettings struct {
 	// the row gave no field_prism_constant_mm: "target", "applied", or
 	// "not given" (rows where the readings differ are rejected).
 	RowPrismConstant string `json:"row_prism_constant"`
-	Spec             string `json:"spec"` // e.g. "1 mm + 1.5 ppm, RSS, 1σ"
+	// FieldCurvatureRefraction is which of its horizontal and vertical
+	// distances the instrument corrected for curvature and refraction:
+	// "none", "vertical" or "both"; with, unless "none", the coefficient
+	// of refraction and the earth radius (m) it used.
+	FieldCurvatureRefraction string   `json:"field_curvature_refraction"`
+	FieldRefractionK         *float64 `json:"field_refraction_k,omitempty"`
+	FieldEarthRadiusM        *float64 `json:"field_earth_radius_m,omitempty"`
+	Spec                     string   `json:"spec"` // e.g. "1 mm + 1.5 ppm, RSS, 1σ"
+}
+
+// FieldCurvatureText is the profile's field curvature and refraction in
+// words for the report: "none", or the mode with its k and radius.
+func (s InstrumentSettings) FieldCurvatureText() string {
+	if s.FieldRefractionK == nil || s.FieldEarthRadiusM == nil {
+		if s.FieldCurvatureRefraction == "" {
+			return "none"
+		}
+		return s.FieldCurvatureRefraction
+	}
+	return fmt.Sprintf("%s, k = %g, R = %g m", s.FieldCurvatureRefraction, *s.FieldRefractionK, *s.FieldEarthRadiusM)
 }
 
 // InputFile is one input as read.

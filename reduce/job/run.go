@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"runtime"
 	"slices"
 	"sync"
@@ -521,6 +522,12 @@ func reduceOne(plan *Plan, p *geodesic.Projector, r *Result, readErr error) {
 		return
 	}
 	r.PrismFrom, r.FieldPrismFrom = pr.TargetFrom, pr.AppliedFrom
+	if o.Horizontal && prof.Chain.Field.Curvature.Mode != reduce.FieldCurvatureNone {
+		if err = undoFieldCurvature(o, &prof.Chain.Field.Curvature); err != nil {
+			reject(fmt.Sprintf("%s: %v", where, err))
+			return
+		}
+	}
 	obs := reduce.Observation{
 		SlopeDistance:         o.SlopeDistance,
 		Zenith:                o.Zenith,
@@ -545,6 +552,23 @@ func reduceOne(plan *Plan, p *geodesic.Projector, r *Result, readErr error) {
 		r.Reduction = reduce.Reduction{}
 		reject(fmt.Sprintf("%s: %v", where, err))
 	}
+}
+
+// undoFieldCurvature replaces a horizontal row's slope distance and zenith
+// angle with those whose horizontal and vertical distances the instrument
+// would have stored with its curvature and refraction correction c: the
+// reader turned the stored hd', vd' into S = √(hd'² + vd'²) and
+// z = atan2(hd', vd'), so hd' = S sin z and vd' = S cos z come back from
+// them, and c.Inverse undoes the instrument's correction, so that the
+// chain's own curvature and refraction apply once.
+func undoFieldCurvature(o *input.Observation, c *reduce.FieldCurvature) error {
+	sin, cos := math.Sincos(float64(o.Zenith))
+	s, z, err := c.Inverse(o.SlopeDistance*sin, o.SlopeDistance*cos)
+	if err != nil {
+		return err
+	}
+	o.SlopeDistance, o.Zenith = s, z
+	return nil
 }
 
 // fileLine formats as "file:line" only when a message needs it.
