@@ -87,7 +87,12 @@ func TestReduceSemicolonAndTabFiles(t *testing.T) {
 		for _, args := range [][]string{nil, {"-delimiter", c.option}} {
 			reduceIn(dir, args...)
 			assert.Equal(t, want, outputs(dir), "%s %v", c.name, args)
-			assert.Equal(t, wantCounts, readSummary(t, filepath.Join(dir, "out", "summary.json")).Counts, c.name)
+			sum := readSummary(t, filepath.Join(dir, "out", "summary.json"))
+			assert.Equal(t, wantCounts, sum.Counts, c.name)
+			// summary.json says how the observations were read.
+			obs := sum.Inputs[len(sum.Inputs)-1]
+			mark := map[bool]string{true: ",", false: "."}[c.comma]
+			assert.Equal(t, []string{"csv", c.option, mark}, []string{obs.Format, obs.Delimiter, obs.DecimalMark}, c.name)
 			rejects := readCSV(t, filepath.Join(dir, "out", "rejects.csv"))
 			require.Len(t, rejects, len(wantRejects), c.name)
 			for i, r := range rejects[1:] {

@@ -466,6 +466,9 @@ func TestLandXMLInstrumentBySerialNumber(t *testing.T) {
 	for _, r := range recs[1:] {
 		assert.Equal(t, "ts-red", r[6])
 	}
+	sum := readSummary(t, filepath.Join(dir, "out-ours.xml", "summary.json"))
+	obs := sum.Inputs[len(sum.Inputs)-1]
+	assert.Equal(t, []string{"landxml", "", ""}, []string{obs.Format, obs.Delimiter, obs.DecimalMark}, "summary.json says how the file was read")
 
 	code, stderr, out = reduceIn(t, dir, "other.xml")
 	assert.Equal(t, exitFailed, code, "nothing reduced")

@@ -467,7 +467,8 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 	var rows atomic.Int64
 	stop := startProgress(opt.progress, &read, &rows, total)
 	hook := opt.set.Hook
-	err = job.Run(ctx, plan, sources, obsOpener(j), warn, func(r *job.Result) error {
+	var opened openedFiles
+	err = job.Run(ctx, plan, sources, opened.opener(j), warn, func(r *job.Result) error {
 		if len(xml) > 0 {
 			xml.fix(r, u)
 		}
@@ -506,7 +507,9 @@ func reduceJob(ctx context.Context, j *jobconfig.Job, opt reduceOptions) (sum *r
 	reduced.StartSync()
 	rejects.StartSync()
 	for i, src := range sources {
-		sum.Inputs = append(sum.Inputs, report.InputFile{Role: "observations", Path: src.Name, SHA256: hex.EncodeToString(hashes[i].Sum(nil)), Rows: perSource.count(src.Name)})
+		in := report.InputFile{Role: "observations", Path: src.Name, SHA256: hex.EncodeToString(hashes[i].Sum(nil)), Rows: perSource.count(src.Name)}
+		opened.dialect(&in, xml)
+		sum.Inputs = append(sum.Inputs, in)
 	}
 	sum.Settings = settings(j, s.crs, s.geoidGrid, opt.strict)
 	sum.Settings.GridUnit = s.gridUnit.String()
@@ -844,13 +847,53 @@ func writeHeapProfile(path string) error {
 // obsOpener opens the run's observation files, and LandXML files as the
 // CSV stream that io/landxml makes of them, with io/obsfile's chunker in
 // the job's units, limits and delimiter.
-func obsOpener(j *jobconfig.Job) job.Opener {
+func obsOpener(j *jobconfig.Job) job.Opener { return (*openedFiles)(nil).opener(j) }
+
+// openedFiles keeps the readers of the observation files a run opened,
+// for the dialect each was read in (summary.json's inputs).
+type openedFiles struct {
+	mu sync.Mutex
+	m  map[string]*obsfile.ObsChunker
+}
+
+// opener opens each observation source as the observation CSV, and keeps
+// its reader in f where f is not nil.
+func (f *openedFiles) opener(j *jobconfig.Job) job.Opener {
 	opt := j.ObsOptions()
 	return func(src job.Source) (job.ChunkSource, []obsfile.Warning, error) {
 		c, warnings, err := obsfile.NewObsChunker(src.Reader, src.Name, opt)
 		if err != nil {
 			return nil, warnings, err // not a nil *ObsChunker in the interface
 		}
+		if f != nil {
+			f.mu.Lock()
+			if f.m == nil {
+				f.m = map[string]*obsfile.ObsChunker{}
+			}
+			f.m[src.Name] = c
+			f.mu.Unlock()
+		}
 		return c, warnings, nil
+	}
+}
+
+// dialect fills in how the observation file in was read: LandXML (its
+// stream in xml), or the CSV with its delimiter and decimal mark.
+func (f *openedFiles) dialect(in *report.InputFile, xml landxmlSources) {
+	if _, ok := xml[in.Path]; ok {
+		in.Format = "landxml"
+		return
+	}
+	f.mu.Lock()
+	c := f.m[in.Path]
+	f.mu.Unlock()
+	if c == nil {
+		return // not opened: the run stopped before it
+	}
+	in.Format = "csv"
+	d, m := c.Dialect()
+	in.Delimiter = d.String()
+	if m != 0 {
+		in.DecimalMark = string(rune(m))
 	}
 }

@@ -9,6 +9,7 @@ import (
 	"sync/atomic"
 	"unsafe"
 
+	"github.com/geored/geored/io/units"
 	"github.com/geored/geored/reduce/input"
 )
 
@@ -129,6 +130,18 @@ func (c *ObsChunker) Reader(data []byte, firstLine int) *ObsReader {
 	o := *c.head
 	o.t = &t
 	return &o
+}
+
+// Dialect is the file's field delimiter and its decimal mark, as far as
+// the rows read so far show one: 0 where a semicolon- or tab-delimited
+// file has shown none yet (a comma-delimited file's is the point).
+func (c *ObsChunker) Dialect() (Delimiter, units.DecimalMark) {
+	t := c.head.t
+	m := t.mark.mark
+	if p := c.mark.Load(); m == 0 && p != nil {
+		m = p.mark
+	}
+	return t.delim, m
 }
 
 // Rows is Reader for the pipeline (reduce/job.ChunkSource).

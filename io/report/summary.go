@@ -190,6 +190,12 @@ type InputFile struct {
 	Path   string `json:"path"`
 	SHA256 string `json:"sha256"`
 	Rows   int    `json:"rows"`
+	// Format says how an observation file was read: "csv", with its
+	// Delimiter ("," ";" or "tab") and DecimalMark ("." or ","; "" where
+	// the file showed none), or "landxml".
+	Format      string `json:"format,omitempty"`
+	Delimiter   string `json:"delimiter,omitempty"`
+	DecimalMark string `json:"decimal_mark,omitempty"`
 }
 
 // Counts add up: Read = Reduced + Rejected.
