@@ -367,6 +367,12 @@ func TestLandXMLBadInput(t *testing.T) {
 		{file: "bad-reference-and-number.xml", reject: map[int]string{
 			14: `bad-reference-and-number.xml:14:5: RawObservation setupID "s9": want the id of an InstrumentSetup earlier in the file`,
 			17: `bad-reference-and-number.xml:17:5: RawObservation slopeDistance "887,2055": want a slope distance in m, > 0 and at most 100 km`}},
+		{file: "face-and-time.xml", reject: map[int]string{
+			14: `face-and-time.xml:14:5: RawObservation zenithAngle "90.13254": want a face-right zenith angle in dms (directFace is false), strictly between a half turn and a full turn`,
+			17: `face-and-time.xml:17:5: RawObservation directFace "left": want true or false (xs:boolean): whether the zenith angle was read on the direct face, face left`,
+			20: `face-and-time.xml:20:5: RawObservation timeStamp "14.03.2026 09:01": want the observation's date and time, xs:dateTime as 2026-05-14T09:31:07`}},
+		{file: "unknown-instrument.xml", reject: map[int]string{
+			17: `unknown-instrument.xml:15:5: InstrumentSetup instrumentDetailsID "ts-7": want the id of an InstrumentDetails earlier in the file`}},
 		{file: "wrong-units.xml", stop: `wrong-units.xml:5:5: Imperial linearUnit "USSurveyFoot": want the job's length_unit m: the file and the job disagree (set length_unit = "us-ft" for this file)`},
 		{file: "wrong-angle-unit.xml", stop: `wrong-angle-unit.xml:5:5: Metric angularUnit "grads": want the job's angle_unit dms: the file and the job disagree (set angle_unit = "gon" for this file)`},
 		{file: "no-angular-unit.xml", stop: `no-angular-unit.xml:5:5: Metric angularUnit "": want the unit of the file's angles: units are never guessed`},
