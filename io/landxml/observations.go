@@ -101,8 +101,10 @@ func NewObservations(r io.Reader, file string, opt Options) *Observations {
 	return o
 }
 
-// Warnings is the file's one warning naming the elements not read, once
-// the stream has been read to its end.
+// Warnings are the file's warnings, once the stream has been read to its
+// end: one naming the elements not read, one the attributes not read, and
+// one where its InstrumentDetails have serial numbers that the job's
+// profiles, giving none, do not tell apart.
 func (o *Observations) Warnings() []obsfile.Warning {
 	w := o.s.warnings()
 	if o.unnamed != nil {
