@@ -9,7 +9,7 @@ import (
 // Reading is what an instrument shows for one sight, metres.
 type Reading struct {
 	Slope      float64 // slope distance
-	Horizontal float64 // Slope · sin z, z the observed zenith angle
+	Horizontal float64 // Slope · sin z, z the observed zenith angle (see Predict)
 }
 
 // Prediction keeps every stage of the chain run backwards for one sight:
@@ -83,7 +83,10 @@ type Prediction struct {
 //
 // Displayed.Horizontal is Displayed.Slope · sin z, the horizontal distance
 // an instrument shows with its own curvature-and-refraction correction
-// switched off; Bare is the same without the field settings.
+// switched off, or, where job.Field.Curvature says it corrects its
+// horizontal distance (FieldCurvatureBoth), that corrected distance
+// (FieldCurvature.Forward); Bare is Slope · sin z without the field
+// settings.
 //
 // Reducing the prediction with Reduce gives back the control geodesic and
 // grid distance to 0.01 mm on lines of 1 m to 30 km at heights of −100 m to
@@ -221,6 +224,9 @@ func Predict(obs Observation, job Job, line Line, markA, markB MarkHeight) (Pred
 	}
 	sz := math.Sin(float64(zenith))
 	p.Displayed = Reading{Slope: raw, Horizontal: raw * sz}
+	if job.Field.Curvature.Mode == FieldCurvatureBoth {
+		p.Displayed.Horizontal, _ = job.Field.Curvature.Forward(raw, zenith)
+	}
 	p.Bare = Reading{Slope: measured, Horizontal: measured * sz}
 	return p, nil
 }

@@ -203,6 +203,25 @@ func TestPredictFieldSettings(t *testing.T) {
 	assert.InDelta(t, pOn.Displayed.Slope*math.Sin(pOn.Observation.Zenith.Radians()), pOn.Displayed.Horizontal, 1e-9, "horizontal = slope sin z (m)")
 	// 30 m up over 1.5 km: the zenith angle is a little under 90° − atan(30/1500)
 	assert.InDelta(t, 90-math.Atan2(30, 1500)*180/math.Pi, pOn.Observation.Zenith.Degrees(), 0.01, "zenith angle (deg)")
+
+	// An instrument that corrects its horizontal distance for curvature
+	// and refraction shows hd' = Y − (1 − k/2)·X·Y/R (X = S cos z,
+	// Y = S sin z; the first-order form of total-station manuals, from
+	// memory); one that corrects only its height difference shows Y.
+	both := on
+	both.Field.Curvature = reduce.FieldCurvature{Mode: reduce.FieldCurvatureBoth, K: 0.13, Radius: 6378000}
+	pBoth, err := reduce.Predict(obs, both, line, markA, markB)
+	require.NoError(t, err)
+	s, z := pBoth.Displayed.Slope, pBoth.Observation.Zenith.Radians()
+	x, y := s*math.Cos(z), s*math.Sin(z)
+	assert.Equal(t, pOn.Displayed.Slope, s, "the slope distance is not the instrument's to correct")
+	assert.InDelta(t, y-(1-0.13/2)*x*y/6378000, pBoth.Displayed.Horizontal, 1e-9, "horizontal shown (m)")
+	assert.Greater(t, math.Abs(pBoth.Displayed.Horizontal-pOn.Displayed.Horizontal), 5e-3, "the correction is seen (about 7 mm here)")
+	vertical := on
+	vertical.Field.Curvature = reduce.FieldCurvature{Mode: reduce.FieldCurvatureVertical, K: 0.13, Radius: 6378000}
+	pVert, err := reduce.Predict(obs, vertical, line, markA, markB)
+	require.NoError(t, err)
+	assert.Equal(t, pOn.Displayed, pVert.Displayed)
 }
 
 // Bad input is an *InputError naming the quantity, never NaN.

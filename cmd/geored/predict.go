@@ -289,8 +289,8 @@ func writePredictTable(w io.Writer, jw *jobWorld, rows []predictedSight) error {
 	}
 	fmt.Fprintln(w, "\nshown: as the instrument stores and displays it, with its field ppm and field prism constant applied;")
 	fmt.Fprintln(w, "bare: the same without them. horizontal = slope · sin(zenith), without the instrument's own earth")
-	fmt.Fprintln(w, "curvature correction. atm. ppm: N_ref − N_L of the air given (IAG 1999), which an instrument set to it")
-	fmt.Fprintln(w, "would apply.")
+	fmt.Fprintln(w, "curvature correction (with it where the profile's field_curvature_refraction is \"both\"). atm. ppm:")
+	fmt.Fprintln(w, "N_ref − N_L of the air given (IAG 1999), which an instrument set to it would apply.")
 	fmt.Fprintln(w, cautionText)
 	return nil
 }
