@@ -15,7 +15,8 @@ import (
 // testdata/fuzz/FuzzObservations.
 func FuzzObservations(f *testing.F) {
 	f.Fuzz(func(t *testing.T, data []byte) {
-		opt := Options{LengthUnit: units.Metre, AngleUnit: units.PackedDMS, Limits: obsfile.Limits{MaxLineBytes: 4 << 10, MaxFieldBytes: 256}}
+		opt := Options{LengthUnit: units.Metre, AngleUnit: units.PackedDMS, Limits: obsfile.Limits{MaxLineBytes: 4 << 10, MaxFieldBytes: 256},
+			Instruments: map[string]string{"S-1": "ts"}}
 		lx := NewObservations(strings.NewReader(string(data)), "f.xml", opt)
 		r, _, err := obsfile.NewObsReader(lx, "f.xml", obsfile.ObsOptions{LengthUnit: opt.LengthUnit, AngleUnit: opt.AngleUnit, Limits: opt.Limits})
 		if err != nil {

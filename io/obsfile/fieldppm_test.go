@@ -62,4 +62,9 @@ func TestObservationsObservedAt(t *testing.T) {
 	at, err := ParseObservedAt("2026-05-14 09:31:07+02:00")
 	require.NoError(t, err)
 	assert.True(t, at.Equal(time.Date(2026, 5, 14, 7, 31, 7, 0, time.UTC)))
+	// ISO 8601's decimal comma in the seconds, as a semicolon file may
+	// write them.
+	at, err = ParseObservedAt("2026-05-14T09:31:07,25Z")
+	require.NoError(t, err)
+	assert.True(t, at.Equal(time.Date(2026, 5, 14, 9, 31, 7, 250_000_000, time.UTC)))
 }

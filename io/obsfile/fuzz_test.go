@@ -24,6 +24,7 @@ func FuzzObsReader(f *testing.F) {
 		"",
 		"from,to,slope_distance,zenith_angle,horizontal_distance,vertical_distance\nA,B,100,90,,\nA,B,,,100,-1\nA,B,100,,,1e308\n",
 		"from;to;horizontal_distance;vertical_distance\nA;B;1e-300;-1e5\n",
+		"from;to;slope_distance;zenith_angle;field_ppm;observed_at\nA;B;100;90;12,5;2026-05-14 09:31:07,5+02:00\nA;B;100;90;;2026-02-29T10:00\n",
 	} {
 		f.Add([]byte(seed))
 	}

@@ -7,7 +7,8 @@ import (
 
 // observedAtLayouts are the ISO 8601 forms of observed_at (and of
 // LandXML's xs:dateTime): a calendar date and a time of day to the minute
-// or second, with a decimal fraction of the second, with or without a
+// or second, with a decimal fraction of the second (after a point or,
+// as ISO 8601 also allows, a comma: time.Parse takes either), with or without a
 // zone (Z or ±hh:mm); a space may stand for the T (RFC 3339 §5.6 allows
 // it, and spreadsheets write it).
 var observedAtLayouts = [...]string{
