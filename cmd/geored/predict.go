@@ -62,7 +62,7 @@ Flags:
 	if err != nil {
 		return fail(stderr, "predict", err)
 	}
-	sights, err := readSightFile(*pairs, j.LengthUnit, stderr)
+	sights, err := readSightFile(*pairs, j.LengthUnit, j.Delimiter, stderr)
 	if err != nil {
 		return fail(stderr, "predict", err)
 	}
@@ -151,15 +151,15 @@ func (s sightSource) String() string {
 	return s.file + ":" + strconv.Itoa(s.line)
 }
 
-// readSightFile reads a pairs file with heights in unit; its warnings go
-// to stderr.
-func readSightFile(path string, unit units.LengthUnit, stderr io.Writer) ([]obsfile.Sight, error) {
+// readSightFile reads a pairs file with heights in unit, delimited as the
+// job says; its warnings go to stderr.
+func readSightFile(path string, unit units.LengthUnit, delim obsfile.Delimiter, stderr io.Writer) ([]obsfile.Sight, error) {
 	f, err := os.Open(path)
 	if err != nil {
 		return nil, err
 	}
 	defer f.Close()
-	sights, warnings, err := obsfile.ReadSights(f, path, unit)
+	sights, warnings, err := obsfile.ReadSights(f, path, unit, delim)
 	for _, wn := range warnings {
 		warnTo(stderr)(wn)
 	}

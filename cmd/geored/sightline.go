@@ -292,15 +292,15 @@ func or(s, def string) string {
 
 func fmtLen(m float64, u units.LengthUnit) string { return lengthText(m, u, false) }
 
-// readProfileFile reads a profile file in unit for a line of length metres;
-// its warnings go to stderr.
+// readProfileFile reads a profile file in unit for a line of length metres,
+// its delimiter found from its header; its warnings go to stderr.
 func readProfileFile(path string, unit units.LengthUnit, length float64, stderr io.Writer) ([]reduce.ProfilePoint, error) {
 	f, err := os.Open(path)
 	if err != nil {
 		return nil, err
 	}
 	defer f.Close()
-	pts, warnings, err := obsfile.ReadProfile(f, path, unit, length)
+	pts, warnings, err := obsfile.ReadProfile(f, path, unit, length, obsfile.DelimiterAuto)
 	for _, wn := range warnings {
 		warnTo(stderr)(wn)
 	}

@@ -35,16 +35,18 @@ var profileColumns = []string{colDistance, colHeight}
 
 // ReadProfile reads a profile file: the columns distance (from the eye
 // along the line, 0..length) and height (-10 km..100 km), both in unit;
-// length is the line's length in metres. It reports every bad row (up to
-// 50) in one joined error; each unknown column is one warning.
-func ReadProfile(r io.Reader, file string, unit units.LengthUnit, length float64) ([]ProfilePoint, []Warning, error) {
+// length is the line's length in metres. Its fields are delimited by
+// delim (DelimiterAuto: found from the header), with a decimal comma in a
+// semicolon or tab file, as the observation file's. It reports every bad
+// row (up to 50) in one joined error; each unknown column is one warning.
+func ReadProfile(r io.Reader, file string, unit units.LengthUnit, length float64, delim Delimiter) ([]ProfilePoint, []Warning, error) {
 	if unit == 0 {
 		return nil, nil, fmt.Errorf("%s: length unit not set", file)
 	}
 	if !(length > 0) || math.IsInf(length, 0) {
 		return nil, nil, fmt.Errorf("%s: the line's length %g m: want a positive length", file, length)
 	}
-	t, warnings, err := openTable(r, file, profileColumns, DefaultLimits, csvFormat{delim: Comma})
+	t, warnings, err := openTable(r, file, profileColumns, DefaultLimits, csvFormat{delim: delim, numeric: profileColumns})
 	if err != nil {
 		return nil, nil, err
 	}

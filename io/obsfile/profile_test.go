@@ -21,7 +21,7 @@ func TestReadProfile(t *testing.T) {
 		"-12.5,0,quarry\r\n" +
 		"8.5,39370.0787,mast\r\n"
 	const length = 12000.0
-	pts, warns, err := ReadProfile(strings.NewReader(in), "profile.csv", units.InternationalFoot, length)
+	pts, warns, err := ReadProfile(strings.NewReader(in), "profile.csv", units.InternationalFoot, length, Comma)
 	require.NoError(t, err)
 	require.Len(t, warns, 1)
 	assert.Equal(t, `profile.csv:2: unknown column "kind" (column 3) is ignored; known columns: distance, height`, warns[0].String())
@@ -39,7 +39,7 @@ func TestReadProfile(t *testing.T) {
 // 9.84251968503937 ft, which times 0.3048 is 3.0000000000000004 m in
 // float64; the reader keeps it at 3 m.
 func TestReadProfileFarEndStaysOnLine(t *testing.T) {
-	pts, _, err := ReadProfile(strings.NewReader("distance,height\n9.84251968503937,1\n"), "profile.csv", units.InternationalFoot, 3)
+	pts, _, err := ReadProfile(strings.NewReader("distance,height\n9.84251968503937,1\n"), "profile.csv", units.InternationalFoot, 3, Comma)
 	require.NoError(t, err)
 	d := 9.84251968503937
 	require.Greater(t, d*float64(units.InternationalFoot), 3.0, "precondition: the product in float64 passes the end")
@@ -67,24 +67,24 @@ func TestReadProfileErrors(t *testing.T) {
 		{"no length", "distance,height\n0,1\n", 0, "profile.csv: the line's length 0 m: want a positive length"},
 		{"NaN length", "distance,height\n0,1\n", math.NaN(), "profile.csv: the line's length NaN m"},
 	} {
-		_, _, err := ReadProfile(strings.NewReader(tc.in), "profile.csv", units.Metre, tc.length)
+		_, _, err := ReadProfile(strings.NewReader(tc.in), "profile.csv", units.Metre, tc.length, Comma)
 		assert.ErrorContainsf(t, err, tc.want, "case %s", tc.name)
 	}
-	_, _, err := ReadProfile(strings.NewReader("distance,height\n0,1\n"), "profile.csv", 0, 100)
+	_, _, err := ReadProfile(strings.NewReader("distance,height\n0,1\n"), "profile.csv", 0, 100, Comma)
 	assert.ErrorContains(t, err, "profile.csv: length unit not set")
 }
 
 // Heights in feet are checked against the limits in metres.
 func TestReadProfileHeightLimitInFeet(t *testing.T) {
-	_, _, err := ReadProfile(strings.NewReader("distance,height\n0,328084\n"), "profile.csv", units.InternationalFoot, 100)
+	_, _, err := ReadProfile(strings.NewReader("distance,height\n0,328084\n"), "profile.csv", units.InternationalFoot, 100, Comma)
 	assert.ErrorContains(t, err, `profile.csv:2:2: height "328084": want a height in intl-ft within -10000..100000 m`)
-	_, _, err = ReadProfile(strings.NewReader("distance,height\n0,328083\n"), "profile.csv", units.InternationalFoot, 100)
+	_, _, err = ReadProfile(strings.NewReader("distance,height\n0,328083\n"), "profile.csv", units.InternationalFoot, 100, Comma)
 	assert.NoError(t, err, "328083 ft is 99 999.7 m")
 }
 
 func TestReadProfileReportsEveryBadRow(t *testing.T) {
 	in := "distance,height\n3000,5\n13000,2\n4000,abc\n"
-	pts, _, err := ReadProfile(strings.NewReader(in), "profile.csv", units.Metre, 12000)
+	pts, _, err := ReadProfile(strings.NewReader(in), "profile.csv", units.Metre, 12000, Comma)
 	assert.Nil(t, pts)
 	require.Error(t, err)
 	assert.Equal(t, `profile.csv:3:1: distance "13000": want a distance from the eye along the line in m, 0..12000.0000 (the line's length)

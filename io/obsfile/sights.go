@@ -36,19 +36,22 @@ var (
 	airAtTarget     = [...]string{colTempTo, colPresTo, colHumTo}
 	sightColumns    = []string{colFrom, colTo, colHI, colHT, colInstr, colPrism,
 		colTemp, colPressure, colHumidity, colTempTo, colPresTo, colHumTo}
+	sightNumeric = []string{colHI, colHT, colPrism, colTemp, colPressure, colHumidity, colTempTo, colPresTo, colHumTo}
 )
 
 // ReadSights reads a pairs file: the columns from, to, instrument_height
 // and target_height (heights in heightUnit, within ±100 m), and optionally
 // instrument, prism_constant_mm, and temperature_c, pressure_hpa and
 // humidity_pct at the instrument (with the suffix _to at the target), the
-// three given together or not at all. It reports every bad row (up to 50)
-// in one joined error; each unknown column is one warning.
-func ReadSights(r io.Reader, file string, heightUnit units.LengthUnit) ([]Sight, []Warning, error) {
+// three given together or not at all. Its fields are delimited by delim
+// (DelimiterAuto: found from the header), with a decimal comma in a
+// semicolon or tab file, as the observation file's. It reports every bad
+// row (up to 50) in one joined error; each unknown column is one warning.
+func ReadSights(r io.Reader, file string, heightUnit units.LengthUnit, delim Delimiter) ([]Sight, []Warning, error) {
 	if heightUnit == 0 {
 		return nil, nil, fmt.Errorf("%s: height unit not set", file)
 	}
-	t, warnings, err := openTable(r, file, sightColumns, DefaultLimits, csvFormat{delim: Comma})
+	t, warnings, err := openTable(r, file, sightColumns, DefaultLimits, csvFormat{delim: delim, numeric: sightNumeric})
 	if err != nil {
 		return nil, nil, err
 	}

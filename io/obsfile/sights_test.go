@@ -20,7 +20,7 @@ func TestReadSights(t *testing.T) {
 		"A,\"N,2\",5.0853,5.9055,ts1,-30,18,1001,55,17,999,60,x\r\n" +
 		"\r\n" +
 		"Süd 1,C, 5 ,-2,,,,,,,,,\r\n"
-	sights, warns, err := ReadSights(strings.NewReader(in), "pairs.csv", units.USSurveyFoot)
+	sights, warns, err := ReadSights(strings.NewReader(in), "pairs.csv", units.USSurveyFoot, Comma)
 	require.NoError(t, err)
 	require.Len(t, warns, 1)
 	assert.Equal(t, `pairs.csv:2: unknown column "note" (column 13) is ignored; known columns: from, to, instrument_height, target_height, instrument, prism_constant_mm, temperature_c, pressure_hpa, humidity_pct, temperature_c_to, pressure_hpa_to, humidity_pct_to`, warns[0].String())
@@ -51,7 +51,7 @@ func TestReadSights(t *testing.T) {
 
 // The fewest columns: no instrument, prism constant or air.
 func TestReadSightsRequiredOnly(t *testing.T) {
-	sights, warns, err := ReadSights(strings.NewReader("to,from,target_height,instrument_height\nB,A,1.5,1.6\n"), "pairs.csv", units.Metre)
+	sights, warns, err := ReadSights(strings.NewReader("to,from,target_height,instrument_height\nB,A,1.5,1.6\n"), "pairs.csv", units.Metre, Comma)
 	require.NoError(t, err)
 	assert.Empty(t, warns)
 	require.Len(t, sights, 1)
@@ -93,7 +93,7 @@ func TestReadSightsErrors(t *testing.T) {
 		{"bad quote", head + "A,\"B,5,5,ts1,,,\n", units.Metre, "pairs.csv:2"},
 		{"no unit", head + "A,B,5,5,ts1,,,\n", 0, "pairs.csv: height unit not set"},
 	} {
-		_, _, err := ReadSights(strings.NewReader(tc.in), "pairs.csv", tc.unit)
+		_, _, err := ReadSights(strings.NewReader(tc.in), "pairs.csv", tc.unit, Comma)
 		assert.ErrorContainsf(t, err, tc.want, "case %s", tc.name)
 	}
 }
@@ -106,7 +106,7 @@ func TestReadSightsReportsEveryBadRow(t *testing.T) {
 		"A,C,5,5,ts1\n" +
 		"B,C,5,500,ts1\n" +
 		"B,C,5\n"
-	sights, warns, err := ReadSights(strings.NewReader(in), "pairs.csv", units.USSurveyFoot)
+	sights, warns, err := ReadSights(strings.NewReader(in), "pairs.csv", units.USSurveyFoot, Comma)
 	assert.Nil(t, sights)
 	assert.Empty(t, warns)
 	require.Error(t, err)
@@ -121,7 +121,7 @@ pairs.csv:5: want 5 fields as in the header, got 3`, err.Error())
 
 // Warnings come back even when the file is refused.
 func TestReadSightsWarnsOnRefusal(t *testing.T) {
-	_, warns, err := ReadSights(strings.NewReader("from,to,instrument_height,colour\nA,B,1,red\n"), "pairs.csv", units.Metre)
+	_, warns, err := ReadSights(strings.NewReader("from,to,instrument_height,colour\nA,B,1,red\n"), "pairs.csv", units.Metre, Comma)
 	var he *HeaderError
 	require.True(t, errors.As(err, &he))
 	require.Len(t, warns, 1)
