@@ -60,7 +60,8 @@ func TestCommandLineHabits(t *testing.T) {
 		s := readSummary(t, filepath.Join(filepath.Dir(j), "out", "summary.json"))
 		require.Len(t, s.Inputs, 2)
 		h := sha256.Sum256([]byte(clean))
-		assert.Equal(t, report.InputFile{Role: "observations", Path: "stdin", SHA256: hex.EncodeToString(h[:]), Rows: 2}, s.Inputs[1], extra)
+		assert.Equal(t, report.InputFile{Role: "observations", Path: "stdin", SHA256: hex.EncodeToString(h[:]), Rows: 2,
+			Format: "csv", Delimiter: ",", DecimalMark: "."}, s.Inputs[1], extra)
 	}
 	code, _, stderr = exitCode(t, bin, "reduce", "-config", job, "-", "-")
 	assert.Equal(t, 2, code)
