@@ -228,7 +228,7 @@ func TestAuditRawStages(t *testing.T) {
 	assert.Equal(t, filepath.Join(sc.dir, "raw.csv"), rej[1][0])
 	assert.Equal(t, strconv.Itoa(sc.obs+2), rej[1][1], "the raw row's line: a comment, the header and the observations before it")
 	assert.Equal(t, "ALDER,NOWHERE,812.3456,89.5,1.602,1.550,26.5,987.5,55", rej[1][2])
-	assert.Contains(t, rej[1][3], fmt.Sprintf(`raw.csv:%d: target "NOWHERE" is not in the points file`, sc.obs+2))
+	assert.Contains(t, rej[1][3], fmt.Sprintf(`raw.csv:%d:2: target "NOWHERE" is not in the points file`, sc.obs+2))
 
 	var sum struct {
 		Counts struct {

@@ -861,7 +861,10 @@ type openedFiles struct {
 func (f *openedFiles) opener(j *jobconfig.Job) job.Opener {
 	opt := j.ObsOptions()
 	return func(src job.Source) (job.ChunkSource, []obsfile.Warning, error) {
-		c, warnings, err := obsfile.NewObsChunker(src.Reader, src.Name, opt)
+		o := opt
+		// A LandXML file's stream: its CSV columns are not the file's.
+		_, o.NoColumns = src.Reader.(*landxml.Observations)
+		c, warnings, err := obsfile.NewObsChunker(src.Reader, src.Name, o)
 		if err != nil {
 			return nil, warnings, err // not a nil *ObsChunker in the interface
 		}

@@ -28,6 +28,9 @@ type ObsOptions struct {
 	// Delimiter of the file's fields: DelimiterAuto finds it from the
 	// header (FindDelimiter).
 	Delimiter Delimiter
+	// NoColumns leaves Observation.Columns nil: the file's columns are
+	// not the ones a message should name (a LandXML file's CSV stream).
+	NoColumns bool
 }
 
 // Observation file columns.
@@ -73,6 +76,9 @@ type ObsReader struct {
 	// comma is whether the file's decimal mark is a comma (t.mark), as
 	// of the row being parsed.
 	comma bool
+	// cols are from, to and instrument's columns, for every row
+	// (Observation.Columns); zero with ObsOptions.NoColumns.
+	cols input.Columns
 }
 
 // A RowError is a row that cannot be used; the reader goes on after it.
@@ -118,6 +124,9 @@ func NewObsReader(r io.Reader, file string, opt ObsOptions) (*ObsReader, []Warni
 		tempTo: idx(colTempTo), presTo: idx(colPresTo), humTo: idx(colHumTo),
 		prism: idx(colPrism), fieldPrism: idx(colField), fieldPPM: idx(colFieldPPM), instr: idx(colInstr), obsID: idx(colObsID),
 		time: idx(colTime)}
+	if !opt.NoColumns {
+		o.cols = input.Columns{From: int32(o.from + 1), To: int32(o.to + 1), Instrument: int32(o.instr + 1)}
+	}
 	if (o.temp >= 0) != (o.pres >= 0) || (o.temp >= 0) != (o.hum >= 0) {
 		return nil, warnings, &HeaderError{File: file, Line: t.line, Reason: "temperature_c, pressure_hpa and humidity_pct go together"}
 	}
@@ -225,7 +234,7 @@ func (o *ObsReader) parse(fields []string) (Observation, *FieldError) {
 	t := o.t
 	ob := Observation{File: t.file, Line: t.line,
 		From: o.field(o.from), To: o.field(o.to), Instrument: o.field(o.instr), ObsID: o.field(o.obsID),
-		Fields: fields, Delimiter: byte(t.delim)}
+		Fields: fields, Delimiter: byte(t.delim), Columns: o.cols}
 	if ob.From == "" {
 		return ob, o.bad(o.from, "the id of the instrument station")
 	}

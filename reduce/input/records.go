@@ -19,6 +19,10 @@ type Observation struct {
 	// ObservedAt is the row's observed_at as written (checked as an
 	// ISO 8601 date and time), "" where it has none.
 	ObservedAt string
+	// Columns are where the file has From, To and Instrument, for the
+	// messages of a later stage; zero where its columns mean nothing to
+	// the reader of the message (a LandXML file's stream).
+	Columns Columns
 
 	SlopeDistance float64  // as the instrument stored it
 	Zenith        s1.Angle // face left, 0..π
@@ -53,6 +57,10 @@ type Observation struct {
 	Fields    []string
 	Delimiter byte
 }
+
+// Columns are the 1-based columns of a file's from, to and instrument
+// (0 where it has none, or they are not known).
+type Columns struct{ From, To, Instrument int32 }
 
 // Raw is the row as written, re-joined as CSV with its file's delimiter.
 func (o *Observation) Raw() string { return JoinRow(o.Fields, o.Delimiter) }

@@ -488,7 +488,7 @@ func reduceOne(plan *Plan, p *geodesic.Projector, r *Result, readErr error) {
 		if name == "" {
 			reject(where.String() + ": no instrument column and no default_instrument in the job")
 		} else {
-			reject(fmt.Sprintf("%s: instrument %q has no [instrument.%s] profile in the job", where, input.Clip(name), input.Clip(name)))
+			reject(fmt.Sprintf("%s: instrument %q has no [instrument.%s] profile in the job", where.col(o.Columns, colInstrument), input.Clip(name), input.Clip(name)))
 		}
 		return
 	}
@@ -497,17 +497,17 @@ func reduceOne(plan *Plan, p *geodesic.Projector, r *Result, readErr error) {
 	ib, okB := plan.pts.find(o.To)
 	switch {
 	case !okA:
-		reject(fmt.Sprintf("%s: station %q is not in the points file", where, input.Clip(o.From)))
+		reject(fmt.Sprintf("%s: station %q is not in the points file", where.col(o.Columns, colFrom), input.Clip(o.From)))
 		return
 	case !okB:
-		reject(fmt.Sprintf("%s: target %q is not in the points file", where, input.Clip(o.To)))
+		reject(fmt.Sprintf("%s: target %q is not in the points file", where.col(o.Columns, colTo), input.Clip(o.To)))
 		return
 	}
 	a, b := plan.pts.at(ia), plan.pts.at(ib)
 	o.From, o.To = plan.pts.id(ia), plan.pts.id(ib) // the plan's strings: the row's may go
 	r.Points = [2]int32{ia, ib}
 	if !a.hasMark {
-		reject(fmt.Sprintf("%s: station %q has no height on the reduction datum (%s)", where, input.Clip(o.From), plan.Settings.Datum))
+		reject(fmt.Sprintf("%s: station %q has no height on the reduction datum (%s)", where.col(o.Columns, colFrom), input.Clip(o.From), plan.Settings.Datum))
 		return
 	}
 	markA, markB := plan.pts.mark(a), plan.pts.mark(b) // markB zero: the target's height comes from the zenith angle
@@ -578,6 +578,23 @@ type fileLine struct {
 }
 
 func (f fileLine) String() string { return fmt.Sprintf("%s:%d", f.file, f.line) }
+
+// The columns a message may name.
+const (
+	colFrom = iota
+	colTo
+	colInstrument
+)
+
+// col is "file:line:column" for the row's column which (colFrom, …), or
+// "file:line" where the file's columns are not known or it has none.
+func (f fileLine) col(c input.Columns, which int) string {
+	n := [...]int32{c.From, c.To, c.Instrument}[which]
+	if n <= 0 {
+		return f.String()
+	}
+	return fmt.Sprintf("%s:%d:%d", f.file, f.line, n)
+}
 
 // Meteorology is what a row recorded of the air at each end, for the chain.
 func Meteorology(atInstrument, atTarget input.Weather) reduce.Meteorology {
