@@ -258,8 +258,8 @@ func TestLandXMLDemoFile(t *testing.T) {
 	// The CSV's reject for a mark not in the points file names its
 	// column; the LandXML file's names the element's line only, since the
 	// column of its stream is not the file's.
-	assert.Regexp(t, `obs\.csv:\d+:3: target "SB-PILLAR3" is not in the points file`, csvOut["rejects.csv"])
-	assert.Regexp(t, `obs\.xml:\d+: target "SB-PILLAR3" is not in the points file`, xmlOut["rejects.csv"])
+	assert.Regexp(t, `obs\.csv:\d+:3: target ""SB-PILLAR3"" is not in the points file`, csvOut["rejects.csv"])
+	assert.Regexp(t, `obs\.xml:\d+: target ""SB-PILLAR3"" is not in the points file`, xmlOut["rejects.csv"])
 
 	// Each reduced row names the file, its RawObservation's line and its
 	// name attribute.
