@@ -480,6 +480,8 @@ func TestLandXMLInstrumentBySerialNumber(t *testing.T) {
 	sum := readSummary(t, filepath.Join(dir, "out-ours.xml", "summary.json"))
 	obs := sum.Inputs[len(sum.Inputs)-1]
 	assert.Equal(t, []string{"landxml", "", ""}, []string{obs.Format, obs.Delimiter, obs.DecimalMark}, "summary.json says how the file was read")
+	require.Len(t, sum.Settings.Instruments, 1)
+	assert.Equal(t, "S-4711", sum.Settings.Instruments[0].SerialNumber, "and the profile's serial number")
 
 	code, stderr, out = reduceIn(t, dir, "other.xml")
 	assert.Equal(t, exitFailed, code, "nothing reduced")

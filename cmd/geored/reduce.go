@@ -652,7 +652,8 @@ func settings(j *jobconfig.Job, crs *geodesic.CRS, geoidGrid string, strict bool
 			Name: n, WavelengthUM: p.Chain.Carrier.WavelengthUM, ReferenceRefractivity: p.Chain.Carrier.ReferenceRefractivity,
 			AdditiveConstantMM: in.AdditiveConstantMM, ScalePPM: in.ScalePPM, PrismConstantMM: in.PrismConstantMM,
 			AppliedPPM: in.FieldPPM, AppliedPrismMM: in.FieldPrismConstantMM, RowPrismConstant: rowPrism,
-			FieldCurvatureRefraction: c.Mode.String(), Spec: jobconfig.SpecText(p.Chain.Budget.Instrument)}
+			FieldCurvatureRefraction: c.Mode.String(), Spec: jobconfig.SpecText(p.Chain.Budget.Instrument),
+			SerialNumber: strings.TrimSpace(in.SerialNumber)}
 		if c.Mode != reduce.FieldCurvatureNone {
 			ins.FieldRefractionK, ins.FieldEarthRadiusM = &c.K, &c.Radius
 		}

@@ -170,6 +170,9 @@ type InstrumentSettings struct {
 	FieldRefractionK         *float64 `json:"field_refraction_k,omitempty"`
 	FieldEarthRadiusM        *float64 `json:"field_earth_radius_m,omitempty"`
 	Spec                     string   `json:"spec"` // e.g. "1 mm + 1.5 ppm, RSS, 1σ"
+	// SerialNumber is the profile's serial_number, by which a LandXML
+	// file's InstrumentDetails pick it; "" where it gives none.
+	SerialNumber string `json:"serial_number,omitempty"`
 }
 
 // FieldCurvatureText is the profile's field curvature and refraction in
