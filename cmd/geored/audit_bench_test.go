@@ -1,11 +1,13 @@
 package main
 
 import (
+	"encoding/csv"
 	"fmt"
 	"io"
 	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 
@@ -97,4 +99,20 @@ func BenchmarkAudit10000Vectors(b *testing.B) {
 		b.Fatal(err)
 	}
 	b.ReportMetric(float64(st.Size()), "loops.csv-bytes")
+	f, err := os.Open(filepath.Join(dir, "out", "loops.csv"))
+	if err != nil {
+		b.Fatal(err)
+	}
+	defer f.Close()
+	rows, err := csv.NewReader(f).ReadAll()
+	if err != nil || len(rows) < 2 {
+		b.Fatalf("loops.csv: %d rows, %v", len(rows), err)
+	}
+	marks := slices.Index(rows[0], "marks")
+	steps := 0
+	for _, r := range rows[1:] {
+		steps += strings.Count(r[marks], "→")
+	}
+	b.ReportMetric(float64(len(rows)-1), "loops")
+	b.ReportMetric(float64(steps)/float64(len(rows)-1), "vectors/loop")
 }
