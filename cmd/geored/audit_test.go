@@ -77,11 +77,7 @@ ppm = 2
 `
 	require.NoError(t, os.WriteFile(filepath.Join(dir, "job.toml"), []byte(cfg), 0o644))
 
-	crs, err := geodesic.OpenCRS("EPSG:25832")
-	require.NoError(t, err)
-	p, err := crs.NewProjector()
-	require.NoError(t, err)
-	t.Cleanup(p.Close)
+	crs, p := utm32Projector(t)
 	g, err := geodesic.NewGeodesic(crs.Ellipsoid())
 	require.NoError(t, err)
 	ctl := map[string]job.Control{}

@@ -60,11 +60,7 @@ func eulerRadiusAt(e geodesic.Ellipsoid, lat, az s1.Angle, h float64) float64 {
 // by the round trip (reduce's tests) and the end-to-end test below.
 func TestFieldCurvatureFormulasAgainstConstruction(t *testing.T) {
 	lines := readHorizontalLines(t)
-	crs, err := geodesic.OpenCRS("EPSG:25832")
-	require.NoError(t, err)
-	p, err := crs.NewProjector()
-	require.NoError(t, err)
-	defer p.Close()
+	crs, p := utm32Projector(t)
 	e := crs.Ellipsoid()
 	ep2 := e.EccentricitySquared() / (1 - e.EccentricitySquared()) // e'²
 	var worstV, worstH, slackV, slackH, worstRest float64
@@ -116,11 +112,7 @@ func TestFieldCurvatureFormulasAgainstConstruction(t *testing.T) {
 // LandXML reduce to the same rows.
 func TestFieldCurvatureAgainstGeodSolve(t *testing.T) {
 	lines := readHorizontalLines(t)
-	crs, err := geodesic.OpenCRS("EPSG:25832")
-	require.NoError(t, err)
-	p, err := crs.NewProjector()
-	require.NoError(t, err)
-	defer p.Close()
+	_, p := utm32Projector(t)
 	sights := horizontalSights(t, p, lines)
 	var pts strings.Builder
 	pts.WriteString("id,lat,lon,ellipsoid_height\n")

@@ -50,6 +50,18 @@ spec_mm = 1
 spec_ppm = 1
 `
 
+// utm32Projector opens the demo job's CRS, ETRS89 / UTM zone 32N, and a
+// projector on it, closed when the test ends.
+func utm32Projector(t *testing.T) (*geodesic.CRS, *geodesic.Projector) {
+	t.Helper()
+	crs, err := geodesic.OpenCRS("EPSG:25832")
+	require.NoError(t, err)
+	p, err := crs.NewProjector()
+	require.NoError(t, err)
+	t.Cleanup(p.Close)
+	return crs, p
+}
+
 // hdLine is one line of ../../testdata/reduce/horizontal_geodsolve.txt.
 type hdLine struct {
 	a, b s2.LatLng
@@ -130,11 +142,7 @@ func horizontalSights(t *testing.T, p *geodesic.Projector, lines []hdLine) []hdS
 // distance, to reduced.csv's 0.01 mm.
 func TestHorizontalDistanceAgainstGeodSolve(t *testing.T) {
 	lines := readHorizontalLines(t)
-	crs, err := geodesic.OpenCRS("EPSG:25832")
-	require.NoError(t, err)
-	p, err := crs.NewProjector()
-	require.NoError(t, err)
-	defer p.Close()
+	_, p := utm32Projector(t)
 
 	var pts, obs, xml strings.Builder
 	xml.WriteString(`<?xml version="1.0"?>
